@@ -1,0 +1,37 @@
+# Set-up and everyday commands. Everything installs into a local virtual environment.
+PYTHON ?= python3
+VENV ?= .venv
+BIN := $(VENV)/bin
+DEMO_OUT ?= out/demo
+
+.PHONY: demo test lint bench install clean
+
+$(BIN)/activate:
+	@$(PYTHON) -c "import sys; sys.exit(0 if sys.version_info >= (3, 11) else 'riskreport needs Python >= 3.11')"
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+
+$(VENV)/.installed: pyproject.toml | $(BIN)/activate
+	$(BIN)/python -m pip install --quiet -e '.[dev]'
+	$(BIN)/python -m riskreport._system
+	@touch $@
+
+install: $(VENV)/.installed
+
+# The main job on the bundled, invented demo scenario. --force: the demo folder is the tool's own.
+demo: install
+	$(BIN)/riskreport demo --out $(DEMO_OUT) --force
+
+lint: install
+	$(BIN)/ruff check riskreport tests bench example_inputs report_templates
+	$(BIN)/ruff format --check riskreport tests bench example_inputs report_templates
+	$(BIN)/mypy
+
+test: lint
+	$(BIN)/python -m pytest -q
+
+bench: install
+	$(BIN)/python bench/run.py
+
+clean:
+	rm -rf $(VENV) out .pytest_cache .mypy_cache .ruff_cache *.egg-info

@@ -1,0 +1,429 @@
+"""The TOML configuration of a brief, read with tomllib into frozen dataclasses.
+
+Every key is checked at the boundary: a wrong type, a value out of range or an unknown key
+raises :class:`~riskreport.errors.InputError` naming the file and the key.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any, TypeVar, cast
+
+from riskreport import periods
+from riskreport._typing import (
+    BASES,
+    CENTRES,
+    COMBINATION_METHODS,
+    DISTRIBUTION_CHOICES,
+    FREQUENCIES,
+    OUTPUT_FORMATS,
+    Basis,
+    Centre,
+    CombinationMethod,
+    DistributionChoice,
+    Frequency,
+    OutputFormat,
+)
+from riskreport.errors import InputError
+
+# Families that this version can fit; the others are accepted by the contract but refused
+# with a clear message until they are built.
+AVAILABLE_DISTRIBUTIONS: tuple[DistributionChoice, ...] = ("normal",)
+AVAILABLE_COMBINATIONS: tuple[CombinationMethod, ...] = ("equal", "given")
+AVAILABLE_BASES: tuple[Basis, ...] = ("period",)
+VERBAL_SCALES = ("ipcc-ar5",)
+
+T = TypeVar("T")
+
+
+@dataclass(frozen=True)
+class Band:
+    """A target band; edges are inclusive (inside means lower <= x <= upper)."""
+
+    lower: float
+    upper: float
+    midpoint: float | None = None
+    tolerance: float | None = None
+
+
+@dataclass(frozen=True)
+class BandChange:
+    """A scheduled band, in force from ``start`` (a period ordinal) on."""
+
+    start: int
+    band: Band
+
+
+@dataclass(frozen=True)
+class Judgement:
+    """One judgement overlay entry, applied to periods ``start..end`` (ordinals, inclusive).
+
+    ``shift`` is added to the centre (pp), ``scale`` multiplies the spread, and ``skew`` adds
+    this many percentage points to the mean minus the mode (> 0 tilts risk upwards).
+    """
+
+    start: int
+    end: int
+    shift: float
+    scale: float
+    skew: float
+    reason: str
+
+
+@dataclass(frozen=True)
+class Config:
+    """A validated configuration. Paths are absolute."""
+
+    path: Path
+    title: str
+    institution: str
+    as_of: int
+    frequency: Frequency
+    horizons: int
+    policy_horizon: int
+    verbal_scale: str
+    forecasts: Path
+    actuals: Path
+    error_quantiles: Path | None
+    band: Band
+    basis: Basis
+    schedule: tuple[BandChange, ...]
+    combination: CombinationMethod
+    distribution: DistributionChoice
+    window: int
+    centre: Centre
+    monotone: bool
+    bootstrap_replicates: int
+    simulations: int
+    seed: int
+    judgements: tuple[Judgement, ...]
+    output_directory: Path
+    formats: tuple[OutputFormat, ...]
+
+    def band_for(self, ordinal: int) -> Band:
+        """The band in force in a period (the latest schedule entry that has started)."""
+        band = self.band
+        for change in self.schedule:
+            if change.start <= ordinal:
+                band = change.band
+        return band
+
+    def with_as_of(self, text: str) -> Config:
+        """The same configuration with another current origin (``--as-of``)."""
+        parsed = periods.parse(text)
+        if parsed is None or parsed.frequency != self.frequency:
+            raise InputError(
+                f"--as-of expected a {self.frequency} period like "
+                f"{periods.EXAMPLE[self.frequency]}, got {text!r}"
+            )
+        return replace(self, as_of=parsed.ordinal)
+
+
+_KNOWN_KEYS: dict[str, set[str]] = {
+    "brief": {
+        "title",
+        "institution",
+        "as_of",
+        "frequency",
+        "horizons",
+        "policy_horizon",
+        "verbal_scale",
+    },
+    "inputs": {"forecasts", "actuals", "error_quantiles"},
+    "target": {"midpoint", "tolerance", "lower", "upper", "basis", "schedule"},
+    "combination": {"method"},
+    "uncertainty": {
+        "distribution",
+        "window",
+        "centre",
+        "monotone",
+        "bootstrap_replicates",
+        "simulations",
+        "seed",
+    },
+    "judgement": {"from", "to", "shift", "scale", "skew", "reason"},
+    "output": {"directory", "formats"},
+    "schedule": {"from", "midpoint", "tolerance", "lower", "upper"},
+}
+
+
+class _Reader:
+    """Typed look-ups in one TOML table, with errors that name the file and key."""
+
+    def __init__(
+        self, path: Path, kind: str, table: dict[str, Any], label: str | None = None
+    ) -> None:
+        self.path = path
+        self.section = label or kind
+        self.table = table
+        unknown = sorted(set(table) - _KNOWN_KEYS[kind])
+        if unknown:
+            allowed = ", ".join(sorted(_KNOWN_KEYS[kind]))
+            raise self.error(unknown[0], f"unknown key; expected one of {allowed}")
+
+    def error(self, key: str, message: str) -> InputError:
+        return InputError(message, file=self.path, column=f"[{self.section}] {key}")
+
+    def _get(self, key: str, kind: type[T] | tuple[type, ...], what: str, default: Any) -> Any:
+        if key not in self.table:
+            if default is _REQUIRED:
+                raise self.error(key, f"missing; expected {what}")
+            return default
+        value = self.table[key]
+        if isinstance(value, bool) and kind is not bool:
+            raise self.error(key, f"expected {what}, got {value!r}")
+        if not isinstance(value, kind):
+            raise self.error(key, f"expected {what}, got {value!r}")
+        return value
+
+    def text(self, key: str, default: Any = None) -> str:
+        value = cast(str, self._get(key, str, "text", _REQUIRED if default is None else default))
+        if not value.strip():
+            raise self.error(key, "expected non-empty text")
+        return value
+
+    def number(self, key: str, default: Any = None) -> float | None:
+        value = self._get(key, (int, float), "a number", default)
+        if value is None:
+            return None
+        if not math.isfinite(value):
+            raise self.error(key, f"expected a finite number, got {value!r}")
+        return float(value)
+
+    def integer(self, key: str, default: Any, minimum: int) -> int:
+        value = cast(int, self._get(key, int, "a whole number", default))
+        if value < minimum:
+            raise self.error(key, f"expected a whole number >= {minimum}, got {value}")
+        return value
+
+    def flag(self, key: str, default: bool) -> bool:
+        return cast(bool, self._get(key, bool, "true or false", default))
+
+    def choice(self, key: str, options: tuple[str, ...], default: str) -> str:
+        value = cast(str, self._get(key, str, f"one of {', '.join(options)}", default))
+        if value not in options:
+            raise self.error(key, f"expected one of {', '.join(options)}, got {value!r}")
+        return value
+
+    def period(self, key: str, frequency: Frequency) -> int:
+        value = cast(str, self._get(key, str, "a period", _REQUIRED))
+        parsed = periods.parse(value)
+        if parsed is None or parsed.frequency != frequency:
+            raise self.error(
+                key,
+                f"expected a {frequency} period like {periods.EXAMPLE[frequency]}, got {value!r}",
+            )
+        return parsed.ordinal
+
+    def path_of(self, key: str, base: Path, required: bool) -> Path | None:
+        value = self._get(key, str, "a file path", _REQUIRED if required else None)
+        if value is None:
+            return None
+        resolved = (base / value).resolve()
+        if not resolved.is_file():
+            raise self.error(key, f"file not found: {value}")
+        return resolved
+
+
+_REQUIRED = object()
+
+
+def _table(path: Path, data: dict[str, Any], name: str, required: bool = True) -> dict[str, Any]:
+    value = data.get(name)
+    if value is None:
+        if required:
+            raise InputError(f"missing table [{name}]", file=path)
+        return {}
+    if not isinstance(value, dict):
+        raise InputError(f"[{name}] must be a table", file=path)
+    return value
+
+
+def _band(reader: _Reader) -> Band:
+    has_mid = "midpoint" in reader.table or "tolerance" in reader.table
+    has_edges = "lower" in reader.table or "upper" in reader.table
+    if has_mid and has_edges:
+        raise reader.error("lower", "give either midpoint and tolerance, or lower and upper")
+    if has_edges:
+        lower = cast(float, reader.number("lower", _REQUIRED))
+        upper = cast(float, reader.number("upper", _REQUIRED))
+        if lower >= upper:
+            raise reader.error(
+                "lower", f"expected lower < upper, got lower = {lower:g}, upper = {upper:g}"
+            )
+        return Band(lower, upper)
+    midpoint = cast(float, reader.number("midpoint", _REQUIRED))
+    tolerance = cast(float, reader.number("tolerance", _REQUIRED))
+    if tolerance <= 0:
+        raise reader.error(
+            "tolerance", f"expected a positive number (band lower < upper), got {tolerance:g}"
+        )
+    return Band(midpoint - tolerance, midpoint + tolerance, midpoint, tolerance)
+
+
+def _error_quantiles(reader: _Reader, base: Path) -> Path | None:
+    path = reader.path_of("error_quantiles", base, required=False)
+    if path is not None:
+        raise reader.error(
+            "error_quantiles",
+            "a given error distribution is not available in this version; remove the key to "
+            "learn the distribution from the track record",
+        )
+    return path
+
+
+def _basis(reader: _Reader) -> Basis:
+    basis = cast(Basis, reader.choice("basis", BASES, "period"))
+    if basis not in AVAILABLE_BASES:
+        raise reader.error(
+            "basis",
+            f"{basis!r} is not available in this version; use one of {', '.join(AVAILABLE_BASES)}",
+        )
+    return basis
+
+
+def _schedule(path: Path, raw: Any, frequency: Frequency) -> tuple[BandChange, ...]:
+    if raw is None:
+        return ()
+    if not isinstance(raw, list):
+        raise InputError("expected a list of tables", file=path, column="[target] schedule")
+    changes = []
+    for i, entry in enumerate(raw, start=1):
+        if not isinstance(entry, dict):
+            raise InputError("expected a table", file=path, column=f"[target] schedule {i}")
+        reader = _Reader(path, "schedule", entry, label=f"target schedule {i}")
+        changes.append(BandChange(reader.period("from", frequency), _band(reader)))
+    return tuple(sorted(changes, key=lambda change: change.start))
+
+
+def _judgements(path: Path, raw: Any, frequency: Frequency) -> tuple[Judgement, ...]:
+    if raw is None:
+        return ()
+    if not isinstance(raw, list):
+        raise InputError("expected [[judgement]] tables", file=path, column="[judgement]")
+    entries = []
+    for i, table in enumerate(raw, start=1):
+        if not isinstance(table, dict):
+            raise InputError("expected a table", file=path, column=f"[judgement {i}]")
+        reader = _Reader(path, "judgement", table, label=f"judgement {i}")
+        start = reader.period("from", frequency)
+        end = reader.period("to", frequency)
+        if end < start:
+            raise reader.error("to", "expected a period on or after 'from'")
+        scale = cast(float, reader.number("scale", 1.0))
+        if scale <= 0:
+            raise reader.error("scale", f"expected a positive number, got {scale:g}")
+        entries.append(
+            Judgement(
+                start=start,
+                end=end,
+                shift=cast(float, reader.number("shift", 0.0)),
+                scale=scale,
+                skew=cast(float, reader.number("skew", 0.0)),
+                reason=reader.text("reason"),
+            )
+        )
+    return tuple(entries)
+
+
+def load(path: str | Path) -> Config:
+    """Read and validate a configuration file.
+
+    Parameters
+    ----------
+    path
+        The TOML file; input paths in it are relative to its folder.
+
+    Returns
+    -------
+    Config
+        The validated configuration.
+
+    Raises
+    ------
+    InputError
+        On a missing file, invalid TOML, or any key of the wrong type or out of range.
+    """
+    path = Path(path).resolve()
+    if not path.is_file():
+        raise InputError("config file not found", file=path)
+    try:
+        with path.open("rb") as handle:
+            data = tomllib.load(handle)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"invalid TOML: {exc}", file=path) from None
+    except UnicodeDecodeError:
+        raise InputError("expected a UTF-8 text file", file=path) from None
+    unknown = sorted(set(data) - set(_KNOWN_KEYS))
+    if unknown:
+        raise InputError(
+            f"unknown table [{unknown[0]}]; expected {', '.join(sorted(_KNOWN_KEYS))}", file=path
+        )
+    base = path.parent
+
+    brief = _Reader(path, "brief", _table(path, data, "brief"))
+    frequency = cast(Frequency, brief.choice("frequency", FREQUENCIES, "monthly"))
+    per_year = periods.PERIODS_PER_YEAR[frequency]
+    horizons = brief.integer("horizons", 2 * per_year, minimum=1)
+    policy_horizon = brief.integer("policy_horizon", min(horizons, per_year * 3 // 2), minimum=0)
+    if policy_horizon > horizons:
+        raise brief.error("policy_horizon", f"expected at most horizons = {horizons}")
+
+    inputs = _Reader(path, "inputs", _table(path, data, "inputs"))
+    target = _Reader(path, "target", _table(path, data, "target"))
+    combination = _Reader(path, "combination", _table(path, data, "combination", False))
+    uncertainty = _Reader(path, "uncertainty", _table(path, data, "uncertainty", False))
+    output = _Reader(path, "output", _table(path, data, "output", False))
+
+    method = cast(CombinationMethod, combination.choice("method", COMBINATION_METHODS, "equal"))
+    if method not in AVAILABLE_COMBINATIONS:
+        raise combination.error(
+            "method",
+            f"{method!r} is not available in this version; use one of "
+            f"{', '.join(AVAILABLE_COMBINATIONS)}",
+        )
+    distribution = cast(
+        DistributionChoice, uncertainty.choice("distribution", DISTRIBUTION_CHOICES, "normal")
+    )
+    if distribution not in AVAILABLE_DISTRIBUTIONS:
+        raise uncertainty.error(
+            "distribution",
+            f"{distribution!r} is not available in this version; use one of "
+            f"{', '.join(AVAILABLE_DISTRIBUTIONS)}",
+        )
+    formats_raw = output._get("formats", list, "a list of formats", list(OUTPUT_FORMATS))
+    for item in formats_raw:
+        if item not in OUTPUT_FORMATS:
+            raise output.error("formats", f"expected items from {', '.join(OUTPUT_FORMATS)}, got {item!r}")
+    directory = output._get("directory", str, "a folder path", "out")
+
+    return Config(
+        path=path,
+        title=brief.text("title"),
+        institution=brief.text("institution"),
+        as_of=brief.period("as_of", frequency),
+        frequency=frequency,
+        horizons=horizons,
+        policy_horizon=policy_horizon,
+        verbal_scale=brief.choice("verbal_scale", VERBAL_SCALES, "ipcc-ar5"),
+        forecasts=cast(Path, inputs.path_of("forecasts", base, required=True)),
+        actuals=cast(Path, inputs.path_of("actuals", base, required=True)),
+        error_quantiles=_error_quantiles(inputs, base),
+        band=_band(target),
+        basis=_basis(target),
+        schedule=_schedule(path, target.table.get("schedule"), frequency),
+        combination=method,
+        distribution=distribution,
+        window=uncertainty.integer("window", 120, minimum=0),
+        centre=cast(Centre, uncertainty.choice("centre", CENTRES, "estimated")),
+        monotone=uncertainty.flag("monotone", True),
+        bootstrap_replicates=uncertainty.integer("bootstrap_replicates", 500, minimum=50),
+        simulations=uncertainty.integer("simulations", 20000, minimum=1000),
+        seed=uncertainty.integer("seed", 20240101, minimum=0),
+        judgements=_judgements(path, data.get("judgement"), frequency),
+        output_directory=(base / directory).resolve(),
+        formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
+    )

@@ -1,0 +1,74 @@
+"""Errors and warnings of riskreport.
+
+Bad input raises :class:`InputError`; the command line turns it into one line on stderr and
+exit code 2. Statistical caveats are warning classes, collected into the assessment's
+``warnings`` and shown in the brief.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+
+class InputError(ValueError):
+    """Bad input or configuration: says which file, row and column, and what was expected.
+
+    Parameters
+    ----------
+    message
+        What was expected and what was found.
+    file
+        The file at fault (shown by name only).
+    row
+        1-based row as a spreadsheet shows it (the header is row 1), or None.
+    column
+        Column name, or a config key such as ``[target] tolerance``, or None.
+    """
+
+    def __init__(
+        self,
+        message: str,
+        *,
+        file: str | Path | None = None,
+        row: int | None = None,
+        column: str | None = None,
+    ) -> None:
+        self.message = message
+        self.file = Path(file).name if file is not None else None
+        self.row = row
+        self.column = column
+        super().__init__(self.one_line())
+
+    def one_line(self) -> str:
+        """The error as one line: ``file, row N, column 'c': message``."""
+        where: list[str] = []
+        if self.file is not None:
+            where.append(self.file)
+        if self.row is not None:
+            where.append(f"row {self.row}")
+        if self.column is not None:
+            where.append(
+                f"column '{self.column}'" if not self.column.startswith("[") else self.column
+            )
+        text = " ".join(self.message.split())
+        return f"{', '.join(where)}: {text}" if where else text
+
+
+class OverwriteRefused(InputError):
+    """An output for this as_of exists and differs; ``--force`` is needed to replace it."""
+
+
+class RiskReportWarning(UserWarning):
+    """Base class of the caveats collected into an assessment."""
+
+
+class SmallSampleWarning(RiskReportWarning):
+    """A horizon has few past errors, so its probabilities (tails above all) are uncertain."""
+
+
+class CombinationFallbackWarning(RiskReportWarning):
+    """A combination method fell back to equal weights."""
+
+
+class ModelLeftOutWarning(RiskReportWarning):
+    """A model has no row in the current round and is left out of the combination."""

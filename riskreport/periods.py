@@ -1,0 +1,105 @@
+"""Periods written ``YYYY-MM`` (monthly) or ``YYYY-Qn`` (quarterly), as pandas Periods.
+
+Internally a period is its pandas ordinal (an integer), so horizons are differences of
+integers and whole arrays of periods are handled at once.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import pandas as pd
+
+from riskreport._typing import Frequency
+
+_MONTHLY = re.compile(r"^(\d{4})-(0[1-9]|1[0-2])$")
+_QUARTERLY = re.compile(r"^(\d{4})-[Qq]([1-4])$")
+_PANDAS_FREQ: dict[Frequency, str] = {"monthly": "M", "quarterly": "Q"}
+PERIODS_PER_YEAR: dict[Frequency, int] = {"monthly": 12, "quarterly": 4}
+EXAMPLE: dict[Frequency, str] = {"monthly": "2026-11", "quarterly": "2026-Q4"}
+
+
+@dataclass(frozen=True)
+class ParsedPeriod:
+    """A period read from text: its frequency and pandas ordinal."""
+
+    frequency: Frequency
+    ordinal: int
+
+
+def frequency_of(text: str) -> Frequency | None:
+    """The frequency a period string is written in, or None if it is neither form."""
+    if _MONTHLY.match(text):
+        return "monthly"
+    if _QUARTERLY.match(text):
+        return "quarterly"
+    return None
+
+
+def parse(text: str) -> ParsedPeriod | None:
+    """Parse ``YYYY-MM`` or ``YYYY-Qn``; None when the text is neither.
+
+    Examples
+    --------
+    >>> parse("2026-11").frequency
+    'monthly'
+    >>> label(parse("2026-Q3").ordinal, "quarterly")
+    '2026-Q3'
+    """
+    text = text.strip()
+    if m := _MONTHLY.match(text):
+        period = pd.Period(year=int(m[1]), month=int(m[2]), freq="M")
+        return ParsedPeriod("monthly", int(period.ordinal))
+    if m := _QUARTERLY.match(text):
+        period = pd.Period(year=int(m[1]), quarter=int(m[2]), freq="Q")
+        return ParsedPeriod("quarterly", int(period.ordinal))
+    return None
+
+
+def to_period(ordinal: int, frequency: Frequency) -> pd.Period:
+    """The pandas Period of an ordinal."""
+    return pd.Period(ordinal=ordinal, freq=_PANDAS_FREQ[frequency])
+
+
+def label(ordinal: int, frequency: Frequency) -> str:
+    """The period as written in inputs and outputs (``2026-11`` or ``2026-Q4``)."""
+    period = to_period(ordinal, frequency)
+    if frequency == "monthly":
+        return f"{period.year:04d}-{period.month:02d}"
+    return f"{period.year:04d}-Q{period.quarter}"
+
+
+def year_of(ordinal: int, frequency: Frequency) -> int:
+    """Calendar year of a period."""
+    return int(to_period(ordinal, frequency).year)
+
+
+def position_in_year(ordinal: int, frequency: Frequency) -> int:
+    """1-based month or quarter within its year."""
+    period = to_period(ordinal, frequency)
+    return int(period.month if frequency == "monthly" else period.quarter)
+
+
+_ANY = re.compile(r"^\s*(\d{4})-(?:(0[1-9]|1[0-2])|[Qq]([1-4]))\s*$")
+
+
+def parse_column(texts: pd.Series) -> tuple[pd.Series, pd.Series]:
+    """Parse a column of period strings at once.
+
+    Returns
+    -------
+    frequency, ordinal
+        Per row: ``"monthly"``, ``"quarterly"`` or missing (unparseable), and the pandas
+        ordinal (missing where unparseable).
+    """
+    parts = texts.astype(str).str.extract(_ANY)
+    year = pd.to_numeric(parts[0])
+    month = pd.to_numeric(parts[1])
+    quarter = pd.to_numeric(parts[2])
+    frequency = pd.Series(pd.NA, index=texts.index, dtype="object")
+    frequency.loc[month.notna()] = "monthly"
+    frequency.loc[quarter.notna()] = "quarterly"
+    # pandas ordinals count periods from 1970-01 (monthly) or 1970-Q1 (quarterly).
+    ordinal = ((year - 1970) * 12 + month - 1).where(month.notna(), (year - 1970) * 4 + quarter - 1)
+    return frequency, ordinal
