@@ -1,0 +1,144 @@
+"""The assessment: every number of a brief in one typed, frozen object.
+
+:meth:`Assessment.to_json` gives the contract's JSON; it holds no wall-clock time, so the
+same inputs give byte-identical JSON.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import math
+from dataclasses import dataclass
+from typing import Any
+
+from riskreport.overlay import AppliedJudgement
+from riskreport.track_record import AccuracyRow
+
+
+@dataclass(frozen=True)
+class HorizonResult:
+    """Probabilities and quantiles for one reported period."""
+
+    period: str
+    h: int
+    band: tuple[float, float]
+    centre: float
+    point_forecast: float
+    p_below: float
+    p_inside: float
+    p_above: float
+    p_inside_interval: tuple[float, float]
+    quantiles: dict[str, float]
+    distribution: str
+    n_errors: int
+    spread: float
+
+
+@dataclass(frozen=True)
+class PathResult:
+    """Joint probabilities from the first reported period up to this one."""
+
+    period: str
+    h: int
+    p_inside_throughout: float
+    p_back_inside_by: float
+
+
+@dataclass(frozen=True)
+class WeightRow:
+    """One model's weight at one horizon in the current round."""
+
+    h: int
+    model: str
+    weight: float
+
+
+@dataclass(frozen=True)
+class ModelStatus:
+    """A model of the forecasts file: its history and whether it is in the current round."""
+
+    model: str
+    first_origin: str
+    last_origin: str
+    in_current_round: bool
+
+
+@dataclass(frozen=True)
+class InputRecord:
+    """An input file: name (relative to the config), SHA-256, rows, and period range."""
+
+    role: str
+    path: str
+    sha256: str
+    rows: int | None
+    first_period: str | None
+    last_period: str | None
+
+
+@dataclass(frozen=True)
+class Observation:
+    """One outcome of the history shown in the outlook chart."""
+
+    period: str
+    value: float
+
+
+@dataclass(frozen=True)
+class Assessment:
+    """All numbers of one brief. Build it with :func:`riskreport.assess`."""
+
+    as_of: str
+    frequency: str
+    title: str
+    institution: str
+    target: dict[str, Any]
+    policy_horizon: int
+    horizons: tuple[HorizonResult, ...]
+    model_based_horizons: tuple[HorizonResult, ...]
+    judgement: tuple[AppliedJudgement, ...]
+    path: tuple[PathResult, ...]
+    annual: tuple[dict[str, Any], ...]
+    combination: dict[str, Any]
+    models: tuple[ModelStatus, ...]
+    accuracy: tuple[AccuracyRow, ...]
+    uncertainty: dict[str, Any]
+    history: tuple[Observation, ...]
+    change: dict[str, Any] | None
+    inputs: tuple[InputRecord, ...]
+    software: dict[str, str]
+    warnings: tuple[str, ...]
+
+    def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
+        """The result at horizon ``h`` (after the overlay unless ``model_based``)."""
+        rows = self.model_based_horizons if model_based else self.horizons
+        for row in rows:
+            if row.h == h:
+                return row
+        raise KeyError(f"h: no reported horizon {h}")
+
+    @property
+    def policy(self) -> HorizonResult:
+        """The final result at the policy horizon."""
+        return self.horizon_result(self.policy_horizon)
+
+    def to_dict(self) -> dict[str, Any]:
+        """The contract's JSON structure, as plain Python values."""
+        return _clean(dataclasses.asdict(self))
+
+    def to_json(self) -> str:
+        """The assessment as JSON text (UTF-8, sorted nowhere, stable for identical inputs)."""
+        return json.dumps(self.to_dict(), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def _clean(value: Any) -> Any:
+    """Tuples to lists and floats rounded to 12 significant digits (stable across BLAS)."""
+    if isinstance(value, dict):
+        return {str(k): _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    if isinstance(value, float):
+        if not math.isfinite(value):
+            return None
+        return float(f"{value:.12g}")
+    return value

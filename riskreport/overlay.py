@@ -1,0 +1,109 @@
+"""The judgement overlay: explicit, labelled shifts, spread scalings and skews.
+
+Each ``[[judgement]]`` entry maps the model-based distribution of every period from
+``from`` to ``to`` by a monotone map of the outcome (see
+:class:`~riskreport.distributions.Adjusted`):
+
+* ``shift`` (pp) moves the mode, so the whole distribution moves by that amount;
+* ``scale`` multiplies every distance from the mode (the spread);
+* ``skew`` (pp) adds that much to the mean minus the mode: the side above the mode is
+  stretched by (1 + k) and the side below by (1 - k), with k = skew / (scale * E|X - mode|).
+  A positive skew tilts the risks upwards.
+
+Overlapping entries compose in the order written: the second acts on the result of the first.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from riskreport import periods
+from riskreport._typing import Frequency
+from riskreport.config import Judgement
+from riskreport.distributions import Adjusted, Distribution, mean_absolute_deviation_from_mode
+from riskreport.errors import InputError
+
+
+@dataclass(frozen=True)
+class AppliedJudgement:
+    """One overlay entry as applied: its terms, reason and the reported periods it moved."""
+
+    start: str
+    end: str
+    shift: float
+    scale: float
+    skew: float
+    reason: str
+    periods: tuple[str, ...]
+
+
+def apply_one(dist: Distribution, judgement: Judgement) -> Adjusted:
+    """Apply one overlay entry to one period's distribution.
+
+    Raises
+    ------
+    ValueError
+        When the skew is too large for the spread (|k| >= 1 would fold the distribution).
+    """
+    stretch = 0.0
+    if judgement.skew != 0.0:
+        stretch = judgement.skew / (judgement.scale * mean_absolute_deviation_from_mode(dist))
+        if abs(stretch) >= 0.95:
+            limit = 0.95 * judgement.scale * mean_absolute_deviation_from_mode(dist)
+            raise ValueError(f"expected |skew| below {limit:.2f} pp for this period's spread")
+    return Adjusted(dist, shift=judgement.shift, scale=judgement.scale, stretch=stretch)
+
+
+def apply(
+    dists: list[Distribution],
+    ordinals: list[int],
+    judgements: tuple[Judgement, ...],
+    *,
+    frequency: Frequency,
+    config_file: str,
+) -> tuple[list[Distribution], list[AppliedJudgement]]:
+    """Apply every overlay entry to the reported periods it covers.
+
+    Returns
+    -------
+    adjusted, applied
+        The distributions after the overlay, and each entry as applied.
+
+    Raises
+    ------
+    InputError
+        An entry covers no reported period, or its skew is too large for the spread.
+    """
+    adjusted = list(dists)
+    applied: list[AppliedJudgement] = []
+    for number, judgement in enumerate(judgements, start=1):
+        covered = [i for i, o in enumerate(ordinals) if judgement.start <= o <= judgement.end]
+        if not covered:
+            raise InputError(
+                f"covers no reported period (the brief reports "
+                f"{periods.label(ordinals[0], frequency)} to "
+                f"{periods.label(ordinals[-1], frequency)})",
+                file=config_file,
+                column=f"[judgement {number}] from",
+            )
+        for i in covered:
+            try:
+                adjusted[i] = apply_one(adjusted[i], judgement)
+            except ValueError as exc:
+                raise InputError(
+                    f"{exc} (period {periods.label(ordinals[i], frequency)})",
+                    file=config_file,
+                    column=f"[judgement {number}] skew",
+                ) from None
+        applied.append(
+            AppliedJudgement(
+                start=periods.label(judgement.start, frequency),
+                end=periods.label(judgement.end, frequency),
+                shift=judgement.shift,
+                scale=judgement.scale,
+                skew=judgement.skew,
+                reason=judgement.reason,
+                periods=tuple(periods.label(ordinals[i], frequency) for i in covered),
+            )
+        )
+    return adjusted, applied

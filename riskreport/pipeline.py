@@ -1,0 +1,379 @@
+"""From a configuration to an :class:`~riskreport.assessment.Assessment` (no files written).
+
+validate -> combine -> errors -> distributions -> judgement overlay -> probabilities
+(per horizon, path) -> accuracy -> assessment.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import platform
+import warnings
+from dataclasses import dataclass
+from importlib import metadata
+from pathlib import Path
+
+import numpy as np
+
+from riskreport import combination as combination_module
+from riskreport import config as config_module
+from riskreport import distributions, overlay, panel as panel_module, periods, probabilities
+from riskreport.assessment import (
+    Assessment,
+    HorizonResult,
+    InputRecord,
+    ModelStatus,
+    Observation,
+    PathResult,
+    WeightRow,
+)
+from riskreport.config import Config
+from riskreport.errors import (
+    InputError,
+    ModelLeftOutWarning,
+    RiskReportWarning,
+    SmallSampleWarning,
+)
+from riskreport.inputs import Actuals, Forecasts, read_actuals, read_forecasts
+from riskreport.track_record import accuracy_rows, error_matrix, window_mask
+
+SMALL_SAMPLE = 30  # fewer errors than this at a horizon earns a warning (common practice, no source)
+HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
+
+
+@dataclass(frozen=True)
+class _Margins:
+    """Per reported horizon: the error sample and the outcome distributions."""
+
+    samples: list[np.ndarray]
+    model_based: list[distributions.Distribution]
+    point: np.ndarray
+
+
+def _sha256(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def _software() -> dict[str, str]:
+    names = ["riskreport", "numpy", "scipy", "pandas", "statsmodels", "matplotlib", "jinja2", "weasyprint"]
+    versions = {"python": platform.python_version()}
+    for name in names:
+        try:
+            versions[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            versions[name] = "not installed"
+    return versions
+
+
+def _input_records(cfg: Config, fc: Forecasts, act: Actuals) -> tuple[InputRecord, ...]:
+    def rel(path: Path) -> str:
+        try:
+            return path.relative_to(cfg.path.parent).as_posix()
+        except ValueError:
+            return path.name
+
+    f = cfg.frequency
+    return (
+        InputRecord("config", rel(cfg.path), _sha256(cfg.path), None, None, None),
+        InputRecord(
+            "forecasts",
+            rel(fc.file),
+            _sha256(fc.file),
+            int(fc.value.size),
+            periods.label(int(fc.origin.min()), f),
+            periods.label(int(fc.period.max()), f),
+        ),
+        InputRecord(
+            "actuals",
+            rel(act.file),
+            _sha256(act.file),
+            int(act.value.size),
+            periods.label(int(act.period.min()), f),
+            periods.label(int(act.period.max()), f),
+        ),
+    )
+
+
+def _model_status(fc: Forecasts, cfg: Config) -> tuple[ModelStatus, ...]:
+    rows = []
+    for i, name in enumerate(fc.models):
+        origins = fc.origin[(fc.model == i) & (fc.origin <= cfg.as_of)]
+        if origins.size == 0:
+            continue
+        rows.append(
+            ModelStatus(
+                model=name,
+                first_origin=periods.label(int(origins.min()), cfg.frequency),
+                last_origin=periods.label(int(origins.max()), cfg.frequency),
+                in_current_round=bool(np.any(origins == cfg.as_of)),
+            )
+        )
+    return tuple(rows)
+
+
+def _method(cfg: Config, fc: Forecasts) -> combination_module.CombinationMethod:
+    if len(fc.models) == 1:
+        return "given"
+    if cfg.combination == "given":
+        raise InputError(
+            f"'given' expects a forecasts file with one (already combined) model; "
+            f"{fc.file.name} has {len(fc.models)}: {', '.join(fc.models)}",
+            file=cfg.path,
+            column="[combination] method",
+        )
+    return cfg.combination
+
+
+def _margins(cfg: Config, panel: panel_module.Panel, combined: np.ndarray) -> _Margins:
+    errors = error_matrix(combined, panel.outcomes)
+    mask = window_mask(errors, cfg.window)
+    mode = 0.0 if cfg.centre == "forecast" else None
+    samples: list[np.ndarray] = []
+    fits: list[distributions.Distribution] = []
+    for h in range(cfg.horizons + 1):
+        sample = errors[mask[:, h], h]
+        if sample.size < 2:
+            raise InputError(
+                f"horizon {h} has no track record: {sample.size} past forecast(s) of that "
+                f"horizon with a known outcome by {periods.label(cfg.as_of, cfg.frequency)}, "
+                "and no error_quantiles fallback; expected at least 2",
+                file=cfg.forecasts,
+                column="origin",
+            )
+        if sample.size < SMALL_SAMPLE:
+            warnings.warn(
+                f"Horizon {h} rests on only {sample.size} past errors; its probabilities, "
+                "and its tail probabilities above all, are uncertain.",
+                SmallSampleWarning,
+                stacklevel=2,
+            )
+        samples.append(sample)
+        fits.append(distributions.fit("normal", sample, mode=mode))
+    if cfg.monotone:
+        fits = _monotone(fits)
+    point = combined[-1, : cfg.horizons + 1]
+    if not np.all(np.isfinite(point)):
+        h = int(np.flatnonzero(~np.isfinite(point))[0])
+        raise InputError(
+            f"no model has a current-round forecast for horizon {h}",
+            file=cfg.forecasts,
+            column="period",
+        )
+    outcome = [
+        distributions.Adjusted(fit, shift=float(p)) for fit, p in zip(fits, point, strict=True)
+    ]
+    return _Margins(samples=samples, model_based=outcome, point=point)
+
+
+def _monotone(fits: list[distributions.Distribution]) -> list[distributions.Distribution]:
+    """Widen any horizon whose spread is below a shorter horizon's (the running maximum)."""
+    spreads = np.array([distributions.spread(f) for f in fits])
+    floor = np.maximum.accumulate(spreads)
+    return [
+        f if s >= target else distributions.Adjusted(f, scale=float(target / s))
+        for f, s, target in zip(fits, spreads, floor, strict=True)
+    ]
+
+
+def _horizon_results(
+    cfg: Config,
+    margins: _Margins,
+    dists: list[distributions.Distribution],
+    ordinals: list[int],
+    seed_offset: int,
+) -> tuple[HorizonResult, ...]:
+    mode = 0.0 if cfg.centre == "forecast" else None
+    rows = []
+    for h, (dist, sample, ordinal) in enumerate(zip(dists, margins.samples, ordinals, strict=True)):
+        band = cfg.band_for(ordinal)
+        probs = probabilities.band_probabilities(dist, band.lower, band.upper)
+        rng = np.random.default_rng([cfg.seed, seed_offset, h])
+        interval = probabilities.bootstrap_p_inside(
+            sample,
+            dist,
+            band.lower,
+            band.upper,
+            h=h,
+            mode=mode,
+            replicates=cfg.bootstrap_replicates,
+            rng=rng,
+        )
+        quantiles = dist.ppf(np.array(probabilities.QUANTILE_LEVELS))
+        rows.append(
+            HorizonResult(
+                period=periods.label(ordinal, cfg.frequency),
+                h=h,
+                band=(band.lower, band.upper),
+                centre=float(dist.mode),
+                point_forecast=float(margins.point[h]),
+                p_below=probs.p_below,
+                p_inside=probs.p_inside,
+                p_above=probs.p_above,
+                p_inside_interval=interval,
+                quantiles={f"{q:g}": float(v) for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)},
+                distribution=dist.family,
+                n_errors=int(sample.size),
+                spread=distributions.spread(dist),
+            )
+        )
+    return tuple(rows)
+
+
+def _path(
+    cfg: Config,
+    panel: panel_module.Panel,
+    combined: np.ndarray,
+    dists: list[distributions.Distribution],
+    ordinals: list[int],
+) -> tuple[PathResult, ...]:
+    errors = error_matrix(combined, panel.outcomes)[:, : cfg.horizons + 1]
+    errors = np.where(window_mask(errors, cfg.window), errors, np.nan)
+    corr = probabilities.normal_scores_correlation(errors)
+    rng = np.random.default_rng([cfg.seed, 7])
+    draws = probabilities.simulate_joint(dists, corr, cfg.simulations, rng)
+    bands = [cfg.band_for(o) for o in ordinals]
+    throughout, back_by = probabilities.path_probabilities(
+        draws, np.array([b.lower for b in bands]), np.array([b.upper for b in bands])
+    )
+    return tuple(
+        PathResult(periods.label(o, cfg.frequency), h, float(t), float(b))
+        for h, (o, t, b) in enumerate(zip(ordinals, throughout, back_by, strict=True))
+    )
+
+
+def _history(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
+    start = cfg.as_of - HISTORY_YEARS * periods.PERIODS_PER_YEAR[cfg.frequency]
+    keep = (act.period >= start) & (act.period <= cfg.as_of)
+    return tuple(
+        Observation(periods.label(int(p), cfg.frequency), float(v))
+        for p, v in zip(act.period[keep], act.value[keep], strict=True)
+    )
+
+
+def _target(cfg: Config) -> dict[str, object]:
+    band = cfg.band
+    target: dict[str, object] = {"lower": band.lower, "upper": band.upper}
+    if band.midpoint is not None:
+        target.update(midpoint=band.midpoint, tolerance=band.tolerance)
+    target["basis"] = cfg.basis
+    target["edges"] = "inclusive"
+    target["schedule"] = [
+        {
+            "from": periods.label(c.start, cfg.frequency),
+            "lower": c.band.lower,
+            "upper": c.band.upper,
+            **({"midpoint": c.band.midpoint, "tolerance": c.band.tolerance} if c.band.midpoint is not None else {}),
+        }
+        for c in cfg.schedule
+    ]
+    return target
+
+
+def assess_config(cfg: Config) -> Assessment:
+    """Run the whole method on a validated configuration (see :func:`assess`)."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", RiskReportWarning)
+        assessment = _assess(cfg)
+    notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]
+    return _with_warnings(assessment, notes)
+
+
+def _with_warnings(assessment: Assessment, notes: list[str]) -> Assessment:
+    import dataclasses
+
+    return dataclasses.replace(assessment, warnings=tuple(dict.fromkeys(notes)))
+
+
+def _assess(cfg: Config) -> Assessment:
+    fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
+    act = read_actuals(cfg.actuals, cfg.frequency)
+    panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+    status = _model_status(fc, cfg)
+    for row in status:
+        if not row.in_current_round:
+            warnings.warn(
+                f"Model '{row.model}' has no forecast in the current round (last origin "
+                f"{row.last_origin}); it is reported in the track record and left out of the "
+                "combination.",
+                ModelLeftOutWarning,
+                stacklevel=2,
+            )
+    method = _method(cfg, fc)
+    combo = combination_module.combine(method, panel)
+    margins = _margins(cfg, panel, combo.combined)
+    ordinals = [cfg.as_of + h for h in range(cfg.horizons + 1)]
+    final, applied = overlay.apply(
+        margins.model_based,
+        ordinals,
+        cfg.judgements,
+        frequency=cfg.frequency,
+        config_file=str(cfg.path),
+    )
+    model_based = _horizon_results(cfg, margins, margins.model_based, ordinals, 0)
+    adjusted = (
+        _horizon_results(cfg, margins, final, ordinals, 0) if cfg.judgements else model_based
+    )
+    weights = [
+        WeightRow(h, name, float(combo.current_weights[k, h]))
+        for h in range(cfg.horizons + 1)
+        for k, name in enumerate(panel.models)
+        if combo.included[k, h]
+    ]
+    return Assessment(
+        as_of=periods.label(cfg.as_of, cfg.frequency),
+        frequency=cfg.frequency,
+        title=cfg.title,
+        institution=cfg.institution,
+        target=_target(cfg),
+        policy_horizon=cfg.policy_horizon,
+        horizons=adjusted,
+        model_based_horizons=model_based,
+        judgement=tuple(applied),
+        path=_path(cfg, panel, combo.combined, final, ordinals),
+        annual=(),
+        combination={"method": method, "weights": [w.__dict__ for w in weights]},
+        models=status,
+        accuracy=tuple(accuracy_rows(panel, combo, cfg.window, cfg.horizons)),
+        uncertainty={
+            "distribution": cfg.distribution,
+            "window": cfg.window,
+            "centre": cfg.centre,
+            "monotone": cfg.monotone,
+            "bootstrap_replicates": cfg.bootstrap_replicates,
+            "interval_level": 0.9,
+            "simulations": cfg.simulations,
+            "seed": cfg.seed,
+            "verbal_scale": cfg.verbal_scale,
+        },
+        history=_history(act, cfg),
+        change=None,
+        inputs=_input_records(cfg, fc, act),
+        software=_software(),
+        warnings=(),
+    )
+
+
+def assess(config_path: str | Path, *, as_of: str | None = None) -> Assessment:
+    """Compute every number of a brief; no files are written.
+
+    Parameters
+    ----------
+    config_path
+        The TOML configuration.
+    as_of
+        Overrides ``[brief] as_of`` (a period such as ``"2026-11"``).
+
+    Returns
+    -------
+    Assessment
+        All numbers of the brief.
+
+    Raises
+    ------
+    InputError
+        On any bad input or configuration.
+    """
+    cfg = config_module.load(config_path)
+    if as_of is not None:
+        cfg = cfg.with_as_of(as_of)
+    return assess_config(cfg)
