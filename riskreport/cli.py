@@ -1,0 +1,195 @@
+"""The ``riskreport`` command line.
+
+Exit codes: 0 success; 2 bad input, bad config or refused overwrite; 1 internal error.
+Logs go to stderr; ``--json`` prints one machine-readable summary on stdout.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime as dt
+import hashlib
+import json
+import logging
+import os
+import sys
+import traceback
+from collections.abc import Sequence
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+from riskreport import __version__
+from riskreport.errors import InputError
+
+log = logging.getLogger("riskreport")
+
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT = 0, 1, 2
+
+
+def demo_config() -> Path:
+    """The bundled, invented demo scenario's configuration."""
+    return Path(str(resources.files("example_inputs"))) / "config.toml"
+
+
+def _parser() -> argparse.ArgumentParser:
+    common = argparse.ArgumentParser(add_help=False)
+    noise = common.add_mutually_exclusive_group()
+    noise.add_argument("--quiet", "-q", action="store_true", help="only errors on stderr")
+    noise.add_argument("--verbose", "-v", action="store_true", help="more detail on stderr")
+    common.add_argument(
+        "--json", action="store_true", help="print one machine-readable summary on stdout"
+    )
+    parser = argparse.ArgumentParser(
+        prog="riskreport",
+        description="Probabilities for inflation below, inside and above the target band, "
+        "and a brief for the board.",
+    )
+    parser.add_argument("--version", action="version", version=f"riskreport {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    demo = sub.add_parser("demo", parents=[common], help="the invented scenario, end to end")
+    demo.add_argument("--out", type=Path, default=Path("riskreport-demo"), help="output folder")
+    demo.add_argument("--force", action="store_true", help="replace existing outputs")
+
+    build = sub.add_parser("build", parents=[common], help="build the brief of a config")
+    build.add_argument("config", type=Path)
+    build.add_argument("--out", type=Path, help="output folder (default: [output] directory)")
+    build.add_argument("--as-of", dest="as_of", help="override [brief] as_of, e.g. 2026-11")
+    build.add_argument("--force", action="store_true", help="replace an existing brief")
+
+    check = sub.add_parser("check", parents=[common], help="validate inputs and config only")
+    check.add_argument("config", type=Path)
+    check.add_argument("--as-of", dest="as_of", help="override [brief] as_of")
+    return parser
+
+
+def _setup_logging(args: argparse.Namespace) -> None:
+    level = logging.ERROR if args.quiet else logging.DEBUG if args.verbose else logging.INFO
+    handler = logging.StreamHandler(sys.stderr)
+    handler.setFormatter(logging.Formatter("riskreport: %(message)s"))
+    log.handlers[:] = [handler]
+    log.setLevel(level)
+    log.propagate = False
+    logging.getLogger("weasyprint").setLevel(logging.ERROR)
+    logging.getLogger("fontTools").setLevel(logging.ERROR)
+
+
+def _sha256(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def _headline(assessment: Any) -> dict[str, Any]:
+    r = assessment.policy
+    return {
+        "period": r.period,
+        "h": r.h,
+        "p_below": r.p_below,
+        "p_inside": r.p_inside,
+        "p_above": r.p_above,
+    }
+
+
+def _build(config: Path, out: Path | None, as_of: str | None, force: bool) -> dict[str, Any]:
+    from riskreport import config as config_module
+    from riskreport import outputs, pipeline
+
+    cfg = config_module.load(config)
+    if as_of is not None:
+        cfg = cfg.with_as_of(as_of)
+    out_dir = (out if out is not None else cfg.output_directory).resolve()
+    assessment = pipeline.assess_config(cfg)
+    log.info("assessed %s: %d horizons", assessment.as_of, len(assessment.horizons))
+    record: dict[str, Any] = {
+        "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
+        "as_of": assessment.as_of,
+        "config_sha256": _sha256(cfg.path),
+        "inputs": {i.role: i.sha256 for i in assessment.inputs},
+    }
+    try:
+        written = outputs.render(assessment, out_dir, formats=cfg.formats, force=force)
+    except BaseException as exc:
+        code = EXIT_INPUT if isinstance(exc, InputError) else EXIT_INTERNAL
+        if out_dir.is_dir():
+            outputs.append_run_record(out_dir, {**record, "outputs": [], "exit_status": code})
+        raise
+    listed = [{"path": str(p), "sha256": _sha256(p)} for p in written]
+    outputs.append_run_record(
+        out_dir,
+        {**record, "outputs": [{"path": str(p.relative_to(out_dir)), "sha256": x["sha256"]}
+                               for p, x in zip(written, listed, strict=True)], "exit_status": 0},
+    )
+    for p in written:
+        log.debug("wrote %s", p)
+    pdf = [p for p in written if p.suffix == ".pdf"]
+    log.info("brief written to %s", pdf[0] if pdf else out_dir)
+    return {
+        "status": "ok",
+        "as_of": assessment.as_of,
+        "outputs": listed,
+        "headline": _headline(assessment),
+        "warnings": list(assessment.warnings),
+    }
+
+
+def _check(config: Path, as_of: str | None) -> dict[str, Any]:
+    from riskreport import assess
+
+    assessment = assess(config, as_of=as_of)
+    n = [r.n_errors for r in assessment.horizons]
+    current = [m.model for m in assessment.models if m.in_current_round]
+    left = [m.model for m in assessment.models if not m.in_current_round]
+    lines = [
+        f"config {Path(config).name}: valid; as_of {assessment.as_of} ({assessment.frequency})",
+        f"band {assessment.target['lower']:g} to {assessment.target['upper']:g} "
+        f"({assessment.target['basis']}); horizons 0 to {assessment.horizons[-1].h}, "
+        f"policy horizon {assessment.policy_horizon}",
+        f"models in the current round: {', '.join(current)}"
+        + (f"; left out: {', '.join(left)}" if left else ""),
+        f"past errors per horizon: {min(n)} to {max(n)}",
+        *(f"input {i.role}: {i.path} ({i.rows if i.rows is not None else '-'} rows)"
+          for i in assessment.inputs),
+        *(f"warning: {w}" for w in assessment.warnings),
+    ]
+    return {"status": "ok", "as_of": assessment.as_of, "summary": lines,
+            "headline": _headline(assessment), "warnings": list(assessment.warnings),
+            "outputs": []}
+
+
+def _run(args: argparse.Namespace) -> dict[str, Any]:
+    if args.command == "demo":
+        return _build(demo_config(), args.out, None, args.force)
+    if args.command == "build":
+        return _build(args.config, args.out, args.as_of, args.force)
+    return _check(args.config, args.as_of)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line; returns the exit code."""
+    os.environ.setdefault("MPLBACKEND", "Agg")
+    args = _parser().parse_args(argv)
+    _setup_logging(args)
+    try:
+        summary = _run(args)
+        code = EXIT_OK
+    except InputError as exc:
+        print(f"riskreport: error: {exc.one_line()}", file=sys.stderr)
+        summary, code = {"status": "error", "error": exc.one_line()}, EXIT_INPUT
+    except KeyboardInterrupt:
+        print("riskreport: interrupted; no brief was written", file=sys.stderr)
+        summary, code = {"status": "error", "error": "interrupted"}, EXIT_INTERNAL
+    except Exception as exc:
+        detail = traceback.format_exc() if args.verbose else f"{type(exc).__name__}: {exc}"
+        print(f"riskreport: internal error: {' '.join(detail.split()) if not args.verbose else detail}",
+              file=sys.stderr)
+        summary, code = {"status": "error", "error": f"{type(exc).__name__}: {exc}"}, EXIT_INTERNAL
+    summary["exit_code"] = code
+    if args.json:
+        print(json.dumps(summary, ensure_ascii=False))
+    elif code == EXIT_OK and args.command == "check" and not args.quiet:
+        print("\n".join(summary["summary"]))
+    return code
+
+
+if __name__ == "__main__":
+    sys.exit(main())

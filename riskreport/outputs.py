@@ -1,0 +1,185 @@
+"""Writing a brief's files: all or nothing, never replacing a different file silently.
+
+Every file is first written into a staging folder inside the output directory; only when
+all are made are they renamed into place (a rename within one file system is atomic), so a
+crash leaves no half-written file. An existing output that differs is replaced only with
+``force``; an identical one is left as it is.
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import io
+import json
+import os
+import shutil
+import tempfile
+from collections.abc import Iterable
+from pathlib import Path
+
+from riskreport._typing import OUTPUT_FORMATS, OutputFormat
+from riskreport.assessment import Assessment
+from riskreport.errors import OverwriteRefused
+
+
+def run_id(assessment_json: str) -> str:
+    """A stable identifier of a brief: the first 12 hex digits of its JSON's SHA-256."""
+    return hashlib.sha256(assessment_json.encode("utf-8")).hexdigest()[:12]
+
+
+def _csv(rows: Iterable[dict[str, object]]) -> bytes:
+    rows = list(rows)
+    buffer = io.StringIO()
+    if rows:
+        writer = csv.DictWriter(buffer, fieldnames=list(rows[0]), lineterminator="\n")
+        writer.writeheader()
+        writer.writerows(rows)
+    return buffer.getvalue().encode("utf-8")
+
+
+def _horizon_rows(rows: list[dict[str, object]]) -> list[dict[str, object]]:
+    flat = []
+    for r in rows:
+        band = r["band"]
+        interval = r["p_inside_interval"]
+        quantiles = r["quantiles"]
+        assert isinstance(band, list) and isinstance(interval, list) and isinstance(quantiles, dict)
+        flat.append(
+            {
+                "period": r["period"],
+                "h": r["h"],
+                "lower": band[0],
+                "upper": band[1],
+                "centre": r["centre"],
+                "point_forecast": r["point_forecast"],
+                "p_below": r["p_below"],
+                "p_inside": r["p_inside"],
+                "p_above": r["p_above"],
+                "p_inside_lo": interval[0],
+                "p_inside_hi": interval[1],
+                **{f"q{k}": v for k, v in quantiles.items()},
+                "distribution": r["distribution"],
+                "n_errors": r["n_errors"],
+            }
+        )
+    return flat
+
+
+def files_for(
+    assessment: Assessment, formats: Iterable[OutputFormat]
+) -> dict[str, bytes]:
+    """Every output file of a brief, by path relative to the output directory."""
+    chosen = set(formats)
+    unknown = chosen - set(OUTPUT_FORMATS)
+    if unknown:
+        raise ValueError(f"formats: expected items from {OUTPUT_FORMATS}, got {sorted(unknown)}")
+    as_of = assessment.as_of
+    text = assessment.to_json()
+    data = json.loads(text)
+    files: dict[str, bytes] = {}
+    if "json" in chosen:
+        files[f"assessment-{as_of}.json"] = text.encode("utf-8")
+    if "csv" in chosen:
+        files[f"tables/horizons-{as_of}.csv"] = _csv(_horizon_rows(data["horizons"]))
+        files[f"tables/model-based-horizons-{as_of}.csv"] = _csv(
+            _horizon_rows(data["model_based_horizons"])
+        )
+        files[f"tables/path-{as_of}.csv"] = _csv(data["path"])
+        files[f"tables/accuracy-{as_of}.csv"] = _csv(data["accuracy"])
+        files[f"tables/weights-{as_of}.csv"] = _csv(data["combination"]["weights"])
+    if chosen & {"html", "pdf"}:
+        from riskreport.report import render as render_module
+
+        page, svgs = render_module.html(assessment, run_id(text))
+        for name, svg in svgs.items():
+            files[f"charts/{name}-{as_of}.svg"] = svg.encode("utf-8")
+        if "html" in chosen:
+            files[f"brief-{as_of}.html"] = page.encode("utf-8")
+        if "pdf" in chosen:
+            files[f"brief-{as_of}.pdf"], _ = render_module.pdf(
+                page, render_module.created_date(assessment)
+            )
+    return files
+
+
+def _refuse_overwrites(out_dir: Path, files: dict[str, bytes], force: bool) -> None:
+    if force:
+        return
+    for name, content in files.items():
+        target = out_dir / name
+        if target.exists() and target.read_bytes() != content:
+            raise OverwriteRefused(
+                f"{name} already exists in {out_dir.name}/ with different content; "
+                "use --force to replace it (nothing was written)",
+                file=target,
+            )
+
+
+def write_all(out_dir: Path, files: dict[str, bytes], *, force: bool = False) -> list[Path]:
+    """Write files atomically into ``out_dir``; all or nothing.
+
+    Raises
+    ------
+    OverwriteRefused
+        A file exists with other content and ``force`` is false; nothing is written.
+    """
+    out_dir.mkdir(parents=True, exist_ok=True)
+    _refuse_overwrites(out_dir, files, force)
+    staging = Path(tempfile.mkdtemp(prefix=".riskreport-", dir=out_dir))
+    try:
+        for name, content in files.items():
+            path = staging / name
+            path.parent.mkdir(parents=True, exist_ok=True)
+            with path.open("wb") as handle:
+                handle.write(content)
+                handle.flush()
+                os.fsync(handle.fileno())
+        written = []
+        for name in files:
+            target = out_dir / name
+            target.parent.mkdir(parents=True, exist_ok=True)
+            os.replace(staging / name, target)
+            written.append(target)
+        return written
+    finally:
+        shutil.rmtree(staging, ignore_errors=True)
+
+
+def render(
+    assessment: Assessment,
+    out_dir: str | Path,
+    *,
+    formats: Iterable[OutputFormat] = OUTPUT_FORMATS,
+    force: bool = False,
+) -> list[Path]:
+    """Write the brief's files (PDF, HTML, JSON, CSV tables, SVG charts).
+
+    Parameters
+    ----------
+    assessment
+        From :func:`riskreport.assess`.
+    out_dir
+        The output directory (created if needed).
+    formats
+        Any of ``"pdf"``, ``"html"``, ``"json"``, ``"csv"``.
+    force
+        Replace existing files for this as_of that differ.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+    """
+    files = files_for(assessment, formats)
+    return write_all(Path(out_dir), files, force=force)
+
+
+def append_run_record(out_dir: Path, record: dict[str, object]) -> None:
+    """Append one line to ``runs.jsonl`` (opened in append mode: earlier lines stay)."""
+    out_dir.mkdir(parents=True, exist_ok=True)
+    line = json.dumps(record, ensure_ascii=False, sort_keys=True) + "\n"
+    with (out_dir / "runs.jsonl").open("a", encoding="utf-8") as handle:
+        handle.write(line)
+        handle.flush()
+        os.fsync(handle.fileno())

@@ -1,0 +1,374 @@
+"""From an assessment to the brief's context: every number already rounded and phrased.
+
+The templates only loop over these values and print them.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from riskreport import verbal
+from riskreport.assessment import Assessment, HorizonResult
+from riskreport.report import formatting as fmt
+
+SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
+
+CAUTIONS: tuple[str, ...] = (
+    "These probabilities are model estimates built from the errors of past forecasts; they "
+    "are not a measure of certainty.",
+    "Future errors may differ from past ones: regime changes and unprecedented shocks are "
+    "not in the track record.",
+    "The track record is a small sample, so the tail probabilities (far below or far above "
+    "the band) are especially uncertain.",
+    "This brief supports, and does not replace, the judgement of the policy committee and "
+    "its staff.",
+)
+
+
+@dataclass(frozen=True)
+class ProbabilityRow:
+    """One printed row of below / inside / above (the three add to 100%)."""
+
+    period: str
+    h: str
+    band: str
+    centre: str
+    below: str
+    inside: str
+    above: str
+    interval: str
+    is_policy: bool
+
+
+@dataclass(frozen=True)
+class OverlayRow:
+    """Model-based against adjusted probabilities for one period the overlay moved."""
+
+    period: str
+    model_based: str
+    adjusted: str
+    change: str
+
+
+@dataclass(frozen=True)
+class OverlayEntry:
+    """One judgement entry as the brief prints it."""
+
+    periods: str
+    terms: str
+    reason: str
+
+
+@dataclass(frozen=True)
+class AccuracyLine:
+    """Accuracy of one forecaster at the horizons shown."""
+
+    model: str
+    cells: tuple[str, ...]
+    is_combination: bool
+
+
+@dataclass(frozen=True)
+class KeyValue:
+    """A labelled value in a table of facts."""
+
+    label: str
+    value: str
+
+
+@dataclass(frozen=True)
+class ChartBlock:
+    """A chart as the brief embeds it: the SVG as a data URI, its size and alt text."""
+
+    name: str
+    uri: str
+    width_mm: float
+    height_mm: float
+    alt: str
+    caption: str
+
+
+@dataclass(frozen=True)
+class BriefContext:
+    """Everything the templates print."""
+
+    title: str
+    institution: str
+    as_of: str
+    language: str
+    run_id: str
+    headline: str
+    messages: tuple[str, ...]
+    summary_rows: tuple[ProbabilityRow, ...]
+    all_rows: tuple[ProbabilityRow, ...]
+    path_rows: tuple[KeyValue, ...]
+    change_text: str
+    track_text: str
+    cautions: tuple[str, ...]
+    band_text: str
+    scale_text: str
+    charts: dict[str, ChartBlock]
+    outlook_text: tuple[str, ...]
+    overlay_entries: tuple[OverlayEntry, ...]
+    overlay_rows: tuple[OverlayRow, ...]
+    overlay_text: str
+    accuracy_horizons: tuple[str, ...]
+    accuracy_lines: tuple[AccuracyLine, ...]
+    accuracy_text: str
+    weight_lines: tuple[KeyValue, ...]
+    models: tuple[KeyValue, ...]
+    method: tuple[KeyValue, ...]
+    inputs: tuple[tuple[str, str, str, str, str], ...]
+    samples: tuple[KeyValue, ...]
+    warnings: tuple[str, ...]
+    software: tuple[KeyValue, ...]
+
+
+def band_label(band: tuple[float, float]) -> str:
+    """"2.0–4.0%"."""
+    return f"{fmt.number(band[0])}\u2013{fmt.number(band[1])}%"
+
+
+def phrase(p: float, whole: str) -> str:
+    """"likely (72%)": the scale's word with the printed number beside it."""
+    return f"{verbal.term(p)} ({whole})"
+
+
+def _row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
+    below, inside, above = fmt.percentages([r.p_below, r.p_inside, r.p_above])
+    lo, hi = r.p_inside_interval
+    return ProbabilityRow(
+        period=r.period,
+        h=str(r.h),
+        band=band_label(r.band),
+        centre=fmt.number(r.centre),
+        below=fmt.percent_text(below, r.p_below),
+        inside=fmt.percent_text(inside, r.p_inside),
+        above=fmt.percent_text(above, r.p_above),
+        interval=f"{fmt.single_percent(lo)}\u2013{fmt.single_percent(hi)}",
+        is_policy=r.h == policy_h,
+    )
+
+
+def _headline(a: Assessment) -> tuple[str, ProbabilityRow]:
+    r = a.policy
+    row = _row(r, a.policy_horizon)
+    unit = "month" if a.frequency == "monthly" else "quarter"
+    ahead = f"{r.h} {unit}{'s' if r.h != 1 else ''} ahead"
+    text = (
+        f"At the policy horizon ({r.period}, {ahead}) inflation is "
+        f"{phrase(r.p_inside, row.inside)} to be inside the {band_label(r.band)} target band; "
+        f"the chance that it is above the band is {row.above} and below it {row.below}."
+    )
+    return text, row
+
+
+def _messages(a: Assessment) -> tuple[str, ...]:
+    first, policy = a.horizons[0], a.policy
+    path = next(p for p in a.path if p.h == a.policy_horizon)
+    tilt = "above" if policy.p_above > policy.p_below else "below"
+    messages = [
+        f"Risks at the policy horizon lean {tilt} the band: above "
+        f"{fmt.single_percent(policy.p_above)}, below {fmt.single_percent(policy.p_below)}. "
+        f"The central path is {fmt.number(policy.centre)}% in {policy.period}.",
+        f"Inflation staying inside the band in every period from {first.period} to "
+        f"{policy.period} is {phrase(path.p_inside_throughout, fmt.single_percent(path.p_inside_throughout))}; "
+        f"being inside at least once by then is "
+        f"{phrase(path.p_back_inside_by, fmt.single_percent(path.p_back_inside_by))}.",
+    ]
+    if a.judgement:
+        base = a.horizon_result(a.policy_horizon, model_based=True)
+        messages.append(
+            f"Staff judgement is applied to {len(a.judgement)} period range"
+            f"{'s' if len(a.judgement) > 1 else ''}; at the policy horizon it moves the "
+            f"probability of being inside from {fmt.single_percent(base.p_inside)} (model-based) "
+            f"to {fmt.single_percent(policy.p_inside)}."
+        )
+    else:
+        messages.append("No staff judgement overlay is applied: the probabilities are model-based.")
+    return tuple(messages)
+
+
+def _track_text(a: Assessment) -> str:
+    row = next((x for x in a.accuracy if x.model == "combination" and x.h == a.policy_horizon), None)
+    if row is None:
+        return "There is no track record of the combined forecast at the policy horizon."
+    unit = "month" if a.frequency == "monthly" else "quarter"
+    direction = "below" if row.mean_error > 0 else "above"
+    return (
+        f"Over the last {row.n} forecast rounds with a known outcome, the combined forecast "
+        f"{a.policy_horizon} {unit}s ahead missed by {fmt.number(row.rmse)} pp on average "
+        f"(root mean square); outcomes came in {direction} the forecast by "
+        f"{fmt.number(abs(row.mean_error))} pp on average. A calibration check of past "
+        "probability statements is not yet part of this brief."
+    )
+
+
+def _overlay(a: Assessment) -> tuple[tuple[OverlayEntry, ...], tuple[OverlayRow, ...], str]:
+    if not a.judgement:
+        return (), (), "No staff judgement overlay is applied in this brief."
+    entries = tuple(
+        OverlayEntry(
+            periods=f"{j.start} to {j.end}",
+            terms=(
+                f"centre {fmt.number(j.shift, 2, signed=True)} pp; spread \u00d7{fmt.number(j.scale, 2)}; "
+                f"skew {fmt.number(j.skew, 2, signed=True)} pp (mean minus mode)"
+            ),
+            reason=j.reason,
+        )
+        for j in a.judgement
+    )
+    moved = {p for j in a.judgement for p in j.periods}
+    rows = []
+    for base, final in zip(a.model_based_horizons, a.horizons, strict=True):
+        if base.period not in moved:
+            continue
+        rows.append(
+            OverlayRow(
+                period=base.period,
+                model_based=" / ".join(_triple(base)),
+                adjusted=" / ".join(_triple(final)),
+                change=fmt.points(final.p_inside - base.p_inside),
+            )
+        )
+    text = (
+        "The overlay maps the model-based distribution of each period it covers: the shift "
+        "moves the centre, the scale multiplies the spread, and the skew adds to the mean "
+        "minus the mode (positive tilts the risks upwards). Both sets of probabilities are "
+        "shown; the model-based ones are what the track record alone implies."
+    )
+    return entries, tuple(rows), text
+
+
+def _triple(r: HorizonResult) -> list[str]:
+    whole = fmt.percentages([r.p_below, r.p_inside, r.p_above])
+    return [fmt.percent_text(w, p) for w, p in zip(whole, [r.p_below, r.p_inside, r.p_above], strict=True)]
+
+
+def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
+    shown = tuple(h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h)
+    by_key = {(r.model, r.h): r for r in a.accuracy}
+    names = list(dict.fromkeys(r.model for r in a.accuracy))
+    lines = []
+    for name in names:
+        cells = tuple(
+            fmt.number(by_key[(name, h)].rmse, 2) if (name, h) in by_key else "\u2013" for h in shown
+        )
+        lines.append(AccuracyLine(name, cells, name == "combination"))
+    current = {m.model for m in a.models if m.in_current_round}
+    left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
+    best = []
+    for h in shown:
+        candidates = [by_key[(n, h)] for n in names if (n, h) in by_key and n in current]
+        if candidates:
+            winner = min(candidates, key=lambda r: r.rmse)
+            best.append(f"{winner.model} at h = {h}")
+    text = (
+        "Root mean square error (pp) over the error window; each forecaster is scored on the "
+        "rounds in that window where it gave a forecast. Lowest among the models in the "
+        f"current round: {', '.join(best)}. Whether these differences are statistically "
+        "significant is not yet tested in this brief."
+    )
+    if left_out:
+        text += (
+            f" Not in the current round, and scored on a shorter, older sample, so not "
+            f"comparable: {', '.join(left_out)}."
+        )
+    return tuple(f"h = {h}" for h in shown), tuple(lines), text
+
+
+def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefContext:
+    """Phrase every number of the assessment for the templates."""
+    headline, _ = _headline(a)
+    policy_h = a.policy_horizon
+    summary_h = sorted({h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h} | {policy_h})
+    entries, overlay_rows, overlay_text = _overlay(a)
+    acc_h, acc_lines, acc_text = _accuracy(a)
+    weights = {}
+    for w in a.combination["weights"]:
+        weights.setdefault(w["model"], []).append(w["weight"])
+    samples = [r.n_errors for r in a.horizons]
+    u = a.uncertainty
+    return BriefContext(
+        title=a.title,
+        institution=a.institution,
+        as_of=a.as_of,
+        language="en",
+        run_id=run_id,
+        headline=headline,
+        messages=_messages(a),
+        summary_rows=tuple(_row(a.horizon_result(h), policy_h) for h in summary_h),
+        all_rows=tuple(_row(r, policy_h) for r in a.horizons),
+        path_rows=tuple(
+            KeyValue(
+                p.period,
+                f"{fmt.single_percent(p.p_inside_throughout)} inside throughout; "
+                f"{fmt.single_percent(p.p_back_inside_by)} inside at least once",
+            )
+            for p in a.path
+            if p.h in summary_h
+        ),
+        change_text=(
+            "No earlier brief was available for comparison, so the change since the last "
+            "meeting is not shown."
+        ),
+        track_text=_track_text(a),
+        cautions=CAUTIONS,
+        band_text=(
+            "Inside the band means lower edge \u2264 inflation \u2264 upper edge (both edges "
+            "count as inside). Below, inside and above add to 100% after rounding."
+        ),
+        scale_text=f"Words for probabilities follow the {verbal.IPCC_AR5.name} ({verbal.IPCC_AR5.source}).",
+        charts=charts,
+        outlook_text=(
+            f"The shaded areas hold the outcome with 50%, 80% and 90% probability; the dotted "
+            f"line is the centre path (the most likely value), which ends at "
+            f"{fmt.number(a.horizons[-1].centre)}% in {a.horizons[-1].period}.",
+            f"Near term, inflation is {phrase(a.horizons[0].p_inside, _row(a.horizons[0], policy_h).inside)} "
+            f"to be inside the band in {a.horizons[0].period}; uncertainty widens with the horizon.",
+        ),
+        overlay_entries=entries,
+        overlay_rows=overlay_rows,
+        overlay_text=overlay_text,
+        accuracy_horizons=acc_h,
+        accuracy_lines=acc_lines,
+        accuracy_text=acc_text,
+        weight_lines=tuple(
+            KeyValue(name, f"{fmt.number(min(ws), 2)}\u2013{fmt.number(max(ws), 2)}"
+                     if fmt.number(min(ws), 2) != fmt.number(max(ws), 2) else fmt.number(ws[0], 2))
+            for name, ws in weights.items()
+        ),
+        models=tuple(
+            KeyValue(
+                m.model,
+                f"origins {m.first_origin} to {m.last_origin}; "
+                + ("in the current round" if m.in_current_round else "not in the current round: left out"),
+            )
+            for m in a.models
+        ),
+        method=(
+            KeyValue("Combination", f"{a.combination['method']} weights, per horizon"),
+            KeyValue("Error distribution", f"{u['distribution']}, fitted per horizon by maximum likelihood"),
+            KeyValue("Error window", "all past origins" if u["window"] == 0 else f"last {u['window']} origins with a known outcome, per horizon"),
+            KeyValue(
+                "Centre",
+                "estimated: past average errors (bias) carry over into the centre"
+                if u["centre"] == "estimated"
+                else "the point forecast is the mode of the distribution",
+            ),
+            KeyValue("Spread by horizon", "not allowed to shrink as the horizon lengthens" if u["monotone"] else "as fitted"),
+            KeyValue("Interval for inside", f"{int(100 * u['interval_level'])}% moving-block bootstrap, {u['bootstrap_replicates']} replicates"),
+            KeyValue("Path probabilities", f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}"),
+            KeyValue("Verbal scale", verbal.IPCC_AR5.name),
+        ),
+        inputs=tuple(
+            (i.role, i.path, i.sha256, str(i.rows) if i.rows is not None else "\u2013",
+             f"{i.first_period} to {i.last_period}" if i.first_period else "\u2013")
+            for i in a.inputs
+        ),
+        samples=(
+            KeyValue("Past errors per horizon", f"{min(samples)} to {max(samples)}"),
+        ),
+        warnings=a.warnings,
+        software=tuple(KeyValue(k, v) for k, v in a.software.items()),
+    )
