@@ -116,8 +116,14 @@ def _build(config: Path, out: Path | None, as_of: str | None, force: bool) -> di
     listed = [{"path": str(p), "sha256": _sha256(p)} for p in written]
     outputs.append_run_record(
         out_dir,
-        {**record, "outputs": [{"path": str(p.relative_to(out_dir)), "sha256": x["sha256"]}
-                               for p, x in zip(written, listed, strict=True)], "exit_status": 0},
+        {
+            **record,
+            "outputs": [
+                {"path": str(p.relative_to(out_dir)), "sha256": x["sha256"]}
+                for p, x in zip(written, listed, strict=True)
+            ],
+            "exit_status": 0,
+        },
     )
     for p in written:
         log.debug("wrote %s", p)
@@ -147,13 +153,20 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
         f"models in the current round: {', '.join(current)}"
         + (f"; left out: {', '.join(left)}" if left else ""),
         f"past errors per horizon: {min(n)} to {max(n)}",
-        *(f"input {i.role}: {i.path} ({i.rows if i.rows is not None else '-'} rows)"
-          for i in assessment.inputs),
+        *(
+            f"input {i.role}: {i.path} ({i.rows if i.rows is not None else '-'} rows)"
+            for i in assessment.inputs
+        ),
         *(f"warning: {w}" for w in assessment.warnings),
     ]
-    return {"status": "ok", "as_of": assessment.as_of, "summary": lines,
-            "headline": _headline(assessment), "warnings": list(assessment.warnings),
-            "outputs": []}
+    return {
+        "status": "ok",
+        "as_of": assessment.as_of,
+        "summary": lines,
+        "headline": _headline(assessment),
+        "warnings": list(assessment.warnings),
+        "outputs": [],
+    }
 
 
 def _run(args: argparse.Namespace) -> dict[str, Any]:
@@ -180,8 +193,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         summary, code = {"status": "error", "error": "interrupted"}, EXIT_INTERNAL
     except Exception as exc:
         detail = traceback.format_exc() if args.verbose else f"{type(exc).__name__}: {exc}"
-        print(f"riskreport: internal error: {' '.join(detail.split()) if not args.verbose else detail}",
-              file=sys.stderr)
+        print(
+            f"riskreport: internal error: {' '.join(detail.split()) if not args.verbose else detail}",
+            file=sys.stderr,
+        )
         summary, code = {"status": "error", "error": f"{type(exc).__name__}: {exc}"}, EXIT_INTERNAL
     summary["exit_code"] = code
     if args.json:

@@ -88,6 +88,4 @@ def combine(method: CombinationMethod, panel: Panel) -> Combination:
     with np.errstate(invalid="ignore", divide="ignore"):
         combined = np.where(count > 0, total / np.maximum(count, 1), np.nan)
     current = included / np.maximum(included.sum(axis=0, keepdims=True), 1)
-    return Combination(
-        method=method, combined=combined, current_weights=current, included=included
-    )
+    return Combination(method=method, combined=combined, current_weights=current, included=included)

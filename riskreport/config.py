@@ -397,7 +397,9 @@ def load(path: str | Path) -> Config:
     formats_raw = output._get("formats", list, "a list of formats", list(OUTPUT_FORMATS))
     for item in formats_raw:
         if item not in OUTPUT_FORMATS:
-            raise output.error("formats", f"expected items from {', '.join(OUTPUT_FORMATS)}, got {item!r}")
+            raise output.error(
+                "formats", f"expected items from {', '.join(OUTPUT_FORMATS)}, got {item!r}"
+            )
     directory = output._get("directory", str, "a folder path", "out")
 
     return Config(

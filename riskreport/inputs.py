@@ -64,7 +64,9 @@ def _cell_text(value: object) -> str:
     return str(value)
 
 
-def read_table(path: Path, required: tuple[str, ...], optional: tuple[str, ...] = ()) -> pd.DataFrame:
+def read_table(
+    path: Path, required: tuple[str, ...], optional: tuple[str, ...] = ()
+) -> pd.DataFrame:
     """Read a CSV (UTF-8, BOM tolerated) or .xlsx file as text columns.
 
     Column names are stripped and lower-cased; cells are kept as text so that each check can
@@ -80,13 +82,17 @@ def read_table(path: Path, required: tuple[str, ...], optional: tuple[str, ...] 
                 path, dtype=str, keep_default_na=False, encoding="utf-8-sig", skipinitialspace=True
             )
         else:
-            raise InputError(f"expected a .csv or .xlsx file, got {suffix or 'no extension'}", file=path)
+            raise InputError(
+                f"expected a .csv or .xlsx file, got {suffix or 'no extension'}", file=path
+            )
     except InputError:
         raise
     except UnicodeDecodeError:
         raise InputError("expected UTF-8 text", file=path) from None
     except pd.errors.EmptyDataError:
-        raise InputError("the file is empty; expected a header row and data rows", file=path) from None
+        raise InputError(
+            "the file is empty; expected a header row and data rows", file=path
+        ) from None
     except pd.errors.ParserError as exc:
         raise InputError(f"cannot read as CSV ({' '.join(str(exc).split())})", file=path) from None
     except (ValueError, OSError, KeyError) as exc:

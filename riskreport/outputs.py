@@ -44,7 +44,9 @@ def _horizon_rows(rows: list[dict[str, object]]) -> list[dict[str, object]]:
         band = r["band"]
         interval = r["p_inside_interval"]
         quantiles = r["quantiles"]
-        assert isinstance(band, list) and isinstance(interval, list) and isinstance(quantiles, dict)
+        assert isinstance(band, list)
+        assert isinstance(interval, list)
+        assert isinstance(quantiles, dict)
         flat.append(
             {
                 "period": r["period"],
@@ -66,9 +68,7 @@ def _horizon_rows(rows: list[dict[str, object]]) -> list[dict[str, object]]:
     return flat
 
 
-def files_for(
-    assessment: Assessment, formats: Iterable[OutputFormat]
-) -> dict[str, bytes]:
+def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[str, bytes]:
     """Every output file of a brief, by path relative to the output directory."""
     chosen = set(formats)
     unknown = chosen - set(OUTPUT_FORMATS)

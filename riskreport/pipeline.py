@@ -17,7 +17,8 @@ import numpy as np
 
 from riskreport import combination as combination_module
 from riskreport import config as config_module
-from riskreport import distributions, overlay, panel as panel_module, periods, probabilities
+from riskreport import distributions, overlay, periods, probabilities
+from riskreport import panel as panel_module
 from riskreport.assessment import (
     Assessment,
     HorizonResult,
@@ -37,7 +38,9 @@ from riskreport.errors import (
 from riskreport.inputs import Actuals, Forecasts, read_actuals, read_forecasts
 from riskreport.track_record import accuracy_rows, error_matrix, window_mask
 
-SMALL_SAMPLE = 30  # fewer errors than this at a horizon earns a warning (common practice, no source)
+SMALL_SAMPLE = (
+    30  # fewer errors than this at a horizon earns a warning (common practice, no source)
+)
 HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
 
 
@@ -55,7 +58,16 @@ def _sha256(path: Path) -> str:
 
 
 def _software() -> dict[str, str]:
-    names = ["riskreport", "numpy", "scipy", "pandas", "statsmodels", "matplotlib", "jinja2", "weasyprint"]
+    names = [
+        "riskreport",
+        "numpy",
+        "scipy",
+        "pandas",
+        "statsmodels",
+        "matplotlib",
+        "jinja2",
+        "weasyprint",
+    ]
     versions = {"python": platform.python_version()}
     for name in names:
         try:
@@ -159,7 +171,7 @@ def _margins(cfg: Config, panel: panel_module.Panel, combined: np.ndarray) -> _M
             file=cfg.forecasts,
             column="period",
         )
-    outcome = [
+    outcome: list[distributions.Distribution] = [
         distributions.Adjusted(fit, shift=float(p)) for fit, p in zip(fits, point, strict=True)
     ]
     return _Margins(samples=samples, model_based=outcome, point=point)
@@ -210,7 +222,10 @@ def _horizon_results(
                 p_inside=probs.p_inside,
                 p_above=probs.p_above,
                 p_inside_interval=interval,
-                quantiles={f"{q:g}": float(v) for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)},
+                quantiles={
+                    f"{q:g}": float(v)
+                    for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
+                },
                 distribution=dist.family,
                 n_errors=int(sample.size),
                 spread=distributions.spread(dist),
@@ -262,7 +277,11 @@ def _target(cfg: Config) -> dict[str, object]:
             "from": periods.label(c.start, cfg.frequency),
             "lower": c.band.lower,
             "upper": c.band.upper,
-            **({"midpoint": c.band.midpoint, "tolerance": c.band.tolerance} if c.band.midpoint is not None else {}),
+            **(
+                {"midpoint": c.band.midpoint, "tolerance": c.band.tolerance}
+                if c.band.midpoint is not None
+                else {}
+            ),
         }
         for c in cfg.schedule
     ]
@@ -310,9 +329,7 @@ def _assess(cfg: Config) -> Assessment:
         config_file=str(cfg.path),
     )
     model_based = _horizon_results(cfg, margins, margins.model_based, ordinals, 0)
-    adjusted = (
-        _horizon_results(cfg, margins, final, ordinals, 0) if cfg.judgements else model_based
-    )
+    adjusted = _horizon_results(cfg, margins, final, ordinals, 0) if cfg.judgements else model_based
     weights = [
         WeightRow(h, name, float(combo.current_weights[k, h]))
         for h in range(cfg.horizons + 1)

@@ -66,4 +66,6 @@ def term(p: float, scale: Scale = IPCC_AR5) -> str:
         raise ValueError(f"p: expected a probability in [0, 1], got {p!r}")
     containing = [t for t in scale.terms if t.low <= p <= t.high]
     # Narrowest first; among equal widths the middle range wins (the documented tie rule).
-    return min(containing, key=lambda t: (round(t.high - t.low, 9), t.word != "about as likely as not")).word
+    return min(
+        containing, key=lambda t: (round(t.high - t.low, 9), t.word != "about as likely as not")
+    ).word

@@ -10,12 +10,14 @@ from __future__ import annotations
 
 import io
 from dataclasses import dataclass
+from typing import Any
 
 import matplotlib
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
 from riskreport import periods
+from riskreport._typing import Frequency
 from riskreport.assessment import Assessment, HorizonResult
 
 MM = 1 / 25.4  # inches per millimetre: figures are sized to their box in the page CSS
@@ -24,13 +26,14 @@ INK = "#26231f"
 GRID = "#d9d4cc"
 BAND_EDGE = "#6f6a63"
 FAN = {"90%": "#efe4cc", "80%": "#dcc49a", "50%": "#b98d4f"}
-OUTCOME_STYLE = {
+OUTCOME_STYLE: dict[str, dict[str, Any]] = {
     "below": {"color": "#2f6497", "linestyle": (0, (5, 2)), "marker": "v"},
     "inside": {"color": "#7a4e12", "linestyle": "-", "marker": "o"},
     "above": {"color": "#9b2f63", "linestyle": (0, (6, 2, 1, 2)), "marker": "^"},
 }
 
-_RC = {
+# Any: matplotlib's stubs type rcParams keys as one large Literal.
+_RC: Any = {
     "svg.hashsalt": "riskreport",
     "svg.fonttype": "path",
     "font.family": "DejaVu Sans",
@@ -72,8 +75,8 @@ def _ordinal(label: str) -> int:
 
 
 def _year_ticks(ax: Axes, first: int, last: int, frequency: str) -> None:
-    per_year = periods.PERIODS_PER_YEAR["monthly" if frequency == "monthly" else "quarterly"]
-    freq = "monthly" if frequency == "monthly" else "quarterly"
+    freq: Frequency = "monthly" if frequency == "monthly" else "quarterly"
+    per_year = periods.PERIODS_PER_YEAR[freq]
     ticks = [o for o in range(first, last + 1) if periods.position_in_year(o, freq) == 1]
     ax.set_xticks(ticks, [str(periods.year_of(o, freq)) for o in ticks])
     ax.set_xlim(first - 1, last + per_year // 6 + 1)
@@ -106,7 +109,11 @@ def outlook(assessment: Assessment, width_mm: float = 170, height_mm: float = 82
         )
         for edge in (lowers, uppers):
             ax.step(band_x, [edge[0], *edge], where="post", color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)))
-        for name, (lo, hi) in {"90%": ("0.05", "0.95"), "80%": ("0.1", "0.9"), "50%": ("0.25", "0.75")}.items():
+        for name, (lo, hi) in {
+            "90%": ("0.05", "0.95"),
+            "80%": ("0.1", "0.9"),
+            "50%": ("0.25", "0.75"),
+        }.items():
             ax.fill_between(
                 x,
                 [r.quantiles[lo] for r in rows],
@@ -119,19 +126,49 @@ def outlook(assessment: Assessment, width_mm: float = 170, height_mm: float = 82
         ax.plot(hist_x, hist_y, color=INK, lw=1.4, zorder=3)
         ax.plot(x, [r.centre for r in rows], color=INK, lw=1.4, ls=(0, (1, 1.2)), zorder=3)
         ax.axvline(x[0] - 0.5, color=BAND_EDGE, lw=0.6, zorder=2)
-        ax.annotate("outcomes", (hist_x[0], hist_y[0]), xytext=(2, 8),
-                    textcoords="offset points", ha="left", color=INK, fontsize=7)
-        ax.annotate(f"forecast from {rows[0].period}", (x[0], ax.get_ylim()[1]), xytext=(3, -10),
-                    textcoords="offset points", ha="left", va="top", color=INK, fontsize=7)
-        ax.annotate("target band", (first + 2, uppers[0]), xytext=(0, 3),
-                    textcoords="offset points", ha="left", va="bottom", color=BAND_EDGE, fontsize=7)
+        ax.annotate(
+            "outcomes",
+            (hist_x[0], hist_y[0]),
+            xytext=(2, 8),
+            textcoords="offset points",
+            ha="left",
+            color=INK,
+            fontsize=7,
+        )
+        ax.annotate(
+            f"forecast from {rows[0].period}",
+            (x[0], ax.get_ylim()[1]),
+            xytext=(3, -10),
+            textcoords="offset points",
+            ha="left",
+            va="top",
+            color=INK,
+            fontsize=7,
+        )
+        ax.annotate(
+            "target band",
+            (first + 2, uppers[0]),
+            xytext=(0, 3),
+            textcoords="offset points",
+            ha="left",
+            va="bottom",
+            color=BAND_EDGE,
+            fontsize=7,
+        )
         ax.set_ylabel("inflation, % (year on year)")
         ax.grid(axis="y", color=GRID, lw=0.4)
         ax.spines[["top", "right"]].set_visible(False)
         _year_ticks(ax, first, last, assessment.frequency)
         handles, labels = ax.get_legend_handles_labels()
-        ax.legend(handles[::-1], labels[::-1], loc="upper center", bbox_to_anchor=(0.5, -0.09),
-                  frameon=False, fontsize=7, ncol=3)
+        ax.legend(
+            handles[::-1],
+            labels[::-1],
+            loc="upper center",
+            bbox_to_anchor=(0.5, -0.09),
+            frameon=False,
+            fontsize=7,
+            ncol=3,
+        )
         return Chart("outlook", _svg(fig), width_mm, height_mm)
 
 
@@ -154,10 +191,16 @@ def _outcome_lines(ax: Axes, x: list[int], series: dict[str, list[float]]) -> No
     ends = spread_labels([100 * values[-1] for values in series.values()], gap=7.0)
     for (key, values), end in zip(series.items(), ends, strict=True):
         style = OUTCOME_STYLE[key]
-        ax.plot(x, [100 * v for v in values], lw=1.3, markersize=3, markevery=3,
-                label=key, **style)
-        ax.annotate(key, (x[-1], end), xytext=(5, 0), textcoords="offset points",
-                    va="center", color=style["color"], fontsize=8)
+        ax.plot(x, [100 * v for v in values], lw=1.3, markersize=3, markevery=3, label=key, **style)
+        ax.annotate(
+            key,
+            (x[-1], end),
+            xytext=(5, 0),
+            textcoords="offset points",
+            va="center",
+            color=style["color"],
+            fontsize=8,
+        )
 
 
 def band_probabilities(
@@ -169,17 +212,33 @@ def band_probabilities(
         ax = fig.add_subplot()
         rows: tuple[HorizonResult, ...] = assessment.horizons
         x = [r.h for r in rows]
-        ax.fill_between(x, [100 * r.p_inside_interval[0] for r in rows],
-                        [100 * r.p_inside_interval[1] for r in rows], color=FAN["90%"], lw=0,
-                        label="90% interval for inside")
-        _outcome_lines(ax, x, {
-            "below": [r.p_below for r in rows],
-            "inside": [r.p_inside for r in rows],
-            "above": [r.p_above for r in rows],
-        })
+        ax.fill_between(
+            x,
+            [100 * r.p_inside_interval[0] for r in rows],
+            [100 * r.p_inside_interval[1] for r in rows],
+            color=FAN["90%"],
+            lw=0,
+            label="90% interval for inside",
+        )
+        _outcome_lines(
+            ax,
+            x,
+            {
+                "below": [r.p_below for r in rows],
+                "inside": [r.p_inside for r in rows],
+                "above": [r.p_above for r in rows],
+            },
+        )
         ax.axvline(assessment.policy_horizon, color=BAND_EDGE, lw=0.6, ls=(0, (2, 2)))
-        ax.annotate("policy horizon", (assessment.policy_horizon, 100), xytext=(3, -2),
-                    textcoords="offset points", va="top", fontsize=7, color=BAND_EDGE)
+        ax.annotate(
+            "policy horizon",
+            (assessment.policy_horizon, 100),
+            xytext=(3, -2),
+            textcoords="offset points",
+            va="top",
+            fontsize=7,
+            color=BAND_EDGE,
+        )
         ax.set_ylim(0, 100)
         ax.set_xlim(x[0], x[-1] + 2.5)
         ax.set_ylabel("probability, %")

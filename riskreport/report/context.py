@@ -125,12 +125,12 @@ class BriefContext:
 
 
 def band_label(band: tuple[float, float]) -> str:
-    """"2.0–4.0%"."""
+    """The band as printed, e.g. "2.0-4.0%" with an en dash."""
     return f"{fmt.number(band[0])}\u2013{fmt.number(band[1])}%"
 
 
 def phrase(p: float, whole: str) -> str:
-    """"likely (72%)": the scale's word with the printed number beside it."""
+    """ "likely (72%)": the scale's word with the printed number beside it."""
     return f"{verbal.term(p)} ({whole})"
 
 
@@ -190,7 +190,9 @@ def _messages(a: Assessment) -> tuple[str, ...]:
 
 
 def _track_text(a: Assessment) -> str:
-    row = next((x for x in a.accuracy if x.model == "combination" and x.h == a.policy_horizon), None)
+    row = next(
+        (x for x in a.accuracy if x.model == "combination" and x.h == a.policy_horizon), None
+    )
     if row is None:
         return "There is no track record of the combined forecast at the policy horizon."
     unit = "month" if a.frequency == "monthly" else "quarter"
@@ -242,7 +244,10 @@ def _overlay(a: Assessment) -> tuple[tuple[OverlayEntry, ...], tuple[OverlayRow,
 
 def _triple(r: HorizonResult) -> list[str]:
     whole = fmt.percentages([r.p_below, r.p_inside, r.p_above])
-    return [fmt.percent_text(w, p) for w, p in zip(whole, [r.p_below, r.p_inside, r.p_above], strict=True)]
+    return [
+        fmt.percent_text(w, p)
+        for w, p in zip(whole, [r.p_below, r.p_inside, r.p_above], strict=True)
+    ]
 
 
 def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
@@ -252,7 +257,8 @@ def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...],
     lines = []
     for name in names:
         cells = tuple(
-            fmt.number(by_key[(name, h)].rmse, 2) if (name, h) in by_key else "\u2013" for h in shown
+            fmt.number(by_key[(name, h)].rmse, 2) if (name, h) in by_key else "\u2013"
+            for h in shown
         )
         lines.append(AccuracyLine(name, cells, name == "combination"))
     current = {m.model for m in a.models if m.in_current_round}
@@ -284,7 +290,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
     summary_h = sorted({h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h} | {policy_h})
     entries, overlay_rows, overlay_text = _overlay(a)
     acc_h, acc_lines, acc_text = _accuracy(a)
-    weights = {}
+    weights: dict[str, list[float]] = {}
     for w in a.combination["weights"]:
         weights.setdefault(w["model"], []).append(w["weight"])
     samples = [r.n_errors for r in a.horizons]
@@ -334,41 +340,69 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         accuracy_lines=acc_lines,
         accuracy_text=acc_text,
         weight_lines=tuple(
-            KeyValue(name, f"{fmt.number(min(ws), 2)}\u2013{fmt.number(max(ws), 2)}"
-                     if fmt.number(min(ws), 2) != fmt.number(max(ws), 2) else fmt.number(ws[0], 2))
+            KeyValue(
+                name,
+                f"{fmt.number(min(ws), 2)}\u2013{fmt.number(max(ws), 2)}"
+                if fmt.number(min(ws), 2) != fmt.number(max(ws), 2)
+                else fmt.number(ws[0], 2),
+            )
             for name, ws in weights.items()
         ),
         models=tuple(
             KeyValue(
                 m.model,
                 f"origins {m.first_origin} to {m.last_origin}; "
-                + ("in the current round" if m.in_current_round else "not in the current round: left out"),
+                + (
+                    "in the current round"
+                    if m.in_current_round
+                    else "not in the current round: left out"
+                ),
             )
             for m in a.models
         ),
         method=(
             KeyValue("Combination", f"{a.combination['method']} weights, per horizon"),
-            KeyValue("Error distribution", f"{u['distribution']}, fitted per horizon by maximum likelihood"),
-            KeyValue("Error window", "all past origins" if u["window"] == 0 else f"last {u['window']} origins with a known outcome, per horizon"),
+            KeyValue(
+                "Error distribution",
+                f"{u['distribution']}, fitted per horizon by maximum likelihood",
+            ),
+            KeyValue(
+                "Error window",
+                "all past origins"
+                if u["window"] == 0
+                else f"last {u['window']} origins with a known outcome, per horizon",
+            ),
             KeyValue(
                 "Centre",
                 "estimated: past average errors (bias) carry over into the centre"
                 if u["centre"] == "estimated"
                 else "the point forecast is the mode of the distribution",
             ),
-            KeyValue("Spread by horizon", "not allowed to shrink as the horizon lengthens" if u["monotone"] else "as fitted"),
-            KeyValue("Interval for inside", f"{int(100 * u['interval_level'])}% moving-block bootstrap, {u['bootstrap_replicates']} replicates"),
-            KeyValue("Path probabilities", f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}"),
+            KeyValue(
+                "Spread by horizon",
+                "not allowed to shrink as the horizon lengthens" if u["monotone"] else "as fitted",
+            ),
+            KeyValue(
+                "Interval for inside",
+                f"{int(100 * u['interval_level'])}% moving-block bootstrap, {u['bootstrap_replicates']} replicates",
+            ),
+            KeyValue(
+                "Path probabilities",
+                f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}",
+            ),
             KeyValue("Verbal scale", verbal.IPCC_AR5.name),
         ),
         inputs=tuple(
-            (i.role, i.path, i.sha256, str(i.rows) if i.rows is not None else "\u2013",
-             f"{i.first_period} to {i.last_period}" if i.first_period else "\u2013")
+            (
+                i.role,
+                i.path,
+                i.sha256,
+                str(i.rows) if i.rows is not None else "\u2013",
+                f"{i.first_period} to {i.last_period}" if i.first_period else "\u2013",
+            )
             for i in a.inputs
         ),
-        samples=(
-            KeyValue("Past errors per horizon", f"{min(samples)} to {max(samples)}"),
-        ),
+        samples=(KeyValue("Past errors per horizon", f"{min(samples)} to {max(samples)}"),),
         warnings=a.warnings,
         software=tuple(KeyValue(k, v) for k, v in a.software.items()),
     )

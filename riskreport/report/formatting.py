@@ -28,8 +28,8 @@ def number(value: float, digits: int = 1, *, signed: bool = False) -> str:
     --------
     >>> number(-0.04)
     '0.0'
-    >>> number(-1.25, 1)
-    '−1.3'
+    >>> number(-1.25, 1) == MINUS + "1.3"
+    True
     >>> number(0.2, 1, signed=True)
     '+0.2'
     """
@@ -89,7 +89,7 @@ def single_percent(probability: float) -> str:
 
 
 def points(value: float) -> str:
-    """A change in percentage points, signed: "+3 pp", "−2 pp", "0 pp"."""
+    """A change in percentage points, signed: "+3 pp", "-2 pp" (with a typographic minus), "0 pp"."""
     rounded = int(round_half_up(100 * value, 0))
     if rounded == 0:
         return "0 pp"

@@ -66,12 +66,18 @@ def _alt_probabilities(a: Assessment) -> str:
 def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], dict[str, str]]:
     """The charts as blocks for the template, and their SVG text by name."""
     made = [
-        (charts_module.outlook(a), _alt_outlook(a),
-         "Outlook: outcomes, the target band (hatched), the centre path (dotted) and the "
-         "50/80/90% probability bands, after staff judgement."),
-        (charts_module.band_probabilities(a), _alt_probabilities(a),
-         "Probability of inflation below, inside and above the band by horizon; shading is "
-         "the 90% bootstrap interval for inside."),
+        (
+            charts_module.outlook(a),
+            _alt_outlook(a),
+            "Outlook: outcomes, the target band (hatched), the centre path (dotted) and the "
+            "50/80/90% probability bands, after staff judgement.",
+        ),
+        (
+            charts_module.band_probabilities(a),
+            _alt_probabilities(a),
+            "Probability of inflation below, inside and above the band by horizon; shading is "
+            "the 90% bootstrap interval for inside.",
+        ),
     ]
     blocks = {
         chart.name: context_module.ChartBlock(
@@ -121,7 +127,7 @@ def pdf(text: str, created: dt.date) -> tuple[bytes, list[str]]:
     import weasyprint
     from weasyprint.urls import FatalURLFetchingError, URLFetcher
 
-    class InlineOnly(URLFetcher):  # type: ignore[misc]
+    class InlineOnly(URLFetcher):
         """Allow only inline ``data:`` URLs: a brief never reaches outside itself."""
 
         def fetch(self, url: str, headers: object = None) -> object:
@@ -136,7 +142,9 @@ def pdf(text: str, created: dt.date) -> tuple[bytes, list[str]]:
     epoch = dt.datetime(created.year, created.month, created.day, tzinfo=dt.UTC).timestamp()
     os.environ["SOURCE_DATE_EPOCH"] = str(int(epoch))
     try:
-        document = weasyprint.HTML(string=text, base_url=None, url_fetcher=InlineOnly(allowed_protocols={"data"}))
+        document = weasyprint.HTML(
+            string=text, base_url=None, url_fetcher=InlineOnly(allowed_protocols={"data"})
+        )
         data = document.write_pdf(pdf_variant="pdf/ua-1", pdf_identifier=b"riskreport-brief")
     finally:
         logger.removeHandler(counter)
