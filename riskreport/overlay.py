@@ -6,9 +6,13 @@ Each ``[[judgement]]`` entry maps the model-based distribution of every period f
 
 * ``shift`` (pp) moves the mode, so the whole distribution moves by that amount;
 * ``scale`` multiplies every distance from the mode (the spread);
-* ``skew`` (pp) adds that much to the mean minus the mode: the side above the mode is
-  stretched by (1 + k) and the side below by (1 - k), with k = skew / (scale * E|X - mode|).
-  A positive skew tilts the risks upwards.
+* ``skew`` (pp) adds that much to the mean minus the mode, by a two-piece tilt around the
+  mode (:class:`~riskreport.distributions.Tilted`: the side above the mode is stretched by
+  (1 + k) and the side below by (1 - k), k solved so that the mean minus the mode grows by
+  exactly ``skew`` after scaling). A positive skew tilts the risks upwards; on a normal
+  distribution the result is a two-piece normal.
+
+Order within an entry: tilt, then scale, then shift.
 
 Overlapping entries compose in the order written: the second acts on the result of the first.
 """
@@ -20,7 +24,7 @@ from dataclasses import dataclass
 from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.config import Judgement
-from riskreport.distributions import Adjusted, Distribution, mean_absolute_deviation_from_mode
+from riskreport.distributions import Adjusted, Distribution, Tilted, tilt_for_skew
 from riskreport.errors import InputError
 
 
@@ -37,21 +41,18 @@ class AppliedJudgement:
     periods: tuple[str, ...]
 
 
-def apply_one(dist: Distribution, judgement: Judgement) -> Adjusted:
+def apply_one(dist: Distribution, judgement: Judgement) -> Distribution:
     """Apply one overlay entry to one period's distribution.
 
     Raises
     ------
     ValueError
-        When the skew is too large for the spread (|k| >= 1 would fold the distribution).
+        When the skew is too large for the spread (no tilt with |k| <= 0.9 reaches it).
     """
-    stretch = 0.0
+    tilted = dist
     if judgement.skew != 0.0:
-        stretch = judgement.skew / (judgement.scale * mean_absolute_deviation_from_mode(dist))
-        if abs(stretch) >= 0.95:
-            limit = 0.95 * judgement.scale * mean_absolute_deviation_from_mode(dist)
-            raise ValueError(f"expected |skew| below {limit:.2f} pp for this period's spread")
-    return Adjusted(dist, shift=judgement.shift, scale=judgement.scale, stretch=stretch)
+        tilted = Tilted(dist, tilt_for_skew(dist, judgement.skew / judgement.scale))
+    return Adjusted(tilted, shift=judgement.shift, scale=judgement.scale)
 
 
 def apply(

@@ -7,7 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import stats
 
-from riskreport.distributions import Distribution, NormalFit, fit_normal_batch, innermost, pull_back
+from riskreport.distributions import Distribution, NormalFit, fit_normal_batch, innermost, rebase
 
 QUANTILE_LEVELS: tuple[float, ...] = (0.05, 0.1, 0.25, 0.5, 0.75, 0.9, 0.95)
 
@@ -71,9 +71,9 @@ def bootstrap_p_inside(
     n = errors.size
     index = block_indices(n, max(h + 1, round(n ** (1 / 3))), replicates, rng)
     loc, scale = fit_normal_batch(errors[index], mode=mode)
-    edges = pull_back(dist, np.array([lower, upper]))
-    scale = np.maximum(scale, 1e-12)
-    p = stats.norm.cdf((edges[1] - loc) / scale) - stats.norm.cdf((edges[0] - loc) / scale)
+    replicates_fit = NormalFit(loc=loc, scale=np.maximum(scale, 1e-12), loglik=np.nan, nobs=n)
+    chain = rebase(dist, replicates_fit)
+    p = chain.cdf(upper) - chain.cdf(lower)
     tail = (1 - level) / 2
     lo, hi = np.quantile(p, [tail, 1 - tail])
     return float(lo), float(hi)

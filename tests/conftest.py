@@ -1,0 +1,128 @@
+"""Shared fixtures: a small synthetic case written to a temporary folder, and a CLI runner."""
+
+from __future__ import annotations
+
+import csv
+import shutil
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from riskreport import cli
+
+REPO = Path(__file__).resolve().parents[1]
+DEMO = REPO / "example_inputs"
+
+
+@pytest.fixture
+def rng() -> np.random.Generator:
+    return np.random.default_rng(12345)
+
+
+def _label(i: int) -> str:
+    year, month = divmod(i, 12)
+    return f"{year:04d}-{month + 1:02d}"
+
+
+def _ordinal(year: int, month: int) -> int:
+    return year * 12 + month - 1
+
+
+@dataclass
+class Case:
+    """A small monthly case: 3 models, origins 2018-01..2024-12, horizons 0..3."""
+
+    folder: Path
+    forecasts: list[list[str]]
+    actuals: list[list[str]]
+    config: str
+
+    @property
+    def config_path(self) -> Path:
+        return self.folder / "config.toml"
+
+    def write(self) -> Path:
+        for name, rows in (("forecasts.csv", self.forecasts), ("actuals.csv", self.actuals)):
+            with (self.folder / name).open("w", newline="", encoding="utf-8") as handle:
+                csv.writer(handle, lineterminator="\n").writerows(rows)
+        self.config_path.write_text(self.config, encoding="utf-8")
+        return self.config_path
+
+
+CONFIG = """
+[brief]
+title = "Test brief"
+institution = "Test authority"
+as_of = "2024-12"
+frequency = "monthly"
+horizons = 3
+policy_horizon = 2
+
+[inputs]
+forecasts = "forecasts.csv"
+actuals = "actuals.csv"
+
+[target]
+midpoint = 2.0
+tolerance = 1.0
+
+[combination]
+method = "equal"
+
+[uncertainty]
+distribution = "normal"
+window = 0
+bootstrap_replicates = 100
+simulations = 2000
+
+[output]
+directory = "out"
+formats = ["json", "csv"]
+"""
+
+
+@pytest.fixture
+def case(tmp_path: Path) -> Case:
+    rng = np.random.default_rng(7)
+    first, as_of = _ordinal(2018, 1), _ordinal(2024, 12)
+    periods = range(first - 1, as_of)
+    truth = {p: 2.0 + 0.5 * np.sin(p / 9.0) for p in range(first - 1, as_of + 4)}
+    actuals = [["period", "value"]] + [[_label(p), f"{truth[p]:.3f}"] for p in periods]
+    forecasts = [["origin", "period", "model", "value"]]
+    for model, noise in (("a", 0.2), ("b", 0.3), ("c", 0.4)):
+        for origin in range(first, as_of + 1):
+            for h in range(4):
+                value = truth[origin + h] + rng.normal(0, noise * (1 + h / 3))
+                forecasts.append([_label(origin), _label(origin + h), model, f"{value:.3f}"])
+    return Case(tmp_path, forecasts, actuals, CONFIG)
+
+
+@dataclass
+class Result:
+    code: int
+    stdout: str
+    stderr: str
+
+
+@pytest.fixture
+def run(capsys: pytest.CaptureFixture[str]) -> Callable[..., Result]:
+    def runner(*args: str) -> Result:
+        code = cli.main([str(a) for a in args])
+        captured = capsys.readouterr()
+        return Result(code, captured.out, captured.err)
+
+    return runner
+
+
+@pytest.fixture(scope="session")
+def demo_build(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """The demo scenario built once into a temporary folder (all formats)."""
+    folder = tmp_path_factory.mktemp("demo")
+    inputs = folder / "inputs"
+    shutil.copytree(DEMO, inputs, ignore=shutil.ignore_patterns("__pycache__", "*.py"))
+    code = cli.main(["build", str(inputs / "config.toml"), "--out", str(folder / "out"), "-q"])
+    assert code == 0
+    return folder

@@ -1,0 +1,77 @@
+"""The normal error distribution and its band probabilities against scipy and checks.md."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from riskreport import distributions
+from riskreport.distributions import Adjusted
+from riskreport.probabilities import QUANTILE_LEVELS, band_probabilities
+
+# Worked example of the empirical approach, checks.md section 7 ([C], numpy/scipy):
+# errors e = actual - forecast, point forecast 2.4, band [1, 3].
+E = np.array([-1.1, -0.7, -0.5, -0.4, -0.2, -0.1, 0.0, 0.1, 0.2, 0.3, 0.4, 0.6, 0.8, 1.3, 1.9])
+
+
+def test_fit_matches_scipy_maximum_likelihood(rng: np.random.Generator) -> None:
+    # scipy.stats.norm.fit is the normal MLE (divisor n), an independent implementation.
+    sample = rng.normal(0.3, 1.7, size=200)
+    fitted = distributions.fit("normal", sample)
+    loc, scale = stats.norm.fit(sample)
+    assert fitted.loc == pytest.approx(loc, abs=1e-12)
+    assert fitted.scale == pytest.approx(scale, abs=1e-12)
+    assert fitted.loglik == pytest.approx(stats.norm.logpdf(sample, loc, scale).sum(), abs=1e-9)
+
+
+def test_fixed_mode_gives_rmse() -> None:
+    # checks.md section 7: RMSE = 0.76419893 for these errors.
+    fitted = distributions.fit("normal", E, mode=0.0)
+    assert fitted.loc == 0.0
+    assert fitted.scale == pytest.approx(0.76419893, abs=1e-8)
+
+
+def test_worked_example_centred_on_the_forecast() -> None:
+    # checks.md section 7: "Normal with sd = RMSE centred on the forecast:
+    # P = (0.033477, 0.750336, 0.216187)".
+    outcome = Adjusted(distributions.fit("normal", E, mode=0.0), shift=2.4)
+    p = band_probabilities(outcome, 1.0, 3.0)
+    assert (p.p_below, p.p_inside, p.p_above) == pytest.approx(
+        (0.033477, 0.750336, 0.216187), abs=1e-6
+    )
+
+
+def test_estimated_centre_against_scipy() -> None:
+    # Bias carried over: N(2.4 + mean(e), MLE sd); scipy.stats.norm gives the oracle.
+    outcome = Adjusted(distributions.fit("normal", E), shift=2.4)
+    oracle = stats.norm(2.4 + E.mean(), E.std())
+    p = band_probabilities(outcome, 1.0, 3.0)
+    assert p.p_below == pytest.approx(oracle.cdf(1.0), abs=1e-12)
+    assert p.p_inside == pytest.approx(oracle.cdf(3.0) - oracle.cdf(1.0), abs=1e-12)
+    assert p.p_above == pytest.approx(oracle.sf(3.0), abs=1e-12)
+    assert outcome.ppf(QUANTILE_LEVELS) == pytest.approx(oracle.ppf(QUANTILE_LEVELS), abs=1e-12)
+
+
+@pytest.mark.parametrize(("lower", "upper"), [(1.0, 3.0), (-5.0, 0.0), (2.0, 2.1), (0.0, 40.0)])
+def test_probabilities_sum_to_one(lower: float, upper: float) -> None:
+    outcome = Adjusted(distributions.fit("normal", E), shift=2.4, scale=1.3)
+    p = band_probabilities(outcome, lower, upper)
+    assert min(p.p_below, p.p_inside, p.p_above) >= 0
+    assert p.p_below + p.p_inside + p.p_above == pytest.approx(1.0, abs=1e-14)
+
+
+def test_scaling_about_the_mode_against_scipy() -> None:
+    # Spread x1.5 around the mode of N(0.2, 0.5), then shift 2: N(2.2, 0.75).
+    base = distributions.NormalFit(loc=0.2, scale=0.5, loglik=0.0, nobs=10)
+    moved = Adjusted(base, shift=2.0, scale=1.5)
+    xs = np.linspace(-1, 5, 13)
+    assert moved.cdf(xs) == pytest.approx(stats.norm.cdf(xs, 2.2, 0.75), abs=1e-14)
+    assert moved.mode == pytest.approx(2.2)
+
+
+def test_fit_rejects_degenerate_samples() -> None:
+    with pytest.raises(ValueError, match="at least two"):
+        distributions.fit("normal", [1.0])
+    with pytest.raises(ValueError, match="all errors are equal"):
+        distributions.fit("normal", [0.5, 0.5, 0.5])

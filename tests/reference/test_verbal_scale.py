@@ -1,0 +1,37 @@
+"""IPCC AR5 likelihood terms, narrowest range containing p.
+
+Mastrandrea et al. (2010), Guidance Note for Lead Authors of the IPCC Fifth Assessment
+Report on Consistent Treatment of Uncertainties, Table 1; mapping oracles from checks.md
+section 9 (core terms, narrowest-range rule, ties at 33% and 66% to the middle term).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from riskreport.verbal import term
+
+
+@pytest.mark.parametrize(
+    ("p", "expected"),
+    [
+        (0.995, "virtually certain"),
+        (0.97, "very likely"),
+        (0.92, "very likely"),
+        (0.80, "likely"),
+        (0.55, "about as likely as not"),
+        (0.20, "unlikely"),
+        (0.07, "very unlikely"),
+        (0.03, "very unlikely"),
+        (0.005, "exceptionally unlikely"),
+        (0.33, "about as likely as not"),
+        (0.66, "about as likely as not"),
+    ],
+)
+def test_ipcc_terms(p: float, expected: str) -> None:
+    assert term(p) == expected
+
+
+def test_out_of_range() -> None:
+    with pytest.raises(ValueError, match="probability"):
+        term(1.2)

@@ -1,0 +1,191 @@
+"""The demo scenario end to end: files, JSON contract, PDF text, reproducibility, safety."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import re
+from collections.abc import Callable
+from pathlib import Path
+
+import pytest
+from pypdf import PdfReader
+
+from tests.conftest import DEMO, Case, Result
+
+AS_OF = "2026-11"
+HORIZON_KEYS = {
+    "period",
+    "h",
+    "band",
+    "centre",
+    "p_below",
+    "p_inside",
+    "p_above",
+    "p_inside_interval",
+    "quantiles",
+    "distribution",
+    "n_errors",
+}
+
+
+def _out(demo_build: Path) -> Path:
+    return demo_build / "out"
+
+
+def _pdf_text(path: Path) -> str:
+    return "\n".join(page.extract_text() for page in PdfReader(path).pages)
+
+
+def test_all_outputs_exist(demo_build: Path) -> None:
+    out = _out(demo_build)
+    for name in (
+        f"brief-{AS_OF}.pdf",
+        f"brief-{AS_OF}.html",
+        f"assessment-{AS_OF}.json",
+        f"tables/horizons-{AS_OF}.csv",
+        f"charts/outlook-{AS_OF}.svg",
+        "runs.jsonl",
+    ):
+        assert (out / name).is_file(), name
+    assert not [p for p in out.iterdir() if p.name.startswith(".riskreport-")]
+
+
+def test_json_contract_keys(demo_build: Path) -> None:
+    data = json.loads((_out(demo_build) / f"assessment-{AS_OF}.json").read_text("utf-8"))
+    for key in (
+        "as_of",
+        "frequency",
+        "title",
+        "institution",
+        "target",
+        "horizons",
+        "model_based_horizons",
+        "judgement",
+        "path",
+        "combination",
+        "accuracy",
+        "change",
+        "inputs",
+        "software",
+        "warnings",
+    ):
+        assert key in data, key
+    assert data["as_of"] == AS_OF
+    assert len(data["horizons"]) == 25
+    for row in data["horizons"]:
+        assert HORIZON_KEYS <= set(row)
+        assert set(row["quantiles"]) == {"0.05", "0.1", "0.25", "0.5", "0.75", "0.9", "0.95"}
+    assert data["horizons"] != data["model_based_horizons"]  # the demo has an overlay
+    assert {"period", "h", "p_inside_throughout", "p_back_inside_by"} <= set(data["path"][0])
+    assert {"model", "h", "n", "mae", "rmse", "mean_error"} <= set(data["accuracy"][0])
+    assert data["combination"]["method"] == "equal"
+    assert data["change"] is None
+
+
+def test_pdf_carries_the_headline_numbers_from_the_json(demo_build: Path) -> None:
+    out = _out(demo_build)
+    data = json.loads((out / f"assessment-{AS_OF}.json").read_text("utf-8"))
+    policy = next(r for r in data["horizons"] if r["h"] == data["policy_horizon"])
+    text = " ".join(_pdf_text(out / f"brief-{AS_OF}.pdf").split())
+    sentence = re.search(
+        r"At the policy horizon \((\S+), (\d+) months ahead\)(.*?)below it (\d+)%", text
+    )
+    assert sentence is not None, text[:600]
+    assert sentence.group(1) == policy["period"]
+    inside = int(re.search(r"\((\d+)%\) to be inside", sentence.group(0)).group(1))
+    above = int(re.search(r"above the band is (\d+)%", sentence.group(0)).group(1))
+    below = int(sentence.group(4))
+    assert inside + above + below == 100
+    for printed, p in (
+        (inside, policy["p_inside"]),
+        (above, policy["p_above"]),
+        (below, policy["p_below"]),
+    ):
+        assert abs(printed - 100 * p) < 1.0
+
+
+def test_pdf_has_cautions_and_page_numbers(demo_build: Path) -> None:
+    reader = PdfReader(_out(demo_build) / f"brief-{AS_OF}.pdf")
+    text = " ".join(_pdf_text(_out(demo_build) / f"brief-{AS_OF}.pdf").split())
+    for phrase in (
+        "model estimates built from the errors of past forecasts",
+        "Future errors may differ",
+        "small sample",
+        "does not replace, the judgement of the policy committee",
+        "IPCC AR5",
+        "both edges count as inside",
+    ):
+        assert phrase in text, phrase
+    pages = len(reader.pages)
+    assert f"Page 1 of {pages}" in text
+    assert f"Page {pages} of {pages}" in text
+    assert reader.metadata.title == f"Inflation outlook and the target band ({AS_OF})"
+    assert reader.trailer["/Root"]["/Lang"] == "en"
+    assert "/StructTreeRoot" in reader.trailer["/Root"]  # tagged PDF
+
+
+def test_html_is_self_contained(demo_build: Path) -> None:
+    html = (_out(demo_build) / f"brief-{AS_OF}.html").read_text("utf-8")
+    sources = re.findall(r'src="([^"]*)"', html)
+    assert sources
+    assert all(s.startswith("data:image/svg+xml;base64,") for s in sources)
+    assert "http://" not in html
+    assert "https://" not in html
+    assert all(alt.strip() for alt in re.findall(r'alt="([^"]*)"', html))
+
+
+def test_rebuild_is_byte_identical(
+    demo_build: Path, tmp_path: Path, run: Callable[..., Result]
+) -> None:
+    result = run("build", demo_build / "inputs" / "config.toml", "--out", tmp_path, "-q")
+    assert result.code == 0, result.stderr
+    first = _out(demo_build)
+    for path in tmp_path.rglob("*"):
+        if path.is_file() and path.name != "runs.jsonl":
+            twin = first / path.relative_to(tmp_path)
+            assert (
+                hashlib.sha256(path.read_bytes()).digest()
+                == hashlib.sha256(twin.read_bytes()).digest()
+            ), path.name
+
+
+def test_demo_command_and_json_summary(tmp_path: Path, run: Callable[..., Result]) -> None:
+    result = run("demo", "--out", tmp_path, "--json")
+    assert result.code == 0, result.stderr
+    summary = json.loads(result.stdout)
+    assert summary["status"] == "ok"
+    assert summary["headline"]["h"] == 18
+    assert all(len(o["sha256"]) == 64 for o in summary["outputs"])
+    assert any(o["path"].endswith(f"brief-{AS_OF}.pdf") for o in summary["outputs"])
+
+
+def test_demo_inputs_are_what_the_generator_makes(tmp_path: Path) -> None:
+    # The committed demo files are reproducible from the seeded script.
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("generate", DEMO / "generate.py")
+    assert spec is not None
+    assert spec.loader is not None
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    module.HERE = tmp_path
+    module.main()
+    for name in ("forecasts.csv", "actuals.csv"):
+        assert (tmp_path / name).read_bytes() == (DEMO / name).read_bytes(), name
+
+
+@pytest.mark.parametrize("field", ["title", "institution", "reason"])
+def test_hostile_text_is_escaped(case: Case, run: Callable[..., Result], field: str) -> None:
+    hostile = "<script>alert(1)</script> & <img src=file:///etc/passwd>"
+    escaped = "&lt;script&gt;alert(1)&lt;/script&gt; &amp; &lt;img src=file:///etc/passwd&gt;"
+    if field == "reason":
+        case.config += f'\n[[judgement]]\nfrom = "2025-01"\nto = "2025-01"\nshift = 0.1\nreason = \'{hostile}\'\n'
+    else:
+        case.config = re.sub(rf'{field} = "[^"]*"', f"{field} = '{hostile}'", case.config, count=1)
+    case.config = case.config.replace('formats = ["json", "csv"]', 'formats = ["html"]')
+    result = run("build", case.write(), "--out", case.folder / "o", "-q")
+    assert result.code == 0, result.stderr
+    html = (case.folder / "o" / "brief-2024-12.html").read_text("utf-8")
+    assert "<script>" not in html
+    assert escaped in html

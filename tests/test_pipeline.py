@@ -1,0 +1,159 @@
+"""The pipeline's properties: no look-ahead, probabilities that add up, the overlay and
+model handling (design.md, Statistics)."""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+import pytest
+from scipy import stats
+
+import riskreport
+from riskreport import combination
+from tests.conftest import Case, Result
+
+
+def _json(case: Case, **kwargs: str) -> dict:
+    return riskreport.assess(case.write(), **kwargs).to_dict()
+
+
+def test_probabilities_add_to_one_at_every_horizon(case: Case) -> None:
+    data = _json(case)
+    for row in data["horizons"] + data["model_based_horizons"]:
+        assert row["p_below"] + row["p_inside"] + row["p_above"] == pytest.approx(1.0, abs=1e-12)
+        lo, hi = row["p_inside_interval"]
+        assert 0 <= lo <= hi <= 1
+        q = [row["quantiles"][k] for k in ("0.05", "0.1", "0.25", "0.5", "0.75", "0.9", "0.95")]
+        assert q == sorted(q)
+
+
+def test_no_look_ahead(case: Case) -> None:
+    # Outcomes after as_of and forecast rounds after as_of must not move anything.
+    before = _json(case, as_of="2023-06")
+    for row in case.actuals[1:]:
+        if row[0] > "2023-06":
+            row[1] = f"{float(row[1]) + 5.0:.3f}"
+    for row in case.forecasts[1:]:
+        if row[0] > "2023-06":
+            row[3] = f"{float(row[3]) - 3.0:.3f}"
+    after = _json(case, as_of="2023-06")
+    for key in ("horizons", "path", "accuracy", "combination"):
+        assert after[key] == before[key]
+
+
+def test_rows_order_does_not_matter(case: Case) -> None:
+    before = _json(case)
+    header, rows = case.forecasts[0], case.forecasts[1:]
+    case.forecasts = [header, *rows[::-1]]
+    after = _json(case)
+    assert after["horizons"] == before["horizons"]
+
+
+def test_overlay_moves_only_its_periods(case: Case) -> None:
+    case.config += (
+        '\n[[judgement]]\nfrom = "2025-02"\nto = "2025-02"\nshift = 0.3\nscale = 1.2\n'
+        'skew = 0.1\nreason = "test"\n'
+    )
+    data = _json(case)
+    for final, base in zip(data["horizons"], data["model_based_horizons"], strict=True):
+        if final["period"] == "2025-02":
+            assert final["centre"] == pytest.approx(base["centre"] + 0.3, abs=1e-12)
+            assert final["spread"] > base["spread"] * 1.2  # the tilt adds spread too
+            assert final["p_inside"] != base["p_inside"]
+        else:
+            assert final == base
+    assert data["judgement"][0]["periods"] == ["2025-02"]
+    assert data["judgement"][0]["reason"] == "test"
+
+
+def test_skew_adds_mean_minus_mode(case: Case) -> None:
+    # The overlay's skew unit: pp added to mean minus mode (checked by quadrature here).
+    from riskreport import config as config_module
+    from riskreport import distributions
+    from riskreport.config import Judgement
+    from riskreport.overlay import apply_one
+
+    base = distributions.Adjusted(distributions.fit("normal", [-1.0, -0.2, 0.1, 0.4, 0.9]), shift=2)
+    judged = apply_one(base, Judgement(0, 0, shift=0.0, scale=1.5, skew=0.25, reason="r"))
+    before = distributions.mean(base) - base.mode
+    after = distributions.mean(judged) - judged.mode
+    assert after - 1.5 * before == pytest.approx(0.25, abs=1e-8)
+    assert config_module  # the config module defines Judgement's documented unit
+
+
+def test_spread_does_not_shrink_with_horizon(case: Case) -> None:
+    data = _json(case)
+    spreads = [row["spread"] for row in data["model_based_horizons"]]
+    assert np.all(np.diff(spreads) >= -1e-12)
+
+
+def test_model_without_current_round_is_left_out(case: Case) -> None:
+    case.forecasts = [r for r in case.forecasts if not (r[2] == "c" and r[0] == "2024-12")]
+    assessment = riskreport.assess(case.write())
+    weights = assessment.combination["weights"]
+    assert {w["model"] for w in weights} == {"a", "b"}
+    assert all(w["weight"] == pytest.approx(0.5) for w in weights)
+    assert any("'c' has no forecast in the current round" in w for w in assessment.warnings)
+
+
+def test_single_model_file_is_a_given_combination(case: Case) -> None:
+    case.forecasts = [[r[0], r[1], r[3]] for r in case.forecasts if r[2] in ("model", "a")]
+    case.forecasts[0] = ["origin", "period", "value"]
+    data = _json(case)
+    assert data["combination"]["method"] == "given"
+
+
+def test_given_with_several_models_is_refused(run: Callable[..., Result], case: Case) -> None:
+    case.config = case.config.replace('method = "equal"', 'method = "given"')
+    result = run("check", case.write())
+    assert result.code == 2
+    assert "[combination] method" in result.stderr
+
+
+def test_equal_weights_api() -> None:
+    w = combination.weights("equal", np.ones((5, 4)), np.ones(5))
+    assert w.sum() == pytest.approx(1.0)
+    assert np.allclose(w, 0.25)
+
+
+def test_estimated_probabilities_match_a_known_law(tmp_path: Path) -> None:
+    """Simulation: errors drawn from N(0.2, 0.6) at every horizon; with 300 past errors the
+    estimated band probabilities land within sampling error of the true ones (scipy)."""
+    rng = np.random.default_rng(2024)
+    rows = [["origin", "period", "value"]]
+    actual = [["period", "value"]]
+    n = 300
+
+    def label(i: int) -> str:
+        return f"{2000 + i // 12:04d}-{i % 12 + 1:02d}"
+
+    for origin in range(n + 2):
+        actual.append([label(origin), f"{2.0 + rng.normal(0.2, 0.6):.6f}"])  # 2.0 + error
+        rows.append([label(origin), label(origin), "2.0"])
+        rows.append([label(origin), label(origin + 1), "2.0"])
+    actual = actual[:-1]  # the current round's outcome is not known
+    for name, table in (("f.csv", rows), ("a.csv", actual)):
+        (tmp_path / name).write_text("\n".join(",".join(r) for r in table) + "\n")
+    last = label(n + 1)
+    (tmp_path / "c.toml").write_text(
+        f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{last}"\nhorizons = 1\n'
+        'policy_horizon = 0\n[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n'
+        "[target]\nlower = 1.5\nupper = 3.0\n[uncertainty]\nwindow = 0\n"
+    )
+    result = riskreport.assess(tmp_path / "c.toml").horizons[0]
+    truth = stats.norm(2.2, 0.6)
+    p_inside = truth.cdf(3.0) - truth.cdf(1.5)
+    se = np.sqrt(p_inside * (1 - p_inside) / n)  # a generous yardstick for the fitted value
+    assert result.p_inside == pytest.approx(p_inside, abs=3 * se)
+    assert result.p_below == pytest.approx(truth.cdf(1.5), abs=3 * se)
+    lo, hi = result.p_inside_interval
+    assert lo < p_inside < hi
+
+
+def test_json_is_byte_identical_for_identical_inputs(case: Case) -> None:
+    config = case.write()
+    assert riskreport.assess(config).to_json() == riskreport.assess(config).to_json()
+    json.loads(riskreport.assess(config).to_json())

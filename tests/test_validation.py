@@ -1,0 +1,194 @@
+"""Every class of bad input: exit 2, one line on stderr naming file, row and column, no
+traceback, nothing written (design.md, Inputs)."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from pathlib import Path
+
+import pytest
+
+from tests.conftest import Case, Result
+
+
+def _fails(run: Callable[..., Result], case: Case, *expected: str) -> str:
+    config = case.write()
+    out = case.folder / "out"
+    result = run("build", config, "--out", out)
+    assert result.code == 2, result.stderr
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1, result.stderr
+    assert "Traceback" not in result.stderr
+    for text in expected:
+        assert text in lines[0], lines[0]
+    assert not out.exists(), "bad input must leave no output"
+    return lines[0]
+
+
+def test_good_case_builds(run: Callable[..., Result], case: Case) -> None:
+    config = case.write()
+    result = run("build", config, "--out", case.folder / "out", "-q")
+    assert result.code == 0, result.stderr
+    assert (case.folder / "out" / "assessment-2024-12.json").is_file()
+
+
+def test_missing_column(run: Callable[..., Result], case: Case) -> None:
+    case.forecasts = [row[:3] for row in case.forecasts]
+    _fails(run, case, "forecasts.csv", "row 1", "missing column 'value'")
+
+
+def test_unparseable_period(run: Callable[..., Result], case: Case) -> None:
+    case.forecasts[5][0] = "2019/03"
+    _fails(run, case, "forecasts.csv", "row 6", "column 'origin'", "'2019/03'")
+
+
+@pytest.mark.parametrize("bad", ["abc", "inf", "nan", ""])
+def test_non_numeric_or_non_finite_value(run: Callable[..., Result], case: Case, bad: str) -> None:
+    case.actuals[9][1] = bad
+    _fails(run, case, "actuals.csv", "row 10", "column 'value'", "finite number")
+
+
+def test_duplicate_model_origin_period(run: Callable[..., Result], case: Case) -> None:
+    case.forecasts.append(list(case.forecasts[3]))
+    line = _fails(run, case, "forecasts.csv", f"row {len(case.forecasts)}", "duplicate")
+    assert "row 4" in line
+
+
+def test_origin_after_period(run: Callable[..., Result], case: Case) -> None:
+    case.forecasts[7][0], case.forecasts[7][1] = "2019-05", "2019-02"
+    _fails(run, case, "forecasts.csv", "row 8", "column 'origin'", "origin after period")
+
+
+def test_mixed_frequencies(run: Callable[..., Result], case: Case) -> None:
+    case.forecasts[12][1] = "2019-Q2"
+    _fails(run, case, "forecasts.csv", "row 13", "column 'period'", "mixed frequencies")
+
+
+def test_as_of_absent(run: Callable[..., Result], case: Case) -> None:
+    case.config = case.config.replace('as_of = "2024-12"', 'as_of = "2025-06"')
+    _fails(run, case, "forecasts.csv", "as_of 2025-06 is absent")
+
+
+def test_band_lower_not_below_upper(run: Callable[..., Result], case: Case) -> None:
+    case.config = case.config.replace("midpoint = 2.0\ntolerance = 1.0", "lower = 3.0\nupper = 3.0")
+    _fails(run, case, "config.toml", "[target] lower", "lower < upper")
+
+
+def test_negative_tolerance(run: Callable[..., Result], case: Case) -> None:
+    case.config = case.config.replace("tolerance = 1.0", "tolerance = -1.0")
+    _fails(run, case, "config.toml", "[target] tolerance")
+
+
+def test_horizon_without_track_record(run: Callable[..., Result], case: Case) -> None:
+    # Only the last two rounds: no forecast of horizon 3 has a known outcome.
+    case.forecasts = [case.forecasts[0]] + [
+        r for r in case.forecasts[1:] if r[0] in ("2024-11", "2024-12")
+    ]
+    _fails(run, case, "forecasts.csv", "horizon", "no track record")
+
+
+def test_unknown_config_key(run: Callable[..., Result], case: Case) -> None:
+    case.config = case.config.replace("tolerance = 1.0", "tolerence = 1.0")
+    _fails(run, case, "config.toml", "[target] tolerence", "unknown key")
+
+
+def test_invalid_toml(run: Callable[..., Result], case: Case) -> None:
+    case.config = case.config + "\n[brief\n"
+    _fails(run, case, "config.toml", "invalid TOML")
+
+
+def test_missing_input_file(run: Callable[..., Result], case: Case) -> None:
+    case.config = case.config.replace('"actuals.csv"', '"missing.csv"')
+    _fails(run, case, "config.toml", "[inputs] actuals", "file not found")
+
+
+def test_judgement_scale_must_be_positive(run: Callable[..., Result], case: Case) -> None:
+    case.config += '\n[[judgement]]\nfrom = "2025-01"\nto = "2025-02"\nscale = 0\nreason = "x"\n'
+    _fails(run, case, "config.toml", "[judgement 1] scale", "positive")
+
+
+def test_judgement_to_before_from(run: Callable[..., Result], case: Case) -> None:
+    case.config += '\n[[judgement]]\nfrom = "2025-03"\nto = "2025-01"\nreason = "x"\n'
+    _fails(run, case, "config.toml", "[judgement 1] to")
+
+
+def test_judgement_outside_reported_periods(run: Callable[..., Result], case: Case) -> None:
+    case.config += '\n[[judgement]]\nfrom = "2030-01"\nto = "2030-02"\nreason = "x"\n'
+    _fails(run, case, "config.toml", "[judgement 1] from", "covers no reported period")
+
+
+def test_check_reports_bad_input_the_same_way(run: Callable[..., Result], case: Case) -> None:
+    case.actuals[3][0] = "March 2018"
+    config = case.write()
+    result = run("check", config)
+    assert result.code == 2
+    assert "actuals.csv, row 4, column 'period'" in result.stderr
+
+
+def test_json_summary_on_error(run: Callable[..., Result], case: Case) -> None:
+    case.actuals[3][1] = "x"
+    config = case.write()
+    result = run("build", config, "--json")
+    assert result.code == 2
+    assert '"status": "error"' in result.stdout
+
+
+def test_bom_is_tolerated(run: Callable[..., Result], case: Case) -> None:
+    config = case.write()
+    path = case.folder / "actuals.csv"
+    path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    assert run("check", config, "-q").code == 0
+
+
+def test_xlsx_input_with_row_numbers(run: Callable[..., Result], case: Case) -> None:
+    import pandas as pd
+
+    case.write()
+    frame = pd.read_csv(case.folder / "actuals.csv", dtype=str)
+    frame.loc[4, "value"] = "n/a"
+    frame.to_excel(case.folder / "actuals.xlsx", index=False)
+    case.config = case.config.replace('"actuals.csv"', '"actuals.xlsx"')
+    _fails(run, case, "actuals.xlsx", "row 6", "column 'value'")
+
+
+def test_xlsx_dates_read_as_months(run: Callable[..., Result], case: Case) -> None:
+    import pandas as pd
+
+    case.write()
+    frame = pd.read_csv(case.folder / "actuals.csv", dtype=str)
+    frame["period"] = pd.to_datetime(frame["period"] + "-01")  # what a spreadsheet makes
+    frame["value"] = frame["value"].astype(float)
+    frame.to_excel(case.folder / "actuals.xlsx", index=False)
+    case.config = case.config.replace('"actuals.csv"', '"actuals.xlsx"')
+    config = case.write()
+    (case.folder / "actuals.csv").unlink()
+    assert run("check", config, "-q").code == 0
+
+
+def test_existing_output_is_not_replaced(run: Callable[..., Result], case: Case) -> None:
+    config = case.write()
+    out = case.folder / "out"
+    assert run("build", config, "--out", out, "-q").code == 0
+    first = (out / "assessment-2024-12.json").read_bytes()
+    # Identical inputs: the files are identical, so a re-run succeeds and changes nothing.
+    assert run("build", config, "--out", out, "-q").code == 0
+    case.config = case.config.replace("tolerance = 1.0", "tolerance = 1.5")
+    case.write()
+    result = run("build", config, "--out", out)
+    assert result.code == 2
+    assert "--force" in result.stderr
+    assert (out / "assessment-2024-12.json").read_bytes() == first
+    assert run("build", config, "--out", out, "--force", "-q").code == 0
+    assert (out / "assessment-2024-12.json").read_bytes() != first
+    records = (out / "runs.jsonl").read_text(encoding="utf-8").splitlines()
+    assert len(records) == 4
+
+
+def test_as_of_override(run: Callable[..., Result], case: Case, tmp_path: Path) -> None:
+    config = case.write()
+    result = run("build", config, "--as-of", "2024-06", "--out", tmp_path / "o", "-q")
+    assert result.code == 0, result.stderr
+    assert (tmp_path / "o" / "assessment-2024-06.json").is_file()
+    bad = run("build", config, "--as-of", "2024-Q2", "--out", tmp_path / "p")
+    assert bad.code == 2
+    assert "--as-of" in bad.stderr
