@@ -145,7 +145,7 @@ def _row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
         below=fmt.percent_text(below, r.p_below),
         inside=fmt.percent_text(inside, r.p_inside),
         above=fmt.percent_text(above, r.p_above),
-        interval=f"{fmt.single_percent(lo)}\u2013{fmt.single_percent(hi)}",
+        interval=f"{fmt.single_percent(lo)} to {fmt.single_percent(hi)}",
         is_policy=r.h == policy_h,
     )
 
@@ -263,16 +263,18 @@ def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...],
         lines.append(AccuracyLine(name, cells, name == "combination"))
     current = {m.model for m in a.models if m.in_current_round}
     left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
-    best = []
+    best: dict[str, list[str]] = {}
     for h in shown:
         candidates = [by_key[(n, h)] for n in names if (n, h) in by_key and n in current]
         if candidates:
             winner = min(candidates, key=lambda r: r.rmse)
-            best.append(f"{winner.model} at h = {h}")
+            best.setdefault(winner.model, []).append(str(h))
+    leaders = "; ".join(f"{model} (h = {', '.join(hs)})" for model, hs in best.items())
     text = (
         "Root mean square error (pp) over the error window; each forecaster is scored on the "
         "rounds in that window where it gave a forecast. Lowest among the models in the "
-        f"current round: {', '.join(best)}. Whether these differences are statistically "
+        f"current round: {leaders}. "
+        "Whether these differences are statistically "
         "significant is not yet tested in this brief."
     )
     if left_out:
