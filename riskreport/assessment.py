@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from riskreport.overlay import AppliedJudgement
-from riskreport.track_record import AccuracyRow
+from riskreport.track_record import AccuracyRow, TestRow
 
 
 @dataclass(frozen=True)
@@ -102,6 +102,7 @@ class Assessment:
     combination: dict[str, Any]
     models: tuple[ModelStatus, ...]
     accuracy: tuple[AccuracyRow, ...]
+    tests: tuple[TestRow, ...]
     uncertainty: dict[str, Any]
     history: tuple[Observation, ...]
     change: dict[str, Any] | None

@@ -32,7 +32,7 @@ from riskreport.errors import InputError
 # Families that this version can fit; the others are accepted by the contract but refused
 # with a clear message until they are built.
 AVAILABLE_DISTRIBUTIONS: tuple[DistributionChoice, ...] = ("normal",)
-AVAILABLE_COMBINATIONS: tuple[CombinationMethod, ...] = ("equal", "given")
+AVAILABLE_COMBINATIONS: tuple[CombinationMethod, ...] = COMBINATION_METHODS
 AVAILABLE_BASES: tuple[Basis, ...] = ("period",)
 VERBAL_SCALES = ("ipcc-ar5",)
 
@@ -92,6 +92,7 @@ class Config:
     basis: Basis
     schedule: tuple[BandChange, ...]
     combination: CombinationMethod
+    combination_window: int
     distribution: DistributionChoice
     window: int
     centre: Centre
@@ -134,7 +135,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
     },
     "inputs": {"forecasts", "actuals", "error_quantiles"},
     "target": {"midpoint", "tolerance", "lower", "upper", "basis", "schedule"},
-    "combination": {"method"},
+    "combination": {"method", "window"},
     "uncertainty": {
         "distribution",
         "window",
@@ -418,6 +419,7 @@ def load(path: str | Path) -> Config:
         basis=_basis(target),
         schedule=_schedule(path, target.table.get("schedule"), frequency),
         combination=method,
+        combination_window=combination.integer("window", 0, minimum=0),
         distribution=distribution,
         window=uncertainty.integer("window", 120, minimum=0),
         centre=cast(Centre, uncertainty.choice("centre", CENTRES, "estimated")),

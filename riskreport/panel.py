@@ -31,6 +31,9 @@ class Panel:
     last_outcome
         origins: the outcome of the period before each origin (the no-change forecast),
         NaN where unknown.
+    series, series_start
+        The outcome series known at ``as_of`` (NaN where missing) and the ordinal of its
+        first entry.
     """
 
     models: tuple[str, ...]
@@ -38,6 +41,8 @@ class Panel:
     forecasts: np.ndarray
     outcomes: np.ndarray
     last_outcome: np.ndarray
+    series: np.ndarray
+    series_start: int
 
     @property
     def max_h(self) -> int:
@@ -72,4 +77,6 @@ def build(forecasts: Forecasts, actuals: Actuals, *, as_of: int, max_h: int) -> 
         forecasts=cube,
         outcomes=outcomes,
         last_outcome=last_outcome,
+        series=series[: as_of - span_start + 1],
+        series_start=span_start,
     )

@@ -30,13 +30,14 @@ from riskreport.assessment import (
 )
 from riskreport.config import Config
 from riskreport.errors import (
+    CombinationFallbackWarning,
     InputError,
     ModelLeftOutWarning,
     RiskReportWarning,
     SmallSampleWarning,
 )
 from riskreport.inputs import Actuals, Forecasts, read_actuals, read_forecasts
-from riskreport.track_record import accuracy_rows, error_matrix, window_mask
+from riskreport.track_record import error_matrix, evaluate, window_mask
 
 SMALL_SAMPLE = (
     30  # fewer errors than this at a horizon earns a warning (common practice, no source)
@@ -318,7 +319,15 @@ def _assess(cfg: Config) -> Assessment:
                 stacklevel=2,
             )
     method = _method(cfg, fc)
-    combo = combination_module.combine(method, panel)
+    combo = combination_module.combine(method, panel, window=cfg.combination_window)
+    for h in np.flatnonzero(combo.fallback):
+        warnings.warn(
+            f"Too short a history for '{method}' weights at horizon {h} "
+            f"({combo.rows[h]} past rows); equal weights are used there.",
+            CombinationFallbackWarning,
+            stacklevel=2,
+        )
+    record = evaluate(panel, combo, cfg.window, cfg.horizons)
     margins = _margins(cfg, panel, combo.combined)
     ordinals = [cfg.as_of + h for h in range(cfg.horizons + 1)]
     final, applied = overlay.apply(
@@ -348,9 +357,20 @@ def _assess(cfg: Config) -> Assessment:
         judgement=tuple(applied),
         path=_path(cfg, panel, combo.combined, final, ordinals),
         annual=(),
-        combination={"method": method, "weights": [w.__dict__ for w in weights]},
+        combination={
+            "method": method,
+            "window": cfg.combination_window,
+            "weights": [w.__dict__ for w in weights],
+            "intercepts": [
+                {"h": h, "intercept": float(combo.intercepts[h])}
+                for h in range(cfg.horizons + 1)
+                if method == "ols"
+            ],
+            "rows": [{"h": h, "n": int(combo.rows[h])} for h in range(cfg.horizons + 1)],
+        },
         models=status,
-        accuracy=tuple(accuracy_rows(panel, combo, cfg.window, cfg.horizons)),
+        accuracy=record.accuracy,
+        tests=record.tests,
         uncertainty={
             "distribution": cfg.distribution,
             "window": cfg.window,

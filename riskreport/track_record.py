@@ -1,7 +1,10 @@
-"""Past forecast errors, per horizon, as they were known at the current origin.
+"""The track record: past errors per horizon as known at the current origin, accuracy of
+every forecaster and the comparative tests.
 
 Errors are e(o, h) = actual(o + h) - forecast(o, o + h); only outcomes known at ``as_of``
-enter (the panel holds no later outcome), so no error uses later data.
+enter (the panel holds no later outcome). A forecast of horizon h made at origin o uses
+data up to o - 1, so it is an (h + 1)-step forecast: its errors overlap over h periods and
+the tests use h lags (``stats`` functions take steps = h + 1).
 """
 
 from __future__ import annotations
@@ -10,8 +13,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from riskreport import benchmarks, stats
 from riskreport.combination import Combination
 from riskreport.panel import Panel
+
+MIN_TEST_ROWS = 12  # fewer common rows than this: no test (common practice, no source)
 
 
 @dataclass(frozen=True)
@@ -24,6 +30,31 @@ class AccuracyRow:
     mae: float
     rmse: float
     mean_error: float
+
+
+@dataclass(frozen=True)
+class TestRow:
+    """One comparative test at one horizon."""
+
+    __test__ = False  # not a pytest test class
+
+    name: str
+    models: tuple[str, ...]
+    h: int
+    statistic: float
+    pvalue: float
+    nobs: int
+    null: str
+    method: str
+    notes: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class TrackRecord:
+    """Accuracy rows and tests."""
+
+    accuracy: tuple[AccuracyRow, ...]
+    tests: tuple[TestRow, ...]
 
 
 def error_matrix(forecast: np.ndarray, outcomes: np.ndarray) -> np.ndarray:
@@ -39,32 +70,25 @@ def window_mask(errors: np.ndarray, window: int) -> np.ndarray:
     known = np.isfinite(errors)
     if window == 0:
         return known
-    # Count known errors from the latest origin backwards, per horizon.
     from_latest = np.cumsum(known[::-1], axis=0)[::-1]
     return known & (from_latest <= window)
 
 
-def accuracy_rows(
-    panel: Panel, combination: Combination, window: int, horizons: int
-) -> list[AccuracyRow]:
-    """MAE, RMSE and mean error of each model, the combination and the no-change forecast.
+def forecasters(panel: Panel, combination: Combination) -> dict[str, np.ndarray]:
+    """Every forecaster scored: the models, the combination and the two benchmarks."""
+    return {
+        **dict(zip(panel.models, panel.forecasts, strict=True)),
+        "combination": combination.combined,
+        "no-change": benchmarks.no_change(panel),
+        "autoregression": benchmarks.autoregression(panel),
+    }
 
-    Each forecaster is scored over the origins of the combination's error window, where it
-    has a forecast.
-    """
-    combined_errors = error_matrix(combination.combined, panel.outcomes)
-    mask = window_mask(combined_errors, window)
-    no_change = np.repeat(panel.last_outcome[:, None], panel.max_h + 1, axis=1)
-    forecasters = [
-        *zip(panel.models, panel.forecasts, strict=True),
-        ("combination", combination.combined),
-        ("no-change", no_change),
-    ]
+
+def _accuracy(errors: dict[str, np.ndarray], horizons: int) -> list[AccuracyRow]:
     rows: list[AccuracyRow] = []
-    for name, forecast in forecasters:
-        errors = np.where(mask, error_matrix(forecast, panel.outcomes), np.nan)
+    for name, e in errors.items():
         for h in range(horizons + 1):
-            sample = errors[:, h][np.isfinite(errors[:, h])]
+            sample = e[:, h][np.isfinite(e[:, h])]
             if sample.size == 0:
                 continue
             rows.append(
@@ -78,3 +102,69 @@ def accuracy_rows(
                 )
             )
     return rows
+
+
+def _row(name: str, models: tuple[str, ...], h: int, result: stats.TestResult) -> TestRow:
+    return TestRow(
+        name=name,
+        models=models,
+        h=h,
+        statistic=result.statistic,
+        pvalue=result.pvalue,
+        nobs=result.nobs,
+        null=result.null,
+        method=result.method,
+        notes=result.notes,
+    )
+
+
+def _common(*columns: np.ndarray) -> np.ndarray:
+    return np.all(np.isfinite(np.column_stack(columns)), axis=1)
+
+
+def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: int) -> list[TestRow]:
+    rows: list[TestRow] = []
+    for h in range(horizons + 1):
+        steps = h + 1
+        comb, naive = errors["combination"][:, h], errors["no-change"][:, h]
+        for model in current[h]:
+            e = errors[model][:, h]
+            for other, e_other in (("combination", comb), ("no-change", naive)):
+                keep = _common(e, e_other)
+                if keep.sum() >= MIN_TEST_ROWS:
+                    result = stats.diebold_mariano(e[keep], e_other[keep], h=steps)
+                    rows.append(_row("diebold-mariano", (model, other), h, result))
+            keep = _common(comb, e)
+            if keep.sum() >= MIN_TEST_ROWS:
+                result = stats.encompassing(comb[keep], e[keep], h=steps)
+                rows.append(_row("encompassing", ("combination", model), h, result))
+        keep = _common(comb, naive)
+        if keep.sum() >= MIN_TEST_ROWS:
+            result = stats.diebold_mariano(comb[keep], naive[keep], h=steps)
+            rows.append(_row("diebold-mariano", ("combination", "no-change"), h, result))
+        if len(current[h]) >= 2:
+            matrix = np.column_stack([errors[m][:, h] for m in current[h]])
+            keep = _common(matrix)
+            if keep.sum() >= max(MIN_TEST_ROWS, len(current[h]) + 2):
+                result = stats.mariano_preve(matrix[keep], h=steps)
+                rows.append(_row("mariano-preve", tuple(current[h]), h, result))
+    return rows
+
+
+def evaluate(panel: Panel, combination: Combination, window: int, horizons: int) -> TrackRecord:
+    """Accuracy of every forecaster and the tests, over the combination's error window.
+
+    Each forecaster is scored on the origins of that window where it has a forecast; each
+    test uses the rows its forecasters share.
+    """
+    combined_errors = error_matrix(combination.combined, panel.outcomes)
+    mask = window_mask(combined_errors, window)
+    errors = {
+        name: np.where(mask, error_matrix(f, panel.outcomes), np.nan)
+        for name, f in forecasters(panel, combination).items()
+    }
+    current = [
+        [m for k, m in enumerate(panel.models) if combination.included[k, h]]
+        for h in range(horizons + 1)
+    ]
+    return TrackRecord(tuple(_accuracy(errors, horizons)), tuple(_tests(errors, current, horizons)))

@@ -157,3 +157,37 @@ def test_json_is_byte_identical_for_identical_inputs(case: Case) -> None:
     config = case.write()
     assert riskreport.assess(config).to_json() == riskreport.assess(config).to_json()
     json.loads(riskreport.assess(config).to_json())
+
+
+def test_weights_use_no_future_outcome(tmp_path: Path) -> None:
+    """Perturb outcomes after a past origin: the weights at and before it must not move."""
+    import shutil
+
+    from riskreport import config as config_module
+    from riskreport import inputs, panel
+
+    demo = Path(__file__).resolve().parents[1] / "example_inputs"
+    shutil.copytree(demo, tmp_path / "d", ignore=shutil.ignore_patterns("*.py", "__pycache__"))
+    cfg = config_module.load(tmp_path / "d" / "config.toml")
+    fc = inputs.read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
+    act = inputs.read_actuals(cfg.actuals, cfg.frequency)
+    base = panel.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+    cut = base.origins.size - 60  # an origin five years back
+    changed = base.outcomes.copy()
+    cutoff = base.origins[cut]
+    target_period = base.origins[:, None] + np.arange(base.max_h + 1)[None, :]
+    changed[target_period > cutoff] += 3.0
+    perturbed = panel.Panel(
+        base.models,
+        base.origins,
+        base.forecasts,
+        changed,
+        base.last_outcome,
+        base.series,
+        base.series_start,
+    )
+    for method in ("ols-nonnegative", "inverse-mse", "shrink"):
+        a = combination.combine(method, base)
+        b = combination.combine(method, perturbed)
+        assert np.allclose(a.combined[: cut + 1], b.combined[: cut + 1], equal_nan=True), method
+        assert not np.allclose(a.combined[cut + 24 :], b.combined[cut + 24 :], equal_nan=True)
