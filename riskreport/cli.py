@@ -58,6 +58,14 @@ def _parser() -> argparse.ArgumentParser:
     build.add_argument("--as-of", dest="as_of", help="override [brief] as_of, e.g. 2026-11")
     build.add_argument("--force", action="store_true", help="replace an existing brief")
 
+    backtest = sub.add_parser(
+        "backtest", parents=[common], help="accuracy and tests only (tables to stdout and CSV)"
+    )
+    backtest.add_argument("config", type=Path)
+    backtest.add_argument("--out", type=Path, help="output folder (default: [output] directory)")
+    backtest.add_argument("--as-of", dest="as_of", help="override [brief] as_of")
+    backtest.add_argument("--force", action="store_true", help="replace existing tables")
+
     check = sub.add_parser("check", parents=[common], help="validate inputs and config only")
     check.add_argument("config", type=Path)
     check.add_argument("--as-of", dest="as_of", help="override [brief] as_of")
@@ -169,7 +177,35 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
     }
 
 
+def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) -> dict[str, Any]:
+    from riskreport import config as config_module
+    from riskreport import outputs, pipeline
+    from riskreport.report import tables
+
+    cfg = config_module.load(config)
+    if as_of is not None:
+        cfg = cfg.with_as_of(as_of)
+    assessment = pipeline.assess_config(cfg)
+    out_dir = (out if out is not None else cfg.output_directory).resolve()
+    files = {
+        name: content
+        for name, content in outputs.files_for(assessment, ["csv"]).items()
+        if name.startswith(("tables/accuracy-", "tables/tests-", "tables/weights-"))
+    }
+    written = outputs.write_all(out_dir, files, force=force)
+    return {
+        "status": "ok",
+        "as_of": assessment.as_of,
+        "summary": tables.track_record_text(assessment),
+        "outputs": [{"path": str(p), "sha256": _sha256(p)} for p in written],
+        "headline": _headline(assessment),
+        "warnings": list(assessment.warnings),
+    }
+
+
 def _run(args: argparse.Namespace) -> dict[str, Any]:
+    if args.command == "backtest":
+        return _backtest(args.config, args.out, args.as_of, args.force)
     if args.command == "demo":
         return _build(demo_config(), args.out, None, args.force)
     if args.command == "build":
@@ -201,7 +237,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     summary["exit_code"] = code
     if args.json:
         print(json.dumps(summary, ensure_ascii=False))
-    elif code == EXIT_OK and args.command == "check" and not args.quiet:
+    elif code == EXIT_OK and args.command in ("check", "backtest") and not args.quiet:
         print("\n".join(summary["summary"]))
     return code
 

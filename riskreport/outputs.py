@@ -87,6 +87,10 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         )
         files[f"tables/path-{as_of}.csv"] = _csv(data["path"])
         files[f"tables/accuracy-{as_of}.csv"] = _csv(data["accuracy"])
+        files[f"tables/tests-{as_of}.csv"] = _csv(
+            {**t, "models": " vs ".join(t["models"]), "notes": "; ".join(t["notes"])}
+            for t in data["tests"]
+        )
         files[f"tables/weights-{as_of}.csv"] = _csv(data["combination"]["weights"])
     if chosen & {"html", "pdf"}:
         from riskreport.report import render as render_module

@@ -192,3 +192,16 @@ def test_as_of_override(run: Callable[..., Result], case: Case, tmp_path: Path) 
     bad = run("build", config, "--as-of", "2024-Q2", "--out", tmp_path / "p")
     assert bad.code == 2
     assert "--as-of" in bad.stderr
+
+
+def test_backtest_prints_and_writes_tables(run: Callable[..., Result], case: Case) -> None:
+    config = case.write()
+    out = case.folder / "bt"
+    result = run("backtest", config, "--out", out)
+    assert result.code == 0, result.stderr
+    assert "Diebold-Mariano" in result.stdout
+    assert "combination" in result.stdout
+    for name in ("accuracy", "tests", "weights"):
+        assert (out / "tables" / f"{name}-2024-12.csv").is_file()
+    header = (out / "tables" / "tests-2024-12.csv").read_text("utf-8").splitlines()[0]
+    assert header.startswith("name,models,h,statistic,pvalue,nobs,null")

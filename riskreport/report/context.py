@@ -115,7 +115,10 @@ class BriefContext:
     accuracy_horizons: tuple[str, ...]
     accuracy_lines: tuple[AccuracyLine, ...]
     accuracy_text: str
-    weight_lines: tuple[KeyValue, ...]
+    tests_text: tuple[str, ...]
+    weight_horizons: tuple[str, ...]
+    weight_rows: tuple[AccuracyLine, ...]
+    weight_text: str
     models: tuple[KeyValue, ...]
     method: tuple[KeyValue, ...]
     inputs: tuple[tuple[str, str, str, str, str], ...]
@@ -274,8 +277,7 @@ def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...],
         "Root mean square error (pp) over the error window; each forecaster is scored on the "
         "rounds in that window where it gave a forecast. Lowest among the models in the "
         f"current round: {leaders}. "
-        "Whether these differences are statistically "
-        "significant is not yet tested in this brief."
+        "Significance is discussed below."
     )
     if left_out:
         text += (
@@ -285,6 +287,109 @@ def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...],
     return tuple(f"h = {h}" for h in shown), tuple(lines), text
 
 
+SIGNIFICANCE = 0.05  # conventional test level (common practice, no source)
+
+
+def _span(values: list[int]) -> str:
+    """ "120" when all are equal, else "96 to 120"."""
+    return str(min(values)) if min(values) == max(values) else f"{min(values)} to {max(values)}"
+
+
+def _join_h(hs: list[int]) -> str:
+    return "h = " + ", ".join(str(h) for h in hs)
+
+
+def _tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
+    """Plain sentences on the comparative tests at the horizons shown."""
+    dm = [t for t in a.tests if t.name == "diebold-mariano" and t.h in shown]
+    better: dict[str, list[int]] = {}
+    worse: dict[str, list[int]] = {}
+    for t in dm:
+        if t.models[1] != "combination" or not t.pvalue < SIGNIFICANCE:
+            continue
+        # statistic > 0: the first forecaster has the larger loss.
+        (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.h)
+    level = f"{int(100 * SIGNIFICANCE)}%"
+    lines = []
+    if not better and not worse:
+        lines.append(
+            f"No model's accuracy differs significantly from the combination's at the {level} "
+            "level (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
+        )
+    else:
+        parts = [f"{m} ({_join_h(hs)})" for m, hs in worse.items()]
+        if parts:
+            lines.append(
+                f"The combination is significantly more accurate than {'; '.join(parts)} at "
+                f"the {level} level (Diebold-Mariano, HLN correction)."
+            )
+        parts = [f"{m} ({_join_h(hs)})" for m, hs in better.items()]
+        if parts:
+            lines.append(f"Significantly more accurate than the combination: {'; '.join(parts)}.")
+    naive = [t for t in dm if t.models == ("combination", "no-change")]
+    beats = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
+    loses = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
+    text = "Against the no-change forecast, the combination is significantly better at "
+    text += _join_h(beats) if beats else "none of these horizons"
+    text += f" and significantly worse at {_join_h(loses)}." if loses else "."
+    lines.append(text)
+    joint = [t for t in a.tests if t.name == "mariano-preve" and t.h in shown]
+    rejected = [t.h for t in joint if t.pvalue < SIGNIFICANCE]
+    if joint:
+        lines.append(
+            "Taking all current models together (Mariano-Preve test), equal accuracy is "
+            + (
+                f"rejected at {_join_h(rejected)}"
+                if rejected
+                else "not rejected at any of these horizons"
+            )
+            + "."
+        )
+    adds: dict[str, list[int]] = {}
+    for t in a.tests:
+        if t.name == "encompassing" and t.h in shown and t.pvalue < SIGNIFICANCE:
+            adds.setdefault(t.models[1], []).append(t.h)
+    if adds:
+        lines.append(
+            "Models that would still add information to the combination (encompassing test, "
+            f"HLN 1998): {'; '.join(f'{m} ({_join_h(hs)})' for m, hs in adds.items())}."
+        )
+    else:
+        lines.append("The combination encompasses every model at these horizons (HLN 1998 test).")
+    n = sorted({t.nobs for t in dm})
+    if n:
+        lines.append(
+            f"Tests use {_span(n)} past rounds per horizon; overlapping multi-step "
+            "errors make them less reliable at long horizons."
+        )
+    return tuple(lines)
+
+
+def _weights(
+    a: Assessment, shown: tuple[int, ...]
+) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
+    table: dict[str, dict[int, float]] = {}
+    for w in a.combination["weights"]:
+        table.setdefault(w["model"], {})[w["h"]] = w["weight"]
+    lines = tuple(
+        AccuracyLine(
+            model, tuple(fmt.number(by_h[h], 2) if h in by_h else "\u2013" for h in shown), False
+        )
+        for model, by_h in table.items()
+    )
+    method = a.combination["method"]
+    rows = [r["n"] for r in a.combination.get("rows", []) if r["h"] in shown]
+    text = f"Method: {method}."
+    if method not in ("equal", "given", "median", "trimmed") and rows:
+        text += (
+            f" Weights are estimated per horizon from {_span(rows)} past rounds "
+            "whose outcomes were known at the time."
+        )
+    if method in ("median", "trimmed"):
+        text += " The weights show which models set the combined value in the current round."
+    return tuple(f"h = {h}" for h in shown), lines, text
+
+
 def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefContext:
     """Phrase every number of the assessment for the templates."""
     headline, _ = _headline(a)
@@ -292,9 +397,8 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
     summary_h = sorted({h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h} | {policy_h})
     entries, overlay_rows, overlay_text = _overlay(a)
     acc_h, acc_lines, acc_text = _accuracy(a)
-    weights: dict[str, list[float]] = {}
-    for w in a.combination["weights"]:
-        weights.setdefault(w["model"], []).append(w["weight"])
+    shown = tuple(h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h)
+    weight_h, weight_rows, weight_text = _weights(a, shown)
     samples = [r.n_errors for r in a.horizons]
     u = a.uncertainty
     return BriefContext(
@@ -341,15 +445,10 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         accuracy_horizons=acc_h,
         accuracy_lines=acc_lines,
         accuracy_text=acc_text,
-        weight_lines=tuple(
-            KeyValue(
-                name,
-                f"{fmt.number(min(ws), 2)}\u2013{fmt.number(max(ws), 2)}"
-                if fmt.number(min(ws), 2) != fmt.number(max(ws), 2)
-                else fmt.number(ws[0], 2),
-            )
-            for name, ws in weights.items()
-        ),
+        tests_text=_tests_text(a, shown),
+        weight_horizons=weight_h,
+        weight_rows=weight_rows,
+        weight_text=weight_text,
         models=tuple(
             KeyValue(
                 m.model,

@@ -1,0 +1,49 @@
+"""Plain-text tables of the track record for the terminal (``riskreport backtest``)."""
+
+from __future__ import annotations
+
+from riskreport.assessment import Assessment
+from riskreport.report import formatting as fmt
+from riskreport.report.context import SUMMARY_HORIZONS
+
+
+def _table(header: list[str], rows: list[list[str]]) -> list[str]:
+    widths = [max(len(r[i]) for r in [header, *rows]) for i in range(len(header))]
+
+    def line(cells: list[str]) -> str:
+        first = cells[0].ljust(widths[0])
+        return "  ".join([first, *(c.rjust(w) for c, w in zip(cells[1:], widths[1:], strict=True))])
+
+    return [line(header), "  ".join("-" * w for w in widths), *(line(r) for r in rows)]
+
+
+def track_record_text(a: Assessment) -> list[str]:
+    """RMSE by forecaster and DM p-values against the combination, at the summary horizons."""
+    shown = [h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h]
+    by_key = {(r.model, r.h): r for r in a.accuracy}
+    models = list(dict.fromkeys(r.model for r in a.accuracy))
+    lines = [
+        f"Track record as of {a.as_of}: RMSE (pp) over the error window; n = rounds scored",
+        "",
+    ]
+    rows = []
+    for m in models:
+        cells = [m]
+        for h in shown:
+            r = by_key.get((m, h))
+            cells.append(f"{fmt.number(r.rmse, 2)} ({r.n})" if r else "-")
+        rows.append(cells)
+    lines += _table(["forecaster", *(f"h={h}" for h in shown)], rows)
+    lines += ["", "Diebold-Mariano (HLN) p-values against the combination (two-sided)", ""]
+    pvalues = {
+        (t.models[0], t.h): t.pvalue
+        for t in a.tests
+        if t.name == "diebold-mariano" and t.models[1] == "combination"
+    }
+    rows = [
+        [m, *(fmt.number(pvalues[(m, h)], 3) if (m, h) in pvalues else "-" for h in shown)]
+        for m in models
+        if any((m, h) in pvalues for h in shown)
+    ]
+    lines += _table(["model", *(f"h={h}" for h in shown)], rows)
+    return lines
