@@ -313,11 +313,12 @@ def _window(cum: Moments, end: np.ndarray, window: int) -> Moments:
 def _history_rows(
     method: CombinationMethod, f: np.ndarray, y: np.ndarray, h: int, window: int
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Per origin: weights (n x k), intercepts and rows, from origins o' <= o - h only."""
+    """Per origin: weights (n x k), intercepts and rows, from origins o' <= o - h - 1 only."""
     n, k = f.shape
     valid = np.all(np.isfinite(f), axis=1) & np.isfinite(y)
     cum = _cumulative_moments(np.nan_to_num(f), np.nan_to_num(y), valid)
-    end = np.arange(n) - h  # the last past row whose outcome is known at each origin
+    # The last past row whose outcome period came before each origin: o' + h <= o - 1.
+    end = np.arange(n) - h - 1
     mom = _window(cum, end, window)
     w, b = linear_weights(method, mom, h=h)
     short = mom.n < max(min_history(method, k), 1)
@@ -330,7 +331,7 @@ def combine(method: CombinationMethod, panel: Panel, *, window: int = 0) -> Comb
     """Combine the panel's models without look-ahead.
 
     At each horizon the models with a current-round forecast are combined. At a past origin
-    the weights come from the rows whose outcome period is at or before that origin (within
+    the weights come from the rows whose outcome period is before that origin (within
     ``window`` rows, 0 = all); where a model did not forecast then, or the history is too
     short for the method, the available models are averaged with equal weights.
     """

@@ -29,11 +29,6 @@ from riskreport._typing import (
 )
 from riskreport.errors import InputError
 
-# Families that this version can fit; the others are accepted by the contract but refused
-# with a clear message until they are built.
-AVAILABLE_DISTRIBUTIONS: tuple[DistributionChoice, ...] = ("normal",)
-AVAILABLE_COMBINATIONS: tuple[CombinationMethod, ...] = COMBINATION_METHODS
-AVAILABLE_BASES: tuple[Basis, ...] = ("period",)
 VERBAL_SCALES = ("ipcc-ar5",)
 
 T = TypeVar("T")
@@ -97,6 +92,7 @@ class Config:
     window: int
     centre: Centre
     monotone: bool
+    min_errors: int
     bootstrap_replicates: int
     simulations: int
     seed: int
@@ -138,6 +134,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
     "combination": {"method", "window"},
     "uncertainty": {
         "distribution",
+        "min_errors",
         "window",
         "centre",
         "monotone",
@@ -265,27 +262,6 @@ def _band(reader: _Reader) -> Band:
     return Band(midpoint - tolerance, midpoint + tolerance, midpoint, tolerance)
 
 
-def _error_quantiles(reader: _Reader, base: Path) -> Path | None:
-    path = reader.path_of("error_quantiles", base, required=False)
-    if path is not None:
-        raise reader.error(
-            "error_quantiles",
-            "a given error distribution is not available in this version; remove the key to "
-            "learn the distribution from the track record",
-        )
-    return path
-
-
-def _basis(reader: _Reader) -> Basis:
-    basis = cast(Basis, reader.choice("basis", BASES, "period"))
-    if basis not in AVAILABLE_BASES:
-        raise reader.error(
-            "basis",
-            f"{basis!r} is not available in this version; use one of {', '.join(AVAILABLE_BASES)}",
-        )
-    return basis
-
-
 def _schedule(path: Path, raw: Any, frequency: Frequency) -> tuple[BandChange, ...]:
     if raw is None:
         return ()
@@ -380,21 +356,9 @@ def load(path: str | Path) -> Config:
     output = _Reader(path, "output", _table(path, data, "output", False))
 
     method = cast(CombinationMethod, combination.choice("method", COMBINATION_METHODS, "equal"))
-    if method not in AVAILABLE_COMBINATIONS:
-        raise combination.error(
-            "method",
-            f"{method!r} is not available in this version; use one of "
-            f"{', '.join(AVAILABLE_COMBINATIONS)}",
-        )
     distribution = cast(
-        DistributionChoice, uncertainty.choice("distribution", DISTRIBUTION_CHOICES, "normal")
+        DistributionChoice, uncertainty.choice("distribution", DISTRIBUTION_CHOICES, "auto")
     )
-    if distribution not in AVAILABLE_DISTRIBUTIONS:
-        raise uncertainty.error(
-            "distribution",
-            f"{distribution!r} is not available in this version; use one of "
-            f"{', '.join(AVAILABLE_DISTRIBUTIONS)}",
-        )
     formats_raw = output._get("formats", list, "a list of formats", list(OUTPUT_FORMATS))
     for item in formats_raw:
         if item not in OUTPUT_FORMATS:
@@ -414,9 +378,9 @@ def load(path: str | Path) -> Config:
         verbal_scale=brief.choice("verbal_scale", VERBAL_SCALES, "ipcc-ar5"),
         forecasts=cast(Path, inputs.path_of("forecasts", base, required=True)),
         actuals=cast(Path, inputs.path_of("actuals", base, required=True)),
-        error_quantiles=_error_quantiles(inputs, base),
+        error_quantiles=inputs.path_of("error_quantiles", base, required=False),
         band=_band(target),
-        basis=_basis(target),
+        basis=cast(Basis, target.choice("basis", BASES, "period")),
         schedule=_schedule(path, target.table.get("schedule"), frequency),
         combination=method,
         combination_window=combination.integer("window", 0, minimum=0),
@@ -424,6 +388,7 @@ def load(path: str | Path) -> Config:
         window=uncertainty.integer("window", 120, minimum=0),
         centre=cast(Centre, uncertainty.choice("centre", CENTRES, "estimated")),
         monotone=uncertainty.flag("monotone", True),
+        min_errors=uncertainty.integer("min_errors", 20, minimum=2),
         bootstrap_replicates=uncertainty.integer("bootstrap_replicates", 500, minimum=50),
         simulations=uncertainty.integer("simulations", 20000, minimum=1000),
         seed=uncertainty.integer("seed", 20240101, minimum=0),

@@ -72,3 +72,7 @@ class CombinationFallbackWarning(RiskReportWarning):
 
 class ModelLeftOutWarning(RiskReportWarning):
     """A model has no row in the current round and is left out of the combination."""
+
+
+class BoundaryFitWarning(RiskReportWarning):
+    """A fit's likelihood peaked at the edge of its parameter space, or a fit failed."""

@@ -239,3 +239,66 @@ def read_actuals(path: Path, frequency: Frequency) -> Actuals:
     _duplicates(pd.DataFrame({"period": period}), "period", path, "period")
     order = np.argsort(period, kind="stable")
     return Actuals(file=path, period=period[order], value=value[order])
+
+
+@dataclass(frozen=True)
+class ErrorQuantiles:
+    """A given error distribution: per horizon, increasing quantile levels and values."""
+
+    file: Path
+    by_horizon: dict[int, tuple[tuple[float, ...], tuple[float, ...]]]
+
+
+def read_error_quantiles(path: Path) -> ErrorQuantiles:
+    """Read and validate ``horizon, quantile, value`` (a given error distribution).
+
+    Raises
+    ------
+    InputError
+        Missing column, a horizon that is not a whole number >= 0, a quantile outside
+        (0, 1), a non-finite value, a duplicate (horizon, quantile), fewer than two
+        quantiles for a horizon, or values that do not increase with the quantile.
+    """
+    frame = read_table(path, ("horizon", "quantile", "value"))
+    horizon_text = frame["horizon"].str.strip()
+    horizon = pd.to_numeric(horizon_text, errors="coerce").to_numpy(dtype=float)
+    bad = _first(~np.isfinite(horizon) | (horizon < 0) | (np.mod(horizon, 1) != 0))
+    if bad is not None:
+        raise InputError(
+            f"expected a whole number of periods >= 0, got {horizon_text.iloc[bad]!r}",
+            file=path,
+            row=bad + _FIRST_DATA_ROW,
+            column="horizon",
+        )
+    level = _values(frame, "quantile", path)
+    if (bad := _first((level <= 0) | (level >= 1))) is not None:
+        raise InputError(
+            f"expected a probability strictly between 0 and 1, got {frame['quantile'].iloc[bad]!r}",
+            file=path,
+            row=bad + _FIRST_DATA_ROW,
+            column="quantile",
+        )
+    value = _values(frame, "value", path)
+    keys = pd.DataFrame({"horizon": horizon, "quantile": level})
+    _duplicates(keys, "(horizon, quantile)", path, "quantile")
+    by_horizon: dict[int, tuple[tuple[float, ...], tuple[float, ...]]] = {}
+    for h in sorted(set(horizon.astype(int).tolist())):
+        rows = np.flatnonzero(horizon == h)
+        order = rows[np.argsort(level[rows], kind="stable")]
+        if order.size < 2:
+            raise InputError(
+                f"horizon {h} has one quantile; expected at least two",
+                file=path,
+                row=int(order[0]) + _FIRST_DATA_ROW,
+                column="quantile",
+            )
+        steps = np.diff(value[order])
+        if (bad := _first(steps <= 0)) is not None:
+            raise InputError(
+                f"values must increase with the quantile at horizon {h}",
+                file=path,
+                row=int(order[bad + 1]) + _FIRST_DATA_ROW,
+                column="value",
+            )
+        by_horizon[h] = (tuple(level[order].tolist()), tuple(value[order].tolist()))
+    return ErrorQuantiles(file=path, by_horizon=by_horizon)

@@ -1,23 +1,24 @@
 """From a configuration to an :class:`~riskreport.assessment.Assessment` (no files written).
 
 validate -> combine -> errors -> distributions -> judgement overlay -> probabilities
-(per horizon, path) -> accuracy -> assessment.
+(per horizon, path, calendar year) -> track record -> assessment.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import platform
 import warnings
-from dataclasses import dataclass
 from importlib import metadata
 from pathlib import Path
 
 import numpy as np
 
+from riskreport import annual as annual_module
 from riskreport import combination as combination_module
 from riskreport import config as config_module
-from riskreport import distributions, overlay, periods, probabilities
+from riskreport import overlay, periods, probabilities, uncertainty
 from riskreport import panel as panel_module
 from riskreport.assessment import (
     Assessment,
@@ -29,29 +30,24 @@ from riskreport.assessment import (
     WeightRow,
 )
 from riskreport.config import Config
+from riskreport.distributions import Distribution
 from riskreport.errors import (
     CombinationFallbackWarning,
     InputError,
     ModelLeftOutWarning,
     RiskReportWarning,
-    SmallSampleWarning,
 )
-from riskreport.inputs import Actuals, Forecasts, read_actuals, read_forecasts
+from riskreport.inputs import (
+    Actuals,
+    ErrorQuantiles,
+    Forecasts,
+    read_actuals,
+    read_error_quantiles,
+    read_forecasts,
+)
 from riskreport.track_record import error_matrix, evaluate, window_mask
 
-SMALL_SAMPLE = (
-    30  # fewer errors than this at a horizon earns a warning (common practice, no source)
-)
 HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
-
-
-@dataclass(frozen=True)
-class _Margins:
-    """Per reported horizon: the error sample and the outcome distributions."""
-
-    samples: list[np.ndarray]
-    model_based: list[distributions.Distribution]
-    point: np.ndarray
 
 
 def _sha256(path: Path) -> str:
@@ -78,7 +74,9 @@ def _software() -> dict[str, str]:
     return versions
 
 
-def _input_records(cfg: Config, fc: Forecasts, act: Actuals) -> tuple[InputRecord, ...]:
+def _input_records(
+    cfg: Config, fc: Forecasts, act: Actuals, given: ErrorQuantiles | None
+) -> tuple[InputRecord, ...]:
     def rel(path: Path) -> str:
         try:
             return path.relative_to(cfg.path.parent).as_posix()
@@ -86,7 +84,7 @@ def _input_records(cfg: Config, fc: Forecasts, act: Actuals) -> tuple[InputRecor
             return path.name
 
     f = cfg.frequency
-    return (
+    records = [
         InputRecord("config", rel(cfg.path), _sha256(cfg.path), None, None, None),
         InputRecord(
             "forecasts",
@@ -104,7 +102,13 @@ def _input_records(cfg: Config, fc: Forecasts, act: Actuals) -> tuple[InputRecor
             periods.label(int(act.period.min()), f),
             periods.label(int(act.period.max()), f),
         ),
-    )
+    ]
+    if given is not None:
+        rows = sum(len(levels) for levels, _ in given.by_horizon.values())
+        records.append(
+            InputRecord("error_quantiles", rel(given.file), _sha256(given.file), rows, None, None)
+        )
+    return tuple(records)
 
 
 def _model_status(fc: Forecasts, cfg: Config) -> tuple[ModelStatus, ...]:
@@ -137,80 +141,31 @@ def _method(cfg: Config, fc: Forecasts) -> combination_module.CombinationMethod:
     return cfg.combination
 
 
-def _margins(cfg: Config, panel: panel_module.Panel, combined: np.ndarray) -> _Margins:
-    errors = error_matrix(combined, panel.outcomes)
-    mask = window_mask(errors, cfg.window)
-    mode = 0.0 if cfg.centre == "forecast" else None
-    samples: list[np.ndarray] = []
-    fits: list[distributions.Distribution] = []
-    for h in range(cfg.horizons + 1):
-        sample = errors[mask[:, h], h]
-        if sample.size < 2:
-            raise InputError(
-                f"horizon {h} has no track record: {sample.size} past forecast(s) of that "
-                f"horizon with a known outcome by {periods.label(cfg.as_of, cfg.frequency)}, "
-                "and no error_quantiles fallback; expected at least 2",
-                file=cfg.forecasts,
-                column="origin",
-            )
-        if sample.size < SMALL_SAMPLE:
-            warnings.warn(
-                f"Horizon {h} rests on only {sample.size} past errors; its probabilities, "
-                "and its tail probabilities above all, are uncertain.",
-                SmallSampleWarning,
-                stacklevel=2,
-            )
-        samples.append(sample)
-        fits.append(distributions.fit("normal", sample, mode=mode))
-    if cfg.monotone:
-        fits = _monotone(fits)
-    point = combined[-1, : cfg.horizons + 1]
-    if not np.all(np.isfinite(point)):
-        h = int(np.flatnonzero(~np.isfinite(point))[0])
-        raise InputError(
-            f"no model has a current-round forecast for horizon {h}",
-            file=cfg.forecasts,
-            column="period",
-        )
-    outcome: list[distributions.Distribution] = [
-        distributions.Adjusted(fit, shift=float(p)) for fit, p in zip(fits, point, strict=True)
-    ]
-    return _Margins(samples=samples, model_based=outcome, point=point)
-
-
-def _monotone(fits: list[distributions.Distribution]) -> list[distributions.Distribution]:
-    """Widen any horizon whose spread is below a shorter horizon's (the running maximum)."""
-    spreads = np.array([distributions.spread(f) for f in fits])
-    floor = np.maximum.accumulate(spreads)
-    return [
-        f if s >= target else distributions.Adjusted(f, scale=float(target / s))
-        for f, s, target in zip(fits, spreads, floor, strict=True)
-    ]
-
-
 def _horizon_results(
     cfg: Config,
-    margins: _Margins,
-    dists: list[distributions.Distribution],
+    margins: uncertainty.Margins,
+    dists: list[Distribution],
     ordinals: list[int],
-    seed_offset: int,
 ) -> tuple[HorizonResult, ...]:
-    mode = 0.0 if cfg.centre == "forecast" else None
     rows = []
-    for h, (dist, sample, ordinal) in enumerate(zip(dists, margins.samples, ordinals, strict=True)):
+    for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
         band = cfg.band_for(ordinal)
         probs = probabilities.band_probabilities(dist, band.lower, band.upper)
-        rng = np.random.default_rng([cfg.seed, seed_offset, h])
-        interval = probabilities.bootstrap_p_inside(
-            sample,
-            dist,
-            band.lower,
-            band.upper,
-            h=h,
-            mode=mode,
-            replicates=cfg.bootstrap_replicates,
-            rng=rng,
-        )
+        family = margins.families[h]
+        if family == "given-quantiles":
+            interval = (probs.p_inside, probs.p_inside)
+        else:
+            interval = probabilities.bootstrap_p_inside(
+                margins.samples[h],
+                dist,
+                band.lower,
+                band.upper,
+                h=h,
+                family=family,  # type: ignore[arg-type]
+                mode=margins.mode,
+                replicates=cfg.bootstrap_replicates,
+                rng=np.random.default_rng([cfg.seed, h]),
+            )
         quantiles = dist.ppf(np.array(probabilities.QUANTILE_LEVELS))
         rows.append(
             HorizonResult(
@@ -227,26 +182,24 @@ def _horizon_results(
                     f"{q:g}": float(v)
                     for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
                 },
-                distribution=dist.family,
-                n_errors=int(sample.size),
-                spread=distributions.spread(dist),
+                distribution=family,
+                n_errors=margins.own[h],
+                spread=float(np.std(dist.ppf(probabilities.SPREAD_GRID))),
             )
         )
     return tuple(rows)
 
 
-def _path(
-    cfg: Config,
-    panel: panel_module.Panel,
-    combined: np.ndarray,
-    dists: list[distributions.Distribution],
-    ordinals: list[int],
-) -> tuple[PathResult, ...]:
-    errors = error_matrix(combined, panel.outcomes)[:, : cfg.horizons + 1]
+def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:
+    errors = errors[:, : cfg.horizons + 1]
     errors = np.where(window_mask(errors, cfg.window), errors, np.nan)
     corr = probabilities.normal_scores_correlation(errors)
-    rng = np.random.default_rng([cfg.seed, 7])
-    draws = probabilities.simulate_joint(dists, corr, cfg.simulations, rng)
+    return probabilities.simulate_joint(
+        dists, corr, cfg.simulations, np.random.default_rng([cfg.seed, 7])
+    )
+
+
+def _path(cfg: Config, draws: np.ndarray, ordinals: list[int]) -> tuple[PathResult, ...]:
     bands = [cfg.band_for(o) for o in ordinals]
     throughout, back_by = probabilities.path_probabilities(
         draws, np.array([b.lower for b in bands]), np.array([b.upper for b in bands])
@@ -289,24 +242,46 @@ def _target(cfg: Config) -> dict[str, object]:
     return target
 
 
+def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> dict[str, object]:
+    record: dict[str, object] = {
+        "distribution": cfg.distribution,
+        "families": [
+            {"h": h, "family": f, "source": s}
+            for h, (f, s) in enumerate(zip(margins.families, margins.sources, strict=True))
+        ],
+        "window": cfg.window,
+        "centre": cfg.centre,
+        "monotone": cfg.monotone,
+        "min_errors": cfg.min_errors,
+        "bootstrap_replicates": cfg.bootstrap_replicates,
+        "interval_level": 0.9,
+        "simulations": cfg.simulations,
+        "seed": cfg.seed,
+        "verbal_scale": cfg.verbal_scale,
+    }
+    if margins.choice is not None:
+        record["selection"] = {
+            "chosen": margins.choice.chosen,
+            "runner_up": margins.choice.runner_up,
+            "total_log_score": margins.choice.total,
+            "scores": [dataclasses.asdict(s) for s in margins.choice.scores],
+        }
+    return record
+
+
 def assess_config(cfg: Config) -> Assessment:
     """Run the whole method on a validated configuration (see :func:`assess`)."""
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", RiskReportWarning)
         assessment = _assess(cfg)
     notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]
-    return _with_warnings(assessment, notes)
-
-
-def _with_warnings(assessment: Assessment, notes: list[str]) -> Assessment:
-    import dataclasses
-
     return dataclasses.replace(assessment, warnings=tuple(dict.fromkeys(notes)))
 
 
 def _assess(cfg: Config) -> Assessment:
     fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
     act = read_actuals(cfg.actuals, cfg.frequency)
+    given = read_error_quantiles(cfg.error_quantiles) if cfg.error_quantiles else None
     panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
     status = _model_status(fc, cfg)
     for row in status:
@@ -320,25 +295,37 @@ def _assess(cfg: Config) -> Assessment:
             )
     method = _method(cfg, fc)
     combo = combination_module.combine(method, panel, window=cfg.combination_window)
-    for h in np.flatnonzero(combo.fallback):
+    for h in np.flatnonzero(combo.fallback).tolist():
         warnings.warn(
             f"Too short a history for '{method}' weights at horizon {h} "
             f"({combo.rows[h]} past rows); equal weights are used there.",
             CombinationFallbackWarning,
             stacklevel=2,
         )
-    record = evaluate(panel, combo, cfg.window, cfg.horizons)
-    margins = _margins(cfg, panel, combo.combined)
+    point = combo.combined[-1, : cfg.horizons + 1]
+    if not np.all(np.isfinite(point)):
+        missing = int(np.flatnonzero(~np.isfinite(point))[0])
+        raise InputError(
+            f"no model has a current-round forecast for horizon {missing}",
+            file=cfg.forecasts,
+            column="period",
+        )
+    errors = error_matrix(combo.combined, panel.outcomes)
+    margins = uncertainty.build(cfg, errors, point, given)
     ordinals = [cfg.as_of + h for h in range(cfg.horizons + 1)]
     final, applied = overlay.apply(
-        margins.model_based,
+        list(margins.outcome),
         ordinals,
         cfg.judgements,
         frequency=cfg.frequency,
         config_file=str(cfg.path),
     )
-    model_based = _horizon_results(cfg, margins, margins.model_based, ordinals, 0)
-    adjusted = _horizon_results(cfg, margins, final, ordinals, 0) if cfg.judgements else model_based
+    model_based = _horizon_results(cfg, margins, list(margins.outcome), ordinals)
+    adjusted = _horizon_results(cfg, margins, final, ordinals) if cfg.judgements else model_based
+    draws = _simulate(cfg, errors, final)
+    known = {int(p): float(v) for p, v in zip(act.period, act.value, strict=True) if p <= cfg.as_of}
+    yearly = annual_module.annual(draws, ordinals, known, cfg.frequency, cfg.band_for)
+    record = evaluate(panel, combo, cfg.window, cfg.horizons)
     weights = [
         WeightRow(h, name, float(combo.current_weights[k, h]))
         for h in range(cfg.horizons + 1)
@@ -355,8 +342,8 @@ def _assess(cfg: Config) -> Assessment:
         horizons=adjusted,
         model_based_horizons=model_based,
         judgement=tuple(applied),
-        path=_path(cfg, panel, combo.combined, final, ordinals),
-        annual=(),
+        path=_path(cfg, draws, ordinals),
+        annual=tuple(dataclasses.asdict(a) for a in yearly),
         combination={
             "method": method,
             "window": cfg.combination_window,
@@ -371,20 +358,10 @@ def _assess(cfg: Config) -> Assessment:
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,
-        uncertainty={
-            "distribution": cfg.distribution,
-            "window": cfg.window,
-            "centre": cfg.centre,
-            "monotone": cfg.monotone,
-            "bootstrap_replicates": cfg.bootstrap_replicates,
-            "interval_level": 0.9,
-            "simulations": cfg.simulations,
-            "seed": cfg.seed,
-            "verbal_scale": cfg.verbal_scale,
-        },
+        uncertainty=_uncertainty_record(cfg, margins),
         history=_history(act, cfg),
         change=None,
-        inputs=_input_records(cfg, fc, act),
+        inputs=_input_records(cfg, fc, act, given),
         software=_software(),
         warnings=(),
     )

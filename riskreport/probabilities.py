@@ -7,9 +7,11 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import stats
 
-from riskreport.distributions import Distribution, NormalFit, fit_normal_batch, innermost, rebase
+from riskreport._typing import Family
+from riskreport.distributions import Distribution, fit_batch, rebase
 
 QUANTILE_LEVELS: tuple[float, ...] = (0.05, 0.1, 0.25, 0.5, 0.75, 0.9, 0.95)
+SPREAD_GRID = (np.arange(2000) + 0.5) / 2000  # probabilities for the spread by quantile integration
 
 
 @dataclass(frozen=True)
@@ -49,6 +51,7 @@ def bootstrap_p_inside(
     upper: float,
     *,
     h: int,
+    family: Family,
     mode: float | None,
     replicates: int,
     rng: np.random.Generator,
@@ -57,22 +60,17 @@ def bootstrap_p_inside(
     """A moving-block bootstrap interval for P(inside).
 
     The errors (in origin order) are resampled in blocks of max(h + 1, n^(1/3)) so that
-    the overlap of multi-step errors is kept; each replicate is refitted and pushed through
-    the same maps (monotone spread, point forecast, judgement) as the point estimate.
+    the overlap of multi-step errors is kept; each replicate is refitted (all at once, by
+    :func:`~riskreport.distributions.fit_batch`) and pushed through the same maps (monotone spread, point forecast, judgement) as the point estimate.
 
     Returns
     -------
     lo, hi
         The central ``level`` interval of the replicated P(inside).
     """
-    fitted = innermost(dist)
-    if not isinstance(fitted, NormalFit):
-        raise ValueError("bootstrap_p_inside: expected a normal fit in this version")
     n = errors.size
     index = block_indices(n, max(h + 1, round(n ** (1 / 3))), replicates, rng)
-    loc, scale = fit_normal_batch(errors[index], mode=mode)
-    replicates_fit = NormalFit(loc=loc, scale=np.maximum(scale, 1e-12), loglik=np.nan, nobs=n)
-    chain = rebase(dist, replicates_fit)
+    chain = rebase(dist, fit_batch(family, errors[index], mode=mode))
     p = chain.cdf(upper) - chain.cdf(lower)
     tail = (1 - level) / 2
     lo, hi = np.quantile(p, [tail, 1 - tail])

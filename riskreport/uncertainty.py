@@ -1,0 +1,208 @@
+"""Per horizon: the error sample, the fitted error distribution and the outcome distribution.
+
+Errors over the last ``window`` origins with a known outcome; thin horizons borrow the shape
+of their neighbours' errors (scaled to their own spread); the family is given or chosen by
+out-of-sample log score; the spread may not shrink as the horizon lengthens; a given
+``error_quantiles`` distribution replaces the learned one where it has the horizon.
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass
+
+import numpy as np
+
+from riskreport import distributions, periods, selection
+from riskreport._typing import Family
+from riskreport.config import Config
+from riskreport.distributions import Distribution
+from riskreport.errors import BoundaryFitWarning, InputError, SmallSampleWarning
+from riskreport.inputs import ErrorQuantiles
+from riskreport.track_record import window_mask
+
+SMALL_SAMPLE = 30  # fewer errors than this earns a caution (common practice, no source)
+
+
+@dataclass(frozen=True)
+class Margins:
+    """The uncertainty of every reported horizon.
+
+    Attributes
+    ----------
+    samples
+        Per horizon, the errors the fit rests on (after any borrowing).
+    own
+        Per horizon, how many of them are the horizon's own.
+    families
+        Per horizon, the family used (``given-quantiles`` for a given distribution).
+    sources
+        Per horizon, where the distribution comes from, in words.
+    errors
+        Per horizon, the error distribution (after the monotone rule).
+    outcome
+        Per horizon, the outcome distribution: point forecast + error.
+    point
+        The combined point forecasts.
+    choice
+        The ``auto`` selection, when made.
+    mode
+        The fixed mode of the error fits (0 for ``centre = "forecast"``), or None.
+    """
+
+    samples: tuple[np.ndarray, ...]
+    own: tuple[int, ...]
+    families: tuple[str, ...]
+    sources: tuple[str, ...]
+    errors: tuple[Distribution, ...]
+    outcome: tuple[Distribution, ...]
+    point: np.ndarray
+    choice: selection.Selection | None
+    mode: float | None
+
+
+def _borrow(columns: list[np.ndarray], h: int, minimum: int) -> tuple[np.ndarray, list[int]]:
+    """The errors of horizon h, with neighbours' errors rescaled to h's spread when thin."""
+    own = columns[h]
+    if own.size >= minimum:
+        return own, []
+    rms = float(np.sqrt(np.mean(own**2)))
+    pooled, used = [own], []
+    for distance in range(1, len(columns)):
+        for j in (h - distance, h + distance):
+            if 0 <= j < len(columns) and columns[j].size >= 2:
+                other = columns[j]
+                pooled.append(other * rms / float(np.sqrt(np.mean(other**2))))
+                used.append(j)
+        if sum(p.size for p in pooled) >= minimum:
+            break
+    return np.concatenate(pooled), used
+
+
+def _fit(family: Family, sample: np.ndarray, mode: float | None, h: int) -> Distribution:
+    try:
+        return distributions.fit(family, sample, mode=mode)
+    except ValueError as exc:
+        warnings.warn(
+            f"Horizon {h}: the {family} fit failed ({exc}); a normal distribution is used.",
+            BoundaryFitWarning,
+            stacklevel=3,
+        )
+        return distributions.fit("normal", sample, mode=mode)
+
+
+def _monotone(fits: list[Distribution]) -> list[Distribution]:
+    """Widen any horizon whose spread is below a shorter horizon's (the running maximum)."""
+    spreads = np.array([distributions.spread(f) for f in fits])
+    floor = np.maximum.accumulate(spreads)
+    return [
+        f if s >= target else distributions.Adjusted(f, scale=float(target / s))
+        for f, s, target in zip(fits, spreads, floor, strict=True)
+    ]
+
+
+def build(
+    cfg: Config, errors: np.ndarray, point: np.ndarray, given: ErrorQuantiles | None
+) -> Margins:
+    """Fit every reported horizon's error distribution and form the outcome distributions.
+
+    Raises
+    ------
+    InputError
+        A horizon has neither a track record (two or more known errors) nor a given
+        distribution.
+    """
+    mode = 0.0 if cfg.centre == "forecast" else None
+    errors = errors[:, : cfg.horizons + 1]
+    mask = window_mask(errors, cfg.window)
+    columns = [errors[mask[:, h], h] for h in range(cfg.horizons + 1)]
+    given_h = given.by_horizon if given is not None else {}
+    for h, column in enumerate(columns):
+        if column.size < 2 and h not in given_h:
+            raise InputError(
+                f"horizon {h} has no track record: {column.size} past forecast(s) of that "
+                f"horizon with a known outcome by {periods.label(cfg.as_of, cfg.frequency)}, "
+                "and no error_quantiles fallback; expected at least 2",
+                file=cfg.forecasts,
+                column="origin",
+            )
+    choice = None
+    family: Family
+    if cfg.distribution == "auto":
+        choice = selection.select(
+            np.where(mask, errors, np.nan), cfg.horizons, window=cfg.window, mode=mode
+        )
+        family = choice.chosen
+    else:
+        family = cfg.distribution
+    samples: list[np.ndarray] = []
+    own: list[int] = []
+    families: list[str] = []
+    sources: list[str] = []
+    fits: list[Distribution] = []
+    thin: list[str] = []
+    for h in range(cfg.horizons + 1):
+        if h in given_h:
+            levels, values = given_h[h]
+            fits.append(distributions.GivenQuantiles(levels, values))
+            samples.append(columns[h])
+            own.append(int(columns[h].size))
+            families.append("given-quantiles")
+            sources.append("given error quantiles")
+            continue
+        sample, used = _borrow(columns, h, cfg.min_errors)
+        if used:
+            thin.append(f"{h} (from h = {', '.join(map(str, used))})")
+        if columns[h].size < SMALL_SAMPLE:
+            warnings.warn(
+                f"Horizon {h} rests on only {columns[h].size} past errors of its own; its "
+                "probabilities, and its tail probabilities above all, are uncertain.",
+                SmallSampleWarning,
+                stacklevel=2,
+            )
+        fitted = _fit(family, sample, mode, h)
+        samples.append(sample)
+        own.append(int(columns[h].size))
+        families.append(fitted.family)
+        sources.append(
+            "track record" + (f", borrowing from h = {', '.join(map(str, used))}" if used else "")
+        )
+        fits.append(fitted)
+    if thin:
+        warnings.warn(
+            "Thin horizons borrow the shape of neighbouring horizons' errors, rescaled to "
+            f"their own spread: {'; '.join(thin)}.",
+            SmallSampleWarning,
+            stacklevel=2,
+        )
+    edge = [h for h, f in enumerate(fits) if getattr(f, "notes", ())]
+    if edge:
+        note = next(n for f in fits for n in getattr(f, "notes", ()))
+        warnings.warn(
+            f"{note[0].upper()}{note[1:]} (horizons {', '.join(map(str, edge))}).",
+            BoundaryFitWarning,
+            stacklevel=2,
+        )
+    if cfg.monotone:
+        fits = _monotone(fits)
+    if given_h:
+        warnings.warn(
+            "The error distribution is given (error_quantiles) for horizons "
+            f"{', '.join(map(str, sorted(given_h)))}; it has no sampling interval there.",
+            SmallSampleWarning,
+            stacklevel=2,
+        )
+    outcome: list[Distribution] = [
+        distributions.Adjusted(f, shift=float(p)) for f, p in zip(fits, point, strict=True)
+    ]
+    return Margins(
+        samples=tuple(samples),
+        own=tuple(own),
+        families=tuple(families),
+        sources=tuple(sources),
+        errors=tuple(fits),
+        outcome=tuple(outcome),
+        point=point,
+        choice=choice,
+        mode=mode,
+    )
