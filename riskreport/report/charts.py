@@ -82,7 +82,7 @@ def _year_ticks(ax: Axes, first: int, last: int, frequency: str) -> None:
     ax.set_xlim(first - 1, last + per_year // 6 + 1)
 
 
-def outlook(assessment: Assessment, width_mm: float = 170, height_mm: float = 82) -> Chart:
+def outlook(assessment: Assessment, width_mm: float = 170, height_mm: float = 66) -> Chart:
     """History, the target band, the centre path and graded probability bands."""
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
@@ -204,7 +204,7 @@ def _outcome_lines(ax: Axes, x: list[int], series: dict[str, list[float]]) -> No
 
 
 def band_probabilities(
-    assessment: Assessment, width_mm: float = 170, height_mm: float = 62
+    assessment: Assessment, width_mm: float = 170, height_mm: float = 46
 ) -> Chart:
     """Probability of landing below, inside and above the band, by horizon."""
     with matplotlib.rc_context(_RC):

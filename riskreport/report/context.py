@@ -32,6 +32,7 @@ class ProbabilityRow:
     period: str
     h: str
     band: str
+    forecast: str
     centre: str
     below: str
     inside: str
@@ -89,6 +90,19 @@ class ChartBlock:
 
 
 @dataclass(frozen=True)
+class AnnualRow:
+    """Probabilities for one calendar year on one basis, printed."""
+
+    year: str
+    basis: str
+    band: str
+    below: str
+    inside: str
+    above: str
+    observed: str
+
+
+@dataclass(frozen=True)
 class BriefContext:
     """Everything the templates print."""
 
@@ -101,7 +115,11 @@ class BriefContext:
     messages: tuple[str, ...]
     summary_rows: tuple[ProbabilityRow, ...]
     all_rows: tuple[ProbabilityRow, ...]
-    path_rows: tuple[KeyValue, ...]
+    path_rows: tuple[tuple[str, str, str], ...]
+    band_varies: bool
+    summary_band: str
+    annual_rows: tuple[AnnualRow, ...]
+    annual_text: str
     change_text: str
     track_text: str
     cautions: tuple[str, ...]
@@ -144,6 +162,7 @@ def _row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
         period=r.period,
         h=str(r.h),
         band=band_label(r.band),
+        forecast=fmt.number(r.point_forecast),
         centre=fmt.number(r.centre),
         below=fmt.percent_text(below, r.p_below),
         inside=fmt.percent_text(inside, r.p_inside),
@@ -287,6 +306,73 @@ def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...],
     return tuple(f"h = {h}" for h in shown), tuple(lines), text
 
 
+FAMILY_NAMES = {
+    "normal": "normal",
+    "two-piece-normal": "two-piece normal",
+    "skew-normal": "skew-normal",
+    "empirical": "kernel-smoothed empirical",
+    "given-quantiles": "given error quantiles",
+}
+
+
+def _annual_rows(a: Assessment) -> tuple[AnnualRow, ...]:
+    rows = []
+    unit = "months" if a.frequency == "monthly" else "quarters"
+    for r in a.annual:
+        whole = fmt.percentages([r["p_below"], r["p_inside"], r["p_above"]])
+        texts = [
+            fmt.percent_text(w, p)
+            for w, p in zip(whole, [r["p_below"], r["p_inside"], r["p_above"]], strict=True)
+        ]
+        rows.append(
+            AnnualRow(
+                year=str(r["year"]),
+                basis="calendar-year average"
+                if r["basis"] == "calendar-year-average"
+                else "year end",
+                band=band_label(tuple(r["band"])),
+                below=texts[0],
+                inside=texts[1],
+                above=texts[2],
+                observed=f"{r['observed_periods']} {unit} observed"
+                if r["observed_periods"]
+                else "none observed",
+            )
+        )
+    return tuple(rows)
+
+
+def _annual_text(a: Assessment) -> str:
+    if not a.annual:
+        return "No calendar year is fully covered by observed and reported periods."
+    return (
+        "The calendar-year average and the year-end value, from the same simulated paths; "
+        "observed months enter as outcomes. Only years fully observed or reported are shown."
+    )
+
+
+def _distribution_text(a: Assessment) -> str:
+    """How the error distribution was chosen and fitted, in words."""
+    u = a.uncertainty
+    used = sorted({FAMILY_NAMES[r.distribution] for r in a.horizons})
+    how = {
+        "normal": "maximum likelihood",
+        "two-piece normal": "maximum likelihood (mode profiled)",
+        "skew-normal": "maximum penalised likelihood",
+        "kernel-smoothed empirical": "Gaussian kernel, Silverman bandwidth",
+        "given error quantiles": "as given",
+    }
+    text = "; ".join(f"{name} ({how[name]})" for name in used) + ", per horizon"
+    selection = u.get("selection")
+    if selection:
+        runner = selection["runner_up"]
+        text += (
+            f". Chosen automatically by out-of-sample log score over past rounds "
+            f"(runner-up: {FAMILY_NAMES.get(runner, runner)})"
+        )
+    return text + "."
+
+
 SIGNIFICANCE = 0.05  # conventional test level (common practice, no source)
 
 
@@ -411,15 +497,19 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         messages=_messages(a),
         summary_rows=tuple(_row(a.horizon_result(h), policy_h) for h in summary_h),
         all_rows=tuple(_row(r, policy_h) for r in a.horizons),
+        annual_rows=_annual_rows(a),
+        annual_text=_annual_text(a),
         path_rows=tuple(
-            KeyValue(
+            (
                 p.period,
-                f"{fmt.single_percent(p.p_inside_throughout)} inside throughout; "
-                f"{fmt.single_percent(p.p_back_inside_by)} inside at least once",
+                fmt.single_percent(p.p_inside_throughout),
+                fmt.single_percent(p.p_back_inside_by),
             )
             for p in a.path
             if p.h in summary_h
         ),
+        band_varies=len({r.band for r in a.horizons}) > 1,
+        summary_band=band_label(a.horizons[0].band),
         change_text=(
             "No earlier brief was available for comparison, so the change since the last "
             "meeting is not shown."
@@ -428,7 +518,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         cautions=CAUTIONS,
         band_text=(
             "Inside the band means lower edge \u2264 inflation \u2264 upper edge (both edges "
-            "count as inside). Below, inside and above add to 100% after rounding."
+            "count as inside). Below, inside and above add to 100% after rounding; shares under 1% or over 99% are printed as <1% and >99%, never as a certainty."
         ),
         scale_text=f"Words for probabilities follow the {verbal.IPCC_AR5.name} ({verbal.IPCC_AR5.source}).",
         charts=charts,
@@ -465,7 +555,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
             KeyValue("Combination", f"{a.combination['method']} weights, per horizon"),
             KeyValue(
                 "Error distribution",
-                f"{u['distribution']}, fitted per horizon by maximum likelihood",
+                _distribution_text(a),
             ),
             KeyValue(
                 "Error window",

@@ -70,14 +70,15 @@ def percentages(probabilities: list[float]) -> list[int]:
 
 
 def percent_text(whole: int, probability: float) -> str:
-    """A whole percentage for print; never a bare 0% or 100% for a probability that is not.
+    """A whole percentage for print; never 0% or 100%.
 
-    A probability that rounds to 0 or 100 but is not exactly that is printed "<1%" or ">99%"
-    (an exact zero from a fitted distribution would be an artefact, not a fact).
+    A probability that rounds to 0 or 100 is printed "<1%" or ">99%": these are model
+    estimates, and even a simulated or fitted zero is not a certainty.
     """
-    if whole == 0 and probability > 0:
+    del probability  # the rounded value decides; kept for the call sites' clarity
+    if whole <= 0:
         return "<1%"
-    if whole == 100 and probability < 1:
+    if whole >= 100:
         return ">99%"
     return f"{whole}%"
 

@@ -1,0 +1,216 @@
+"""The four error-distribution families against checks.md oracles and scipy.
+
+Sources: checks.md sections 1.3 (two-piece normal MLE, John 1982 closed form, sample A
+boundary case and sample B), 2.1 (skew-normal, Azzalini 1985; scipy.stats.skewnorm), and
+scipy.stats.gaussian_kde for the kernel-smoothed empirical distribution.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from riskreport import distributions
+from riskreport._families import _mode0_exact, fit_two_piece_normal, skewnormal_mode0
+
+SAMPLE_A = np.array([-0.59, -0.32, -0.11, -0.07, 0.42, 0.56, 0.78, 1.09, 1.44, 1.48, 1.6, 1.92])
+SAMPLE_B = np.array(
+    [
+        0.8,
+        0.8,
+        1.07,
+        1.25,
+        1.26,
+        1.28,
+        1.29,
+        1.54,
+        1.59,
+        1.59,
+        1.61,
+        1.72,
+        1.8,
+        1.85,
+        1.88,
+        1.92,
+        1.95,
+        2.06,
+        2.07,
+        2.07,
+        2.1,
+        2.11,
+        2.11,
+        2.12,
+        2.19,
+        2.2,
+        2.37,
+        2.46,
+        2.58,
+        2.58,
+        2.64,
+        2.67,
+        2.68,
+        2.79,
+        2.86,
+        2.9,
+        3.15,
+        3.32,
+        3.36,
+        3.44,
+    ]
+)
+WRONG_SKEW = np.array(
+    [
+        1.885,
+        2.362,
+        0.348,
+        0.319,
+        0.488,
+        0.203,
+        1.585,
+        0.093,
+        0.962,
+        3.179,
+        0.35,
+        -0.127,
+        0.338,
+        0.707,
+        0.781,
+    ]
+)
+
+
+def test_two_piece_normal_mle_sample_b() -> None:
+    # checks.md 1.3, sample B: mode 2.024709, sigma1 0.621989, sigma2 0.717285, logL -40.716742.
+    f = distributions.fit("two-piece-normal", SAMPLE_B)
+    assert f.mode == pytest.approx(2.024709, abs=2e-6)
+    assert f.sigma1 == pytest.approx(0.621989, abs=2e-6)
+    assert f.sigma2 == pytest.approx(0.717285, abs=2e-6)
+    assert f.loglik == pytest.approx(-40.716742, abs=1e-6)
+    assert not f.boundary
+    # The closed-form log-likelihood equals the sum of the log density.
+    assert f.loglik == pytest.approx(float(np.sum(f.logpdf(SAMPLE_B))), abs=1e-9)
+
+
+def test_two_piece_normal_fixed_mode_closed_form() -> None:
+    # checks.md 1.3: mode fixed at 0 on sample A: sigma1 0.3954353863, sigma2 1.1917447592,
+    # logL -14.2530036124.
+    f = distributions.fit("two-piece-normal", SAMPLE_A, mode=0.0)
+    assert (f.sigma1, f.sigma2) == pytest.approx((0.3954353863, 1.1917447592), abs=1e-9)
+    assert f.loglik == pytest.approx(-14.2530036124, abs=1e-9)
+
+
+def test_two_piece_normal_boundary_case_is_detected_and_handled() -> None:
+    # checks.md 1.3, sample A: the global maximum is the half-normal at mode = max(x)
+    # (logL -13.351681 > interior -14.235582). We must detect it and not return sigma2 = 0.
+    f = distributions.fit("two-piece-normal", SAMPLE_A)
+    assert f.boundary
+    assert f.notes
+    lo, hi = np.quantile(SAMPLE_A, [0.1, 0.9])
+    assert lo - 1e-9 <= f.mode <= hi + 1e-9
+    assert min(f.sigma1, f.sigma2) > 0.1
+    # The unrestricted optimum really is at the edge with the half-normal likelihood.
+    free = fit_two_piece_normal(SAMPLE_A[None, :], steps=50)
+    assert free.boundary[0]
+    # Half-normal at mode = max(x): logL = n/2 log(2/pi) - n/2 log(S1/n) - n/2 (checks.md 1.3).
+    n, s1 = 12, float(np.sum((SAMPLE_A - 1.92) ** 2))
+    half_normal = n / 2 * np.log(2 / np.pi) - n / 2 * np.log(s1 / n) - n / 2
+    assert half_normal == pytest.approx(-13.351681, abs=1e-6)
+    assert half_normal > -14.235582  # better than the interior local maximum
+    assert f.loglik < half_normal  # ours is the restricted (interior) optimum, as documented
+
+
+def test_two_piece_normal_batch_matches_single_fits(rng: np.random.Generator) -> None:
+    samples = rng.normal(0, 1, (30, 60)) * np.where(rng.random((30, 60)) < 0.5, 0.7, 1.4)
+    batch = distributions.fit_batch("two-piece-normal", samples)
+    for i in range(0, 30, 7):
+        single = distributions.fit("two-piece-normal", samples[i])
+        assert batch.loglik[i] == pytest.approx(single.loglik, abs=2e-3)  # grid vs refined
+
+
+def test_skew_normal_against_scipy_law() -> None:
+    # checks.md 2.1: scipy.stats.skewnorm(3, loc=1, scale=2): mean 2.5138795132, var
+    # 1.7081688195, cdf(2.0) = 0.3892943751, median 2.3439879583.
+    f = distributions.SkewNormalFit(xi=1.0, omega=2.0, alpha=3.0)
+    assert float(f.cdf(2.0)) == pytest.approx(0.3892943751, abs=1e-10)
+    assert float(f.ppf(0.5)) == pytest.approx(2.3439879583, abs=2e-6)
+    assert distributions.mean(f) == pytest.approx(2.5138795132, abs=1e-7)
+    assert float(f.sd) ** 2 == pytest.approx(1.7081688195, abs=1e-9)
+    xs = np.linspace(-3, 8, 23)
+    assert f.logpdf(xs) == pytest.approx(stats.skewnorm.logpdf(xs, 3, 1, 2), abs=1e-10)
+
+
+def test_skew_normal_fit_agrees_with_scipy_on_a_large_sample() -> None:
+    # With 4000 draws the penalty is negligible: our penalised MLE and scipy's MLE agree.
+    x = stats.skewnorm(3, loc=1, scale=2).rvs(4000, random_state=11)
+    ours = distributions.fit("skew-normal", x)
+    a, loc, scale = stats.skewnorm.fit(x)
+    assert ours.xi == pytest.approx(loc, abs=0.03)
+    assert ours.omega == pytest.approx(scale, abs=0.03)
+    assert ours.alpha == pytest.approx(a, rel=0.05)
+    assert ours.loglik == pytest.approx(stats.skewnorm.logpdf(x, a, loc, scale).sum(), abs=0.5)
+
+
+def test_skew_normal_wrong_skewness_sample_stays_finite() -> None:
+    # checks.md 2.1: g1 = 1.196828 > 0.99527, so no method-of-moments solution, and scipy's
+    # MLE runs to the half-normal (a > 1e3, loc ~ min(x)). Ours must stay finite and say so.
+    assert stats.skew(WRONG_SKEW) == pytest.approx(1.196828, abs=1e-6)
+    a, loc, _ = stats.skewnorm.fit(WRONG_SKEW)
+    assert a > 1e3
+    assert loc == pytest.approx(WRONG_SKEW.min(), abs=1e-2)
+    ours = distributions.fit("skew-normal", WRONG_SKEW)
+    assert 0 < ours.alpha < 100
+    assert ours.boundary
+    assert ours.notes
+
+
+def test_skew_normal_mode() -> None:
+    # Azzalini's approximation of the mode against a numerical maximisation of the density.
+    for alpha in (-4.0, -1.0, 0.5, 3.0, 10.0):
+        assert skewnormal_mode0(alpha) == pytest.approx(_mode0_exact(alpha), abs=0.01)
+    f = distributions.fit("skew-normal", WRONG_SKEW, mode=0.0)
+    assert f.mode == pytest.approx(0.0, abs=1e-6)
+
+
+def test_empirical_cdf_matches_scipy_gaussian_kde(rng: np.random.Generator) -> None:
+    x = rng.gamma(2.0, 0.5, 150) - 1.0
+    f = distributions.fit("empirical", x)
+    kde = stats.gaussian_kde(x, bw_method=f.bandwidth / x.std(ddof=1))
+    for point in (-1.5, -0.5, 0.0, 0.7, 2.5):
+        assert float(f.cdf(point)) == pytest.approx(kde.integrate_box_1d(-np.inf, point), abs=1e-9)
+        assert float(np.exp(f.logpdf(point))) == pytest.approx(float(kde(point)[0]), rel=1e-9)
+    # Silverman's rule of thumb (Silverman 1986, eq. 3.31).
+    iqr = np.subtract(*np.percentile(x, [75, 25]))
+    assert f.bandwidth == pytest.approx(0.9 * min(x.std(), iqr / 1.349) * 150 ** (-0.2))
+    q = np.array([0.05, 0.5, 0.95])
+    assert f.cdf(f.ppf(q)) == pytest.approx(q, abs=1e-5)
+
+
+def test_empirical_with_fixed_mode_peaks_there(rng: np.random.Generator) -> None:
+    f = distributions.fit("empirical", rng.normal(0.4, 1, 200), mode=0.0)
+    grid = np.linspace(-2, 2, 2001)
+    assert grid[np.argmax(f.logpdf(grid))] == pytest.approx(0.0, abs=0.01)
+
+
+def test_given_quantiles_reproduce_their_points() -> None:
+    levels = (0.05, 0.25, 0.5, 0.75, 0.95)
+    values = tuple(stats.norm.ppf(levels, 0.2, 0.8))
+    g = distributions.GivenQuantiles(levels, values)
+    assert g.ppf(np.array(levels)) == pytest.approx(values, abs=1e-12)
+    # Linear in normal scores, so normal quantiles give back the normal everywhere.
+    xs = np.linspace(-3, 3, 13)
+    assert g.cdf(xs) == pytest.approx(stats.norm.cdf(xs, 0.2, 0.8), abs=1e-9)
+    assert g.logpdf(xs) == pytest.approx(stats.norm.logpdf(xs, 0.2, 0.8), abs=1e-9)
+
+
+@pytest.mark.parametrize("family", ["normal", "two-piece-normal", "skew-normal", "empirical"])
+def test_every_family_is_a_proper_distribution(family: str, rng: np.random.Generator) -> None:
+    x = rng.normal(0.1, 0.7, 80) + rng.exponential(0.3, 80)
+    f = distributions.fit(family, x)
+    q = np.linspace(0.01, 0.99, 25)
+    values = f.ppf(q)
+    assert np.all(np.diff(values) > 0)
+    assert f.cdf(values) == pytest.approx(q, abs=2e-5)
+    assert np.isfinite(f.loglik)
+    draws = f.rvs(20000, np.random.default_rng(0))
+    assert np.mean(draws <= values[12]) == pytest.approx(q[12], abs=0.015)

@@ -1,0 +1,122 @@
+"""Uncertainty engine properties: auto choice, thin horizons, given quantiles, annual bases."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+import numpy as np
+import pytest
+from scipy import stats
+
+import riskreport
+from riskreport import selection
+from riskreport.annual import annual
+from riskreport.config import Band
+from riskreport.periods import parse
+from tests.conftest import Case, Result
+
+
+def test_auto_prefers_a_skewed_family_for_skewed_errors(rng: np.random.Generator) -> None:
+    # Errors from a strongly skewed two-piece normal: out-of-sample log score must rank a
+    # skewed family above the normal.
+    n = 400
+    u = rng.random(n)
+    sigma1, sigma2 = 0.3, 1.2
+    split = sigma1 / (sigma1 + sigma2)
+    z = np.where(
+        u < split,
+        sigma1 * stats.norm.ppf(u * (sigma1 + sigma2) / (2 * sigma1)),
+        sigma2 * stats.norm.ppf((u * (sigma1 + sigma2) + sigma2 - sigma1) / (2 * sigma2)),
+    )
+    errors = z[:, None]
+    choice = selection.select(errors, 0, window=0, mode=None)
+    assert choice.chosen != "normal"
+    assert choice.total["two-piece-normal"] > choice.total["normal"]
+    assert choice.total["skew-normal"] > choice.total["normal"]
+    assert choice.runner_up is not None
+
+
+def test_replay_trains_only_on_earlier_outcomes() -> None:
+    errors = np.arange(100, dtype=float)[:, None].repeat(4, axis=1)
+    train, test = selection.training_matrix(errors, 3, 0, 5)
+    for row, value in zip(train, test, strict=True):
+        # Test error of origin j is j; training origins o' must satisfy o' + 3 <= j - 1.
+        assert np.nanmax(row) <= value - 4
+
+
+def test_thin_horizon_borrows_with_a_warning(case: Case) -> None:
+    # Keep horizon 3 only from 2023-09 on: about 12 known errors, below min_errors = 20,
+    # so it borrows from its neighbour h = 2.
+    rows = case.forecasts[1:]
+    h3 = {tuple(r) for r in rows if int(r[1][-2:]) - int(r[0][-2:]) in (3, -9)}
+    case.forecasts = [case.forecasts[0]] + [
+        r for r in rows if tuple(r) not in h3 or r[0] >= "2023-09"
+    ]
+    a = riskreport.assess(case.write())
+    assert a.horizons[3].n_errors < 20
+    assert any("borrow" in w for w in a.warnings)
+    assert "borrowing" in a.uncertainty["families"][3]["source"]
+
+
+def test_error_quantiles_route(case: Case, run: Callable[..., Result]) -> None:
+    rows = ["horizon,quantile,value"]
+    for h in range(4):
+        for q in (0.05, 0.25, 0.5, 0.75, 0.95):
+            rows.append(f"{h},{q},{stats.norm.ppf(q, 0.0, 0.5 + 0.1 * h):.6f}")
+    (case.folder / "eq.csv").write_text("\n".join(rows) + "\n")
+    case.config = case.config.replace(
+        'actuals = "actuals.csv"', 'actuals = "actuals.csv"\nerror_quantiles = "eq.csv"'
+    )
+    a = riskreport.assess(case.write())
+    for r in a.horizons:
+        assert r.distribution == "given-quantiles"
+        assert r.quantiles["0.5"] == pytest.approx(r.point_forecast, abs=1e-9)
+        truth = stats.norm(r.point_forecast, 0.5 + 0.1 * r.h)
+        assert r.p_inside == pytest.approx(truth.cdf(r.band[1]) - truth.cdf(r.band[0]), abs=1e-6)
+    # Bad quantile files get the usual one-line error.
+    (case.folder / "eq.csv").write_text("horizon,quantile,value\n0,0.25,1.0\n0,0.75,0.5\n")
+    result = run("check", case.config_path)
+    assert result.code == 2
+    assert "eq.csv, row 3, column 'value'" in result.stderr
+    (case.folder / "eq.csv").write_text("horizon,quantile,value\n0,1.5,1.0\n0,0.75,0.5\n")
+    assert "column 'quantile'" in run("check", case.config_path).stderr
+
+
+def test_calendar_year_average_with_observed_months() -> None:
+    # 11 months observed at 2.0; December simulated from N(3, 1): the average is inside
+    # [1.5, 2.5] iff December is in [12 * 1.5 - 22, 12 * 2.5 - 22] = [-4, 8] -> scipy.
+    dec = parse("2026-12").ordinal
+    known = {parse(f"2026-{m:02d}").ordinal: 2.0 for m in range(1, 12)}
+    draws = np.random.default_rng(5).normal(3.0, 1.0, (200_000, 1))
+    out = annual(draws, [dec], known, "monthly", lambda _: Band(1.5, 2.5))
+    average = next(r for r in out if r.basis == "calendar-year-average")
+    truth = stats.norm(3, 1)
+    assert average.p_inside == pytest.approx(truth.cdf(8) - truth.cdf(-4), abs=1e-3)
+    assert average.observed_periods == 11
+    year_end = next(r for r in out if r.basis == "year-end")
+    assert year_end.p_inside == pytest.approx(truth.cdf(2.5) - truth.cdf(1.5), abs=4e-3)
+
+
+def test_annual_results_in_the_assessment(case: Case) -> None:
+    case.config = case.config.replace(
+        "tolerance = 1.0", 'tolerance = 1.0\nbasis = "calendar-year-average"'
+    )
+    a = riskreport.assess(case.write())
+    assert a.target["basis"] == "calendar-year-average"
+    bases = {(r["year"], r["basis"]) for r in a.annual}
+    # as_of 2024-12 with h = 0..3: 2024 is complete (Jan-Nov observed, Dec simulated);
+    # 2025 is not (only Jan-Mar are reported), so it is left out.
+    assert bases == {(2024, "calendar-year-average"), (2024, "year-end")}
+    for r in a.annual:
+        assert r["p_below"] + r["p_inside"] + r["p_above"] == pytest.approx(1.0)
+
+
+@pytest.mark.parametrize("family", ["two-piece-normal", "skew-normal", "empirical"])
+def test_families_through_the_whole_pipeline(case: Case, family: str) -> None:
+    case.config = case.config.replace('distribution = "normal"', f'distribution = "{family}"')
+    a = riskreport.assess(case.write())
+    for r in a.horizons:
+        assert r.distribution == family
+        assert r.p_below + r.p_inside + r.p_above == pytest.approx(1.0, abs=1e-9)
+        lo, hi = r.p_inside_interval
+        assert 0 <= lo <= hi <= 1
