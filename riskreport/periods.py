@@ -103,3 +103,20 @@ def parse_column(texts: pd.Series) -> tuple[pd.Series, pd.Series]:
     # pandas ordinals count periods from 1970-01 (monthly) or 1970-Q1 (quarterly).
     ordinal = ((year - 1970) * 12 + month - 1).where(month.notna(), (year - 1970) * 4 + quarter - 1)
     return frequency, ordinal
+
+
+def ranges(values: list[int]) -> str:
+    """Whole numbers as compact ranges: [1, 2, 3, 5, 7, 8] -> "1-3, 5, 7-8" (en dashes).
+
+    Examples
+    --------
+    >>> ranges([0, 1, 2, 4])
+    '0\u20132, 4'
+    """
+    runs: list[list[int]] = []
+    for v in sorted(set(values)):
+        if runs and v == runs[-1][-1] + 1:
+            runs[-1].append(v)
+        else:
+            runs.append([v])
+    return ", ".join(str(r[0]) if len(r) == 1 else f"{r[0]}\u2013{r[-1]}" for r in runs)

@@ -188,7 +188,7 @@ def build(
     if given_h:
         warnings.warn(
             "The error distribution is given (error_quantiles) for horizons "
-            f"{', '.join(map(str, sorted(given_h)))}; it has no sampling interval there.",
+            f"{periods.ranges(sorted(given_h))}; it has no sampling interval there.",
             SmallSampleWarning,
             stacklevel=2,
         )

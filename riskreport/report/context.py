@@ -142,7 +142,7 @@ class BriefContext:
     inputs: tuple[tuple[str, str, str, str, str], ...]
     samples: tuple[KeyValue, ...]
     warnings: tuple[str, ...]
-    software: tuple[KeyValue, ...]
+    software: str
 
 
 def band_label(band: tuple[float, float]) -> str:
@@ -593,7 +593,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
             )
             for i in a.inputs
         ),
-        samples=(KeyValue("Past errors per horizon", f"{min(samples)} to {max(samples)}"),),
+        samples=(KeyValue("Past errors per horizon", _span(samples)),),
         warnings=a.warnings,
-        software=tuple(KeyValue(k, v) for k, v in a.software.items()),
+        software=", ".join(f"{k} {v}" for k, v in a.software.items()),
     )
