@@ -103,6 +103,7 @@ class Assessment:
     models: tuple[ModelStatus, ...]
     accuracy: tuple[AccuracyRow, ...]
     tests: tuple[TestRow, ...]
+    calibration: dict[str, Any]
     uncertainty: dict[str, Any]
     history: tuple[Observation, ...]
     change: dict[str, Any] | None

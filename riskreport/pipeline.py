@@ -12,14 +12,16 @@ import platform
 import warnings
 from importlib import metadata
 from pathlib import Path
+from typing import cast
 
 import numpy as np
 
 from riskreport import annual as annual_module
+from riskreport import calibration, overlay, periods, probabilities, selection, uncertainty
 from riskreport import combination as combination_module
 from riskreport import config as config_module
-from riskreport import overlay, periods, probabilities, uncertainty
 from riskreport import panel as panel_module
+from riskreport._typing import Family
 from riskreport.assessment import (
     Assessment,
     HorizonResult,
@@ -311,7 +313,19 @@ def _assess(cfg: Config) -> Assessment:
             column="period",
         )
     errors = error_matrix(combo.combined, panel.outcomes)
-    margins = uncertainty.build(cfg, errors, point, given)
+    mode = 0.0 if cfg.centre == "forecast" else None
+    runs = calibration.replay(
+        panel,
+        combo.combined,
+        errors,
+        cfg.horizons,
+        window=cfg.window,
+        mode=mode,
+        band_for=cfg.band_for,
+    )
+    choice = selection.select(runs) if cfg.distribution == "auto" else None
+    family = choice.chosen if choice is not None else cast(Family, cfg.distribution)
+    margins = uncertainty.build(cfg, errors, point, given, family=family, choice=choice)
     ordinals = [cfg.as_of + h for h in range(cfg.horizons + 1)]
     final, applied = overlay.apply(
         list(margins.outcome),
@@ -358,6 +372,7 @@ def _assess(cfg: Config) -> Assessment:
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,
+        calibration=calibration.summarise(runs, family, cfg.frequency),
         uncertainty=_uncertainty_record(cfg, margins),
         history=_history(act, cfg),
         change=None,

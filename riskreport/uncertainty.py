@@ -102,7 +102,13 @@ def _monotone(fits: list[Distribution]) -> list[Distribution]:
 
 
 def build(
-    cfg: Config, errors: np.ndarray, point: np.ndarray, given: ErrorQuantiles | None
+    cfg: Config,
+    errors: np.ndarray,
+    point: np.ndarray,
+    given: ErrorQuantiles | None,
+    *,
+    family: Family,
+    choice: selection.Selection | None = None,
 ) -> Margins:
     """Fit every reported horizon's error distribution and form the outcome distributions.
 
@@ -126,15 +132,6 @@ def build(
                 file=cfg.forecasts,
                 column="origin",
             )
-    choice = None
-    family: Family
-    if cfg.distribution == "auto":
-        choice = selection.select(
-            np.where(mask, errors, np.nan), cfg.horizons, window=cfg.window, mode=mode
-        )
-        family = choice.chosen
-    else:
-        family = cfg.distribution
     samples: list[np.ndarray] = []
     own: list[int] = []
     families: list[str] = []

@@ -9,9 +9,10 @@ import pytest
 from scipy import stats
 
 import riskreport
-from riskreport import selection
+from riskreport import calibration, selection
 from riskreport.annual import annual
 from riskreport.config import Band
+from riskreport.distributions import FAMILIES, fit_batch
 from riskreport.periods import parse
 from tests.conftest import Case, Result
 
@@ -28,20 +29,30 @@ def test_auto_prefers_a_skewed_family_for_skewed_errors(rng: np.random.Generator
         sigma1 * stats.norm.ppf(u * (sigma1 + sigma2) / (2 * sigma1)),
         sigma2 * stats.norm.ppf((u * (sigma1 + sigma2) + sigma2 - sigma1) / (2 * sigma2)),
     )
-    errors = z[:, None]
-    choice = selection.select(errors, 0, window=0, mode=None)
+    choice = selection.select({(f, 0): _replay(f, z) for f in FAMILIES})
     assert choice.chosen != "normal"
     assert choice.total["two-piece-normal"] > choice.total["normal"]
     assert choice.total["skew-normal"] > choice.total["normal"]
     assert choice.runner_up is not None
 
 
+def _replay(family: str, errors: np.ndarray) -> calibration.HorizonReplay:
+    tests, train, test = calibration.training(errors[:, None], 0, 0)
+    fitted = fit_batch(family, train)
+    logs = np.asarray(fitted.logpdf(test))
+    empty = np.zeros((tests.size, 3))
+    return calibration.HorizonReplay(family, 0, tests, test, empty, tests, empty, logs, logs)
+
+
 def test_replay_trains_only_on_earlier_outcomes() -> None:
     errors = np.arange(100, dtype=float)[:, None].repeat(4, axis=1)
-    train, test = selection.training_matrix(errors, 3, 0, 5)
-    for row, value in zip(train, test, strict=True):
-        # Test error of origin j is j; training origins o' must satisfy o' + 3 <= j - 1.
-        assert np.nanmax(row) <= value - 4
+    for window in (0, 30):
+        tests, train, test = calibration.training(errors, 3, window)
+        assert tests.size == 100 - 4 - calibration.MIN_TRAINING + 1
+        for row, value in zip(train, test, strict=True):
+            # Test error of origin j is j; training origins o' must satisfy o' + 3 <= j - 1.
+            assert np.nanmax(row) == value - 4
+            assert window == 0 or np.sum(np.isfinite(row)) <= window
 
 
 def test_thin_horizon_borrows_with_a_warning(case: Case) -> None:

@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import matplotlib
+import numpy as np
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
@@ -188,7 +189,7 @@ def spread_labels(positions: list[float], gap: float) -> list[float]:
 
 
 def _outcome_lines(ax: Axes, x: list[int], series: dict[str, list[float]]) -> None:
-    ends = spread_labels([100 * values[-1] for values in series.values()], gap=7.0)
+    ends = spread_labels([100 * values[-1] for values in series.values()], gap=10.0)
     for (key, values), end in zip(series.items(), ends, strict=True):
         style = OUTCOME_STYLE[key]
         ax.plot(x, [100 * v for v in values], lw=1.3, markersize=3, markevery=3, label=key, **style)
@@ -246,3 +247,75 @@ def band_probabilities(
         ax.grid(axis="y", color=GRID, lw=0.4)
         ax.spines[["top", "right"]].set_visible(False)
         return Chart("band-probabilities", _svg(fig), width_mm, height_mm)
+
+
+def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: float = 40) -> Chart:
+    """PIT histograms by horizon group: a flat histogram means well-calibrated densities."""
+    groups = assessment.calibration["pit"]
+    with matplotlib.rc_context(_RC):
+        fig = _figure(width_mm, height_mm)
+        axes = fig.subplots(1, max(len(groups), 1), sharey=True)
+        axes = np.atleast_1d(axes)
+        for ax, group in zip(axes, groups, strict=True):
+            counts = np.array(group["counts"], dtype=float)
+            share = counts / counts.sum() * len(counts)
+            edges = np.linspace(0, 1, len(counts) + 1)
+            ax.bar(
+                edges[:-1],
+                share,
+                width=np.diff(edges),
+                align="edge",
+                color=FAN["80%"],
+                edgecolor=INK,
+                linewidth=0.4,
+            )
+            ax.axhline(1.0, color=INK, lw=0.8, ls=(0, (3, 2)))
+            ax.set_title(
+                f"h = {group['h_from']}\u2013{group['h_to']}"
+                if group["h_from"] != group["h_to"]
+                else f"h = {group['h_from']}",
+                fontsize=7.5,
+            )
+            ax.set_xticks([0, 0.5, 1], ["0", "0.5", "1"])
+            ax.spines[["top", "right"]].set_visible(False)
+        axes[0].set_ylabel("density (1 = uniform)")
+        fig.supxlabel("PIT of the outcome", fontsize=7.5)
+        return Chart("pit", _svg(fig), width_mm, height_mm)
+
+
+def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float = 62) -> Chart:
+    """Said-versus-happened for P(inside): the forecast probability against the observed
+    frequency, bins of 10 points, each labelled with its count."""
+    table = assessment.calibration["brier"]["reliability"]
+    with matplotlib.rc_context(_RC):
+        fig = _figure(width_mm, height_mm)
+        ax = fig.add_subplot()
+        ax.plot([0, 100], [0, 100], color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)))
+        x = [100 * r["forecast_mean"] for r in table]
+        y = [100 * r["observed_frequency"] for r in table]
+        ax.plot(x, y, color=OUTCOME_STYLE["inside"]["color"], marker="o", markersize=3.5, lw=1.2)
+        for xi, yi, r in zip(x, y, table, strict=True):
+            ax.annotate(
+                str(r["n"]),
+                (xi, yi),
+                xytext=(3, -8),
+                textcoords="offset points",
+                fontsize=5.5,
+                color=BAND_EDGE,
+            )
+        ax.annotate(
+            "said = happened",
+            (95, 95),
+            xytext=(0, -16),
+            textcoords="offset points",
+            fontsize=6.5,
+            color=BAND_EDGE,
+            ha="right",
+        )
+        ax.set_xlim(0, 100)
+        ax.set_ylim(0, 100)
+        ax.set_xlabel("said: probability inside, %")
+        ax.set_ylabel("happened: share inside, %")
+        ax.grid(color=GRID, lw=0.4)
+        ax.spines[["top", "right"]].set_visible(False)
+        return Chart("reliability", _svg(fig), width_mm, height_mm)

@@ -6,6 +6,7 @@ The templates only loop over these values and print them.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 from riskreport import verbal
 from riskreport.assessment import Assessment, HorizonResult
@@ -133,6 +134,8 @@ class BriefContext:
     accuracy_horizons: tuple[str, ...]
     accuracy_lines: tuple[AccuracyLine, ...]
     accuracy_text: str
+    calibration_text: tuple[str, ...]
+    coverage_rows: tuple[tuple[str, str, str, str], ...]
     tests_text: tuple[str, ...]
     weight_horizons: tuple[str, ...]
     weight_rows: tuple[AccuracyLine, ...]
@@ -211,6 +214,95 @@ def _messages(a: Assessment) -> tuple[str, ...]:
     return tuple(messages)
 
 
+def _coverage(a: Assessment, h: int, nominal: float) -> dict[str, Any] | None:
+    return next(
+        (c for c in a.calibration["coverage"] if c["h"] == h and c["nominal"] == nominal), None
+    )
+
+
+def _said_70(a: Assessment) -> str | None:
+    rows = a.calibration["brier"]["reliability"]
+    if not rows:
+        return None
+    r = min(rows, key=lambda r: abs(r["forecast_mean"] - 0.7))
+    return (
+        f"when it put the chance of being inside the band at about "
+        f"{fmt.single_percent(r['forecast_mean'])}, inflation was inside "
+        f"{fmt.single_percent(r['observed_frequency'])} of the time ({r['n']} cases)"
+    )
+
+
+def _calibration_sentence(a: Assessment) -> str:
+    """The one honest sentence on the track record of probability statements."""
+    cover = _coverage(a, a.policy_horizon, 0.9)
+    said = _said_70(a)
+    if cover is None or said is None:
+        return "There are too few past rounds to check how past probability statements held."
+    return (
+        f"Replaying the method over {cover['n']} past rounds, {said}; at the policy horizon "
+        f"the 90% ranges held the outcome {fmt.single_percent(cover['observed'])} of the time."
+    )
+
+
+def _calibration(
+    a: Assessment, shown: tuple[int, ...]
+) -> tuple[tuple[str, ...], tuple[tuple[str, str, str, str], ...]]:
+    c = a.calibration
+    rows = []
+    for h in shown:
+        half, ninety = _coverage(a, h, 0.5), _coverage(a, h, 0.9)
+        if half and ninety:
+            rows.append(
+                (
+                    f"h = {h}",
+                    fmt.single_percent(half["observed"]),
+                    fmt.single_percent(ninety["observed"]),
+                    str(ninety["n"]),
+                )
+            )
+    lines = [
+        f"The replay fits the {FAMILY_NAMES.get(c['distribution'], c['distribution'])} error distribution at every past round "
+        "from the errors known then and scores the outcome that followed; the judgement "
+        "overlay is not replayed."
+    ]
+    wide = [h for h in shown if (cv := _coverage(a, h, 0.9)) and cv["observed"] < 0.85]
+    if wide:
+        lines.append(
+            f"The 90% ranges held the outcome clearly less often than 90% at {_join_h(wide)}: "
+            "past uncertainty at those horizons was larger than the fitted distributions said."
+        )
+    else:
+        lines.append(
+            "The 90% ranges held the outcome about as often as they should at the horizons shown."
+        )
+    tests = {(t["name"], t["h"]): t for t in c["tests"]}
+    berk = tests.get(("berkowitz", 0))
+    if berk:
+        verdict = "rejects" if berk["pvalue"] < SIGNIFICANCE else "does not reject"
+        lines.append(
+            f"For the nowcast, the Berkowitz test {verdict} well-calibrated, independent PITs "
+            f"(p = {fmt.number(berk['pvalue'], 3)})."
+        )
+    rejected = [h for h in shown if (t := tests.get(("knuppel", h))) and t["pvalue"] < SIGNIFICANCE]
+    lines.append(
+        "A raw-moment test that allows for the overlap of multi-step errors (Knueppel 2015) "
+        + (
+            f"rejects calibration at {_join_h(rejected)}."
+            if rejected
+            else "does not reject calibration at the horizons shown."
+        )
+    )
+    skill = {r["h"]: r["skill"] for r in c["rps"]["by_horizon"]}
+    better = [h for h in shown if skill.get(h, -1) > 0]
+    lines.append(
+        "Against a benchmark that always says the historical shares of below, inside and "
+        "above, the ranked probability score is better at "
+        + (_join_h(better) if better else "none of the horizons shown")
+        + "."
+    )
+    return tuple(lines), tuple(rows)
+
+
 def _track_text(a: Assessment) -> str:
     row = next(
         (x for x in a.accuracy if x.model == "combination" and x.h == a.policy_horizon), None
@@ -223,8 +315,7 @@ def _track_text(a: Assessment) -> str:
         f"Over the last {row.n} forecast rounds with a known outcome, the combined forecast "
         f"{a.policy_horizon} {unit}s ahead missed by {fmt.number(row.rmse)} pp on average "
         f"(root mean square); outcomes came in {direction} the forecast by "
-        f"{fmt.number(abs(row.mean_error))} pp on average. A calibration check of past "
-        "probability statements is not yet part of this brief."
+        f"{fmt.number(abs(row.mean_error))} pp on average. {_calibration_sentence(a)}"
     )
 
 
@@ -485,6 +576,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
     acc_h, acc_lines, acc_text = _accuracy(a)
     shown = tuple(h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h)
     weight_h, weight_rows, weight_text = _weights(a, shown)
+    calibration_lines, coverage_rows = _calibration(a, shown)
     samples = [r.n_errors for r in a.horizons]
     u = a.uncertainty
     return BriefContext(
@@ -536,6 +628,8 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         accuracy_lines=acc_lines,
         accuracy_text=acc_text,
         tests_text=_tests_text(a, shown),
+        calibration_text=calibration_lines,
+        coverage_rows=coverage_rows,
         weight_horizons=weight_h,
         weight_rows=weight_rows,
         weight_text=weight_text,

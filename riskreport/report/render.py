@@ -63,6 +63,31 @@ def _alt_probabilities(a: Assessment) -> str:
     )
 
 
+def _alt_pit(a: Assessment) -> str:
+    parts = []
+    for g in a.calibration["pit"]:
+        counts = g["counts"]
+        n = sum(counts)
+        parts.append(
+            f"h {g['h_from']} to {g['h_to']}: {fmt.single_percent(counts[0] / n)} in the lowest tenth and "
+            f"{fmt.single_percent(counts[-1] / n)} in the highest (10% each if calibrated)"
+        )
+    return (
+        "Histograms of the probability integral transforms of past outcomes. "
+        + "; ".join(parts)
+        + "."
+    )
+
+
+def _alt_reliability(a: Assessment) -> str:
+    rows = a.calibration["brier"]["reliability"]
+    parts = [
+        f"said {fmt.single_percent(r['forecast_mean'])}, happened {fmt.single_percent(r['observed_frequency'])} ({r['n']} rounds)"
+        for r in rows
+    ]
+    return "Reliability of the probability of being inside the band: " + "; ".join(parts) + "."
+
+
 def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], dict[str, str]]:
     """The charts as blocks for the template, and their SVG text by name."""
     made = [
@@ -79,6 +104,26 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], d
             "the 90% bootstrap interval for inside.",
         ),
     ]
+    calibration = a.calibration
+    if calibration["pit"]:
+        made.append(
+            (
+                charts_module.pit_histograms(a),
+                _alt_pit(a),
+                "PIT histograms of past rounds by horizon group (replay of the model-based method). "
+                "Bars above the dashed line mark outcomes that fell there more often than the "
+                "distributions said.",
+            )
+        )
+    if calibration["brier"]["reliability"]:
+        made.append(
+            (
+                charts_module.reliability(a),
+                _alt_reliability(a),
+                "Said versus happened: the probability of being inside the band, against how "
+                "often it was (labels: rounds).",
+            )
+        )
     blocks = {
         chart.name: context_module.ChartBlock(
             chart.name, _uri(chart.svg), chart.width_mm, chart.height_mm, alt, caption

@@ -1,0 +1,271 @@
+"""Would our past probability statements have held? A pseudo-real-time replay of the method.
+
+At every past origin o with enough history, each family is fitted to the combined
+forecast's errors whose outcome came before o (the last ``window`` of them; the combined
+forecast itself uses weights from that past only), and the outcome that followed scores it:
+its PIT, the band probabilities it implied, its log score and CRPS. All origins of a
+horizon are fitted at once. The judgement overlay and the monotone-spread rule are not
+replayed (past overlays are not on record); the replay judges the model-based method.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from scipy import stats as st
+
+from riskreport import scores, stats
+from riskreport._typing import Family, Frequency
+from riskreport.config import Band
+from riskreport.distributions import FAMILIES, fit_batch
+from riskreport.panel import Panel
+
+MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common practice, no source)
+NOMINAL = (0.5, 0.9)
+PIT_BINS = 10
+HORIZON_GROUPS: dict[Frequency, tuple[tuple[int, int], ...]] = {
+    "monthly": ((0, 2), (3, 5), (6, 11), (12, 17), (18, 24)),
+    "quarterly": ((0, 0), (1, 2), (3, 4), (5, 8)),
+}
+
+
+@dataclass(frozen=True)
+class HorizonReplay:
+    """One family at one horizon, over its evaluation origins (arrays in origin order)."""
+
+    family: str
+    h: int
+    origins: np.ndarray
+    pit: np.ndarray
+    probabilities: np.ndarray  # n x 3: below, inside, above
+    category: np.ndarray  # 0 below, 1 inside, 2 above
+    climatology: np.ndarray  # n x 3 historical frequencies known at each origin
+    log_score: np.ndarray
+    crps: np.ndarray
+
+
+def training(errors: np.ndarray, h: int, window: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Evaluation origins, their training samples (NaN padded) and test errors at horizon h.
+
+    e(o', h) may train the fit at origin j only if its outcome period o' + h came before j.
+    """
+    column = errors[:, h]
+    known = np.flatnonzero(np.isfinite(column))
+    # Position of the last usable training error for each candidate origin.
+    usable = np.searchsorted(known, known - h - 1, side="right")
+    keep = usable >= MIN_TRAINING
+    tests, ends = known[keep], usable[keep]
+    width = min(window, int(ends.max(initial=0))) if window > 0 else int(ends.max(initial=0))
+    matrix = np.full((tests.size, max(width, 1)), np.nan)
+    for row, end in enumerate(ends):
+        start = max(0, end - width)
+        values = column[known[start:end]]
+        matrix[row, : values.size] = values
+    return tests, matrix, column[tests]
+
+
+def _climatology(
+    panel: Panel, tests: np.ndarray, h: int, band_for: Callable[[int], Band]
+) -> np.ndarray:
+    """Frequencies of below / inside / above among the outcomes known at each origin."""
+    out = np.zeros((tests.size, 3))
+    series = panel.series
+    for row, j in enumerate(tests):
+        origin = int(panel.origins[j])
+        past = series[: max(origin - panel.series_start, 0)]
+        past = past[np.isfinite(past)]
+        band = band_for(origin + h)
+        if past.size == 0:
+            out[row] = 1 / 3
+            continue
+        below = np.mean(past < band.lower)
+        above = np.mean(past > band.upper)
+        out[row] = (below, 1 - below - above, above)
+    return out
+
+
+def replay_horizon(
+    family: Family,
+    panel: Panel,
+    combined: np.ndarray,
+    errors: np.ndarray,
+    h: int,
+    *,
+    window: int,
+    mode: float | None,
+    band_for: Callable[[int], Band],
+) -> HorizonReplay | None:
+    """Replay one family at one horizon; None when no origin has enough history."""
+    tests, train, test = training(errors, h, window)
+    if tests.size == 0:
+        return None
+    fitted: Any = fit_batch(family, train, mode=mode)
+    bands = [band_for(int(panel.origins[j]) + h) for j in tests]
+    point = combined[tests, h]
+    lower = np.array([b.lower for b in bands]) - point
+    upper = np.array([b.upper for b in bands]) - point
+    f_lower, f_upper = np.asarray(fitted.cdf(lower)), np.asarray(fitted.cdf(upper))
+    probabilities = np.column_stack([f_lower, f_upper - f_lower, 1 - f_upper])
+    outcome = point + test
+    category = np.where(outcome < lower + point, 0, np.where(outcome > upper + point, 2, 1))
+    logs = np.asarray(fitted.logpdf(test))
+    return HorizonReplay(
+        family=family,
+        h=h,
+        origins=tests,
+        pit=np.clip(np.asarray(fitted.cdf(test)), 0.0, 1.0),
+        probabilities=probabilities,
+        category=category,
+        climatology=_climatology(panel, tests, h, band_for),
+        log_score=np.where(np.isfinite(logs), logs, -50.0),  # an outcome the fit rules out
+        crps=np.asarray(scores.crps(fitted, test)),
+    )
+
+
+def replay(
+    panel: Panel,
+    combined: np.ndarray,
+    errors: np.ndarray,
+    horizons: int,
+    *,
+    window: int,
+    mode: float | None,
+    band_for: Callable[[int], Band],
+    families: tuple[Family, ...] = FAMILIES,
+) -> dict[tuple[str, int], HorizonReplay]:
+    """Replay every family at every horizon."""
+    out: dict[tuple[str, int], HorizonReplay] = {}
+    for family in families:
+        for h in range(horizons + 1):
+            result = replay_horizon(
+                family, panel, combined, errors, h, window=window, mode=mode, band_for=band_for
+            )
+            if result is not None:
+                out[(family, h)] = result
+    return out
+
+
+def _pit_groups(runs: list[HorizonReplay], frequency: Frequency) -> list[dict[str, Any]]:
+    groups = []
+    for first, last in HORIZON_GROUPS[frequency]:
+        pits = np.concatenate([r.pit for r in runs if first <= r.h <= last] or [np.empty(0)])
+        if pits.size == 0:
+            continue
+        counts = np.histogram(pits, bins=PIT_BINS, range=(0, 1))[0]
+        chi2 = st.chisquare(counts)
+        groups.append(
+            {
+                "h_from": first,
+                "h_to": last,
+                "counts": counts.tolist(),
+                "n": int(pits.size),
+                "chi2": float(chi2.statistic),
+                "pvalue": float(chi2.pvalue),
+                "note": "Pearson chi-square against the uniform (Wallis 2003); overlapping multi-step PITs are dependent, so the p-value is indicative only",
+            }
+        )
+    return groups
+
+
+def _reliability(runs: list[HorizonReplay], bins: int = 10) -> list[dict[str, Any]]:
+    p = np.concatenate([r.probabilities[:, 1] for r in runs])
+    o = np.concatenate([(r.category == 1).astype(float) for r in runs])
+    which = np.minimum((p * bins).astype(int), bins - 1)
+    table = []
+    for k in range(bins):
+        members = which == k
+        if members.any():
+            table.append(
+                {
+                    "bin": [k / bins, (k + 1) / bins],
+                    "forecast_mean": float(p[members].mean()),
+                    "observed_frequency": float(o[members].mean()),
+                    "n": int(members.sum()),
+                }
+            )
+    return table
+
+
+def _test_entry(name: str, h: int, result: stats.TestResult) -> dict[str, Any]:
+    return {
+        "name": name,
+        "h": h,
+        "statistic": result.statistic,
+        "pvalue": result.pvalue,
+        "nobs": result.nobs,
+        "null": result.null,
+        "method": result.method,
+    }
+
+
+def summarise(
+    runs: dict[tuple[str, int], HorizonReplay], family: str, frequency: Frequency
+) -> dict[str, Any]:
+    """The calibration record of one family plus the scores of every family (JSON-ready)."""
+    mine = sorted((r for (f, _), r in runs.items() if f == family), key=lambda r: r.h)
+    coverage = [
+        {
+            "h": r.h,
+            "nominal": nominal,
+            "observed": float(np.mean(np.abs(r.pit - 0.5) <= nominal / 2)),
+            "n": int(r.pit.size),
+        }
+        for r in mine
+        for nominal in NOMINAL
+    ]
+    brier_rows = []
+    rps_rows = []
+    tests = []
+    for r in mine:
+        d = scores.brier(r.probabilities[:, 1], (r.category == 1).astype(float))
+        brier_rows.append(
+            {
+                "h": r.h,
+                "brier": d.brier,
+                "reliability": d.reliability,
+                "resolution": d.resolution,
+                "uncertainty": d.uncertainty,
+                "within_bin": d.within_bin,
+                "n": d.n,
+            }
+        )
+        ours = float(np.mean(scores.rps(r.probabilities, r.category)))
+        clim = float(np.mean(scores.rps(r.climatology, r.category)))
+        rps_rows.append(
+            {
+                "h": r.h,
+                "rps": ours,
+                "rps_climatology": clim,
+                "skill": 1 - ours / clim if clim > 0 else float("nan"),
+                "n": int(r.pit.size),
+            }
+        )
+        if r.pit.size >= 12:
+            if r.h == 0:
+                tests.append(_test_entry("berkowitz", r.h, stats.berkowitz(r.pit)))
+            tests.append(_test_entry("knuppel", r.h, stats.knuppel(r.pit, h=r.h + 1, moments=2)))
+    return {
+        "distribution": family,
+        "coverage": coverage,
+        "pit": _pit_groups(mine, frequency),
+        "brier": {"by_horizon": brier_rows, "reliability": _reliability(mine)},
+        "rps": {
+            "by_horizon": rps_rows,
+            "categories": ["below", "inside", "above"],
+            "convention": "unnormalised sum over categories (scoringrules rps_score)",
+        },
+        "tests": tests,
+        "scores": [
+            {
+                "distribution": f,
+                "h": h,
+                "log_score": float(np.mean(r.log_score)),
+                "crps": float(np.mean(r.crps)),
+                "n": int(r.pit.size),
+            }
+            for (f, h), r in sorted(runs.items(), key=lambda item: (item[0][1], item[0][0]))
+        ],
+    }

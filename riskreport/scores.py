@@ -1,0 +1,161 @@
+"""Proper scores of probability forecasts: CRPS and log score of densities, Brier score with
+its Murphy decomposition, and the ranked probability score of below / inside / above.
+
+Vectorised over forecasts; the closed forms are checked against scoringrules in the tests.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import ArrayLike
+from scipy import special
+
+from riskreport._families import EmpiricalFit, NormalFit, SkewNormalFit, TwoPieceNormalFit
+
+_SQRT_PI = np.sqrt(np.pi)
+
+
+def crps_normal(y: ArrayLike, mu: ArrayLike, sigma: ArrayLike) -> np.ndarray:
+    """CRPS of N(mu, sigma^2) at y: sigma (w (2 Phi(w) - 1) + 2 phi(w) - 1/sqrt(pi)).
+
+    Gneiting, Raftery, Westveld & Goldman (2005), MWR 133:1098-1118.
+    """
+    sigma = np.asarray(sigma, dtype=float)
+    w = (np.asarray(y, dtype=float) - np.asarray(mu, dtype=float)) / sigma
+    pdf = np.exp(-0.5 * w**2) / np.sqrt(2 * np.pi)
+    return np.asarray(sigma * (w * (2 * special.ndtr(w) - 1) + 2 * pdf - 1 / _SQRT_PI))
+
+
+def _crps_tpn_positive(y: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """CRPS of the TPN with mode 0, scales (a, b), at y >= 0 (checks.md 8.6 closed form)."""
+    s = a + b
+    g = (4 - 2 * np.sqrt(2)) / _SQRT_PI  # Gini mean difference of the standard half-normal
+    c = y / b
+    phi_c = np.exp(-0.5 * c**2) / np.sqrt(2 * np.pi)
+    phi_0 = 1 / np.sqrt(2 * np.pi)
+    e_abs = (a / s) * (y + a * np.sqrt(2 / np.pi)) + (b / s) * b * (
+        c * (4 * special.ndtr(c) - 3) + 4 * phi_c - 2 * phi_0
+    )
+    e_pair = (
+        (a / s) ** 2 * a * g
+        + (b / s) ** 2 * b * g
+        + 2 * (a / s) * (b / s) * (a + b) * np.sqrt(2 / np.pi)
+    )
+    return e_abs - 0.5 * e_pair
+
+
+def crps_two_piece_normal(
+    y: ArrayLike, mode: ArrayLike, sigma1: ArrayLike, sigma2: ArrayLike
+) -> np.ndarray:
+    """CRPS of the two-piece normal; for y below the mode the mirror CRPS(-y; sigma2, sigma1)."""
+    d = np.asarray(y, dtype=float) - mode
+    a, b = np.broadcast_arrays(np.asarray(sigma1, dtype=float), np.asarray(sigma2, dtype=float))
+    d, a, b = np.broadcast_arrays(d, a, b)
+    return np.where(
+        d >= 0, _crps_tpn_positive(np.abs(d), a, b), _crps_tpn_positive(np.abs(d), b, a)
+    )
+
+
+def _a(mu: np.ndarray, var: np.ndarray) -> np.ndarray:
+    """E|X| for X ~ N(mu, var): 2 sigma phi(mu/sigma) + mu (2 Phi(mu/sigma) - 1)."""
+    sigma = np.sqrt(var)
+    z = mu / sigma
+    return 2 * sigma * np.exp(-0.5 * z**2) / np.sqrt(2 * np.pi) + mu * (2 * special.ndtr(z) - 1)
+
+
+def crps_kernel_mixture(y: ArrayLike, sample: np.ndarray, bandwidth: ArrayLike) -> np.ndarray:
+    """CRPS of an equal-weight Gaussian mixture (the kernel-smoothed empirical distribution):
+    E|X - y| - E|X - X'|/2 with both expectations in closed form over the components
+    (Grimit, Gneiting, Berrocal & Johnson 2006, QJRMS 132:2925-2942)."""
+    x = np.atleast_2d(sample)
+    b = np.asarray(bandwidth, dtype=float).reshape(-1, 1)
+    y = np.asarray(y, dtype=float).reshape(-1, 1)
+    ok = np.isfinite(x)
+    n = ok.sum(axis=1)
+    first = np.where(ok, _a(y - x, b**2), 0.0).sum(axis=1) / n
+    diff = x[:, :, None] - x[:, None, :]
+    pair_ok = ok[:, :, None] & ok[:, None, :]
+    second = (
+        np.where(pair_ok, _a(np.nan_to_num(diff), 2 * b[:, :, None] ** 2), 0.0).sum(axis=(1, 2))
+        / n**2
+    )
+    return first - 0.5 * second
+
+
+def crps_numeric(
+    cdf: object, y: ArrayLike, centre: ArrayLike, width: ArrayLike, points: int = 801
+) -> np.ndarray:
+    """CRPS = integral (F(x) - 1{x >= y})^2 dx on a grid of centre +- width (trapezoid rule)."""
+    y = np.asarray(y, dtype=float)
+    grid = (
+        np.asarray(centre)[:, None]
+        + np.asarray(width)[:, None] * np.linspace(-1, 1, points)[None, :]
+    )
+    f = cdf(grid.T).T  # type: ignore[operator]
+    step = (grid >= y[:, None]).astype(float)
+    return np.trapezoid((f - step) ** 2, grid, axis=1)
+
+
+def crps(fit: object, y: ArrayLike) -> np.ndarray:
+    """CRPS of a (batched) fit at y: closed forms where known, else numerical integration."""
+    if isinstance(fit, NormalFit):
+        return crps_normal(y, fit.loc, fit.scale)
+    if isinstance(fit, TwoPieceNormalFit):
+        return crps_two_piece_normal(y, fit.mode, fit.sigma1, fit.sigma2)
+    if isinstance(fit, EmpiricalFit):
+        return crps_kernel_mixture(y, fit.sample, fit.bandwidth)
+    if isinstance(fit, SkewNormalFit):
+        sd = np.asarray(fit.sd)
+        return crps_numeric(fit.cdf, y, np.asarray(fit.mode), 10 * sd)
+    raise TypeError(f"no CRPS for {type(fit).__name__}")
+
+
+@dataclass(frozen=True)
+class BrierDecomposition:
+    """Brier score of binary forecasts and Murphy's decomposition over probability bins.
+
+    ``brier = reliability - resolution + uncertainty + within_bin``; ``within_bin`` is zero
+    when forecasts are constant within each bin (Murphy 1973, J. Appl. Meteor. 12:595-600).
+    """
+
+    brier: float
+    reliability: float
+    resolution: float
+    uncertainty: float
+    within_bin: float
+    n: int
+
+
+def brier(p: ArrayLike, outcome: ArrayLike, bins: int = 10) -> BrierDecomposition:
+    """Brier score (Brier 1950) of probabilities ``p`` for binary outcomes, with the Murphy
+    decomposition over ``bins`` equal-width probability bins."""
+    p, o = np.asarray(p, dtype=float), np.asarray(outcome, dtype=float)
+    n = p.size
+    score = float(np.mean((p - o) ** 2))
+    which = np.minimum((p * bins).astype(int), bins - 1)
+    base = o.mean()
+    rel = res = 0.0
+    for k in range(bins):
+        members = which == k
+        if members.any():
+            pk, ok = p[members].mean(), o[members].mean()
+            rel += members.sum() * (pk - ok) ** 2 / n
+            res += members.sum() * (ok - base) ** 2 / n
+    unc = base * (1 - base)
+    return BrierDecomposition(
+        score, float(rel), float(res), float(unc), score - (rel - res + unc), n
+    )
+
+
+def rps(probabilities: ArrayLike, category: ArrayLike) -> np.ndarray:
+    """Ranked probability score, unnormalised: sum_k (F_k - O_k)^2 over ordered categories.
+
+    ``probabilities`` is n x K, ``category`` the observed category 0..K-1 (Epstein 1969;
+    the convention of ``scoringrules.rps_score``).
+    """
+    f = np.cumsum(np.asarray(probabilities, dtype=float), axis=1)
+    k = f.shape[1]
+    observed = (np.arange(k)[None, :] >= np.asarray(category)[:, None]).astype(float)
+    return np.sum((f - observed) ** 2, axis=1)
