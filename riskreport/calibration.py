@@ -109,8 +109,11 @@ def replay_horizon(
     upper = np.array([b.upper for b in bands]) - point
     f_lower, f_upper = np.asarray(fitted.cdf(lower)), np.asarray(fitted.cdf(upper))
     probabilities = np.column_stack([f_lower, f_upper - f_lower, 1 - f_upper])
-    outcome = point + test
-    category = np.where(outcome < lower + point, 0, np.where(outcome > upper + point, 2, 1))
+    # Classify the recorded outcome itself (point + error can miss an edge by rounding).
+    outcome = panel.outcomes[tests, h]
+    edges_low = np.array([b.lower for b in bands])
+    edges_high = np.array([b.upper for b in bands])
+    category = np.where(outcome < edges_low, 0, np.where(outcome > edges_high, 2, 1))
     logs = np.asarray(fitted.logpdf(test))
     return HorizonReplay(
         family=family,

@@ -344,7 +344,7 @@ def load(path: str | Path) -> Config:
     brief = _Reader(path, "brief", _table(path, data, "brief"))
     frequency = cast(Frequency, brief.choice("frequency", FREQUENCIES, "monthly"))
     per_year = periods.PERIODS_PER_YEAR[frequency]
-    horizons = brief.integer("horizons", 2 * per_year, minimum=1)
+    horizons = brief.integer("horizons", 2 * per_year, minimum=0)
     policy_horizon = brief.integer("policy_horizon", min(horizons, per_year * 3 // 2), minimum=0)
     if policy_horizon > horizons:
         raise brief.error("policy_horizon", f"expected at most horizons = {horizons}")

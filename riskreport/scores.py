@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import ArrayLike
-from scipy import special
+from scipy import integrate, special
 
 from riskreport._families import EmpiricalFit, NormalFit, SkewNormalFit, TwoPieceNormalFit
 
@@ -85,17 +85,22 @@ def crps_kernel_mixture(y: ArrayLike, sample: np.ndarray, bandwidth: ArrayLike) 
 
 
 def crps_numeric(
-    cdf: object, y: ArrayLike, centre: ArrayLike, width: ArrayLike, points: int = 801
+    cdf: object, y: ArrayLike, centre: ArrayLike, width: ArrayLike, points: int = 401
 ) -> np.ndarray:
-    """CRPS = integral (F(x) - 1{x >= y})^2 dx on a grid of centre +- width (trapezoid rule)."""
+    """CRPS = int_{-inf}^{y} F(x)^2 dx + int_{y}^{inf} (1 - F(x))^2 dx, each side by the
+    Simpson rule on ``points`` nodes from y out to centre -+ width (smooth on each side)."""
     y = np.asarray(y, dtype=float)
-    grid = (
-        np.asarray(centre)[:, None]
-        + np.asarray(width)[:, None] * np.linspace(-1, 1, points)[None, :]
+    centre, width = np.asarray(centre, dtype=float), np.asarray(width, dtype=float)
+    steps = np.linspace(0, 1, points)[None, :]
+    low_end = np.minimum(centre - width, y - 1e-9)
+    high_end = np.maximum(centre + width, y + 1e-9)
+    below = y[:, None] + (low_end - y)[:, None] * steps
+    above = y[:, None] + (high_end - y)[:, None] * steps
+    f_below = cdf(below.T).T  # type: ignore[operator]
+    f_above = cdf(above.T).T  # type: ignore[operator]
+    return -integrate.simpson(f_below**2, x=below, axis=1) + integrate.simpson(
+        (1 - f_above) ** 2, x=above, axis=1
     )
-    f = cdf(grid.T).T  # type: ignore[operator]
-    step = (grid >= y[:, None]).astype(float)
-    return np.trapezoid((f - step) ** 2, grid, axis=1)
 
 
 def crps(fit: object, y: ArrayLike) -> np.ndarray:

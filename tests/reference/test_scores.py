@@ -1,0 +1,148 @@
+"""Scores and calibration tests against scoringrules, scipy, statsmodels and checks.md.
+
+Sources: checks.md 8.2 (Berkowitz 2001 LR3 with statsmodels ARIMA), 8.3 (Knueppel 2015),
+8.5 (Brier 1950; Murphy 1973 decomposition; Epstein 1969 RPS), 8.6 (CRPS of the normal,
+Gneiting et al. 2005, and of the two-piece normal; R scoringRules unit tests), and the
+scoringrules package (Zanetta & Allen), an independent implementation.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import scoringrules as sr
+from scipy import integrate, stats
+
+from riskreport import scores
+from riskreport import stats as rstats
+from riskreport._families import SkewNormalFit
+
+PIT = [
+    0.12,
+    0.55,
+    0.81,
+    0.34,
+    0.67,
+    0.91,
+    0.45,
+    0.23,
+    0.78,
+    0.60,
+    0.05,
+    0.39,
+    0.72,
+    0.88,
+    0.51,
+    0.29,
+    0.63,
+    0.97,
+    0.41,
+    0.18,
+]
+
+
+def test_crps_normal() -> None:
+    # scoringrules docstring: crps_normal(0.0, 0.1, 0.4) = 0.10339992515976162.
+    assert float(scores.crps_normal(0.0, 0.1, 0.4)) == pytest.approx(0.10339992515976162, abs=1e-15)
+    y = np.linspace(-3, 3, 11)
+    assert scores.crps_normal(y, 0.2, 0.7) == pytest.approx(sr.crps_normal(y, 0.2, 0.7), abs=1e-12)
+    # checks.md 8.6: CRPS of N(0, 1) at 0 = (sqrt(2) - 1)/sqrt(pi).
+    assert float(scores.crps_normal(0.0, 0.0, 1.0)) == pytest.approx(
+        (np.sqrt(2) - 1) / np.sqrt(np.pi), abs=1e-12
+    )
+
+
+def test_crps_two_piece_normal() -> None:
+    # R scoringRules unit tests: crps_2pnorm(-3, .7, 1.1) = 2.80708311, (3, .7, 1.1) = 2.17137978.
+    assert float(scores.crps_two_piece_normal(-3.0, 0.0, 0.7, 1.1)) == pytest.approx(
+        2.80708311, abs=1e-8
+    )
+    assert float(scores.crps_two_piece_normal(3.0, 0.0, 0.7, 1.1)) == pytest.approx(
+        2.17137978, abs=1e-8
+    )
+    y = np.linspace(-4, 4, 17)
+    assert scores.crps_two_piece_normal(y, 0.1, 0.6, 1.3) == pytest.approx(
+        sr.crps_2pnormal(y, 0.6, 1.3, 0.1), abs=1e-10
+    )
+    # sigma1 = sigma2 = 1 at y = 1 gives the normal value 0.6024413576 (checks.md 8.6).
+    assert float(scores.crps_two_piece_normal(1.0, 0.0, 1.0, 1.0)) == pytest.approx(
+        0.6024413576, abs=1e-9
+    )
+
+
+def test_crps_kernel_mixture(rng: np.random.Generator) -> None:
+    x = rng.normal(size=40)
+    for y in (-2.0, 0.1, 1.7):
+        assert float(scores.crps_kernel_mixture(y, x, 0.35)[0]) == pytest.approx(
+            float(sr.crps_mixnorm(y, x, np.full(40, 0.35))), abs=1e-10
+        )
+
+
+def test_crps_numeric_matches_quadrature() -> None:
+    f = SkewNormalFit(xi=np.array([1.0]), omega=np.array([2.0]), alpha=np.array([3.0]))
+    y = 2.0
+    below, _ = integrate.quad(lambda x: stats.skewnorm.cdf(x, 3, 1, 2) ** 2, -np.inf, y)
+    above, _ = integrate.quad(lambda x: stats.skewnorm.sf(x, 3, 1, 2) ** 2, y, np.inf)
+    assert float(scores.crps(f, np.array([y]))[0]) == pytest.approx(below + above, abs=1e-5)
+
+
+def test_brier_and_murphy_decomposition() -> None:
+    # checks.md 8.5: BS 0.186 = REL 0.008142857 - RES 0.062142857 + UNC 0.24.
+    p = [
+        0.1,
+        0.1,
+        0.1,
+        0.1,
+        0.3,
+        0.3,
+        0.3,
+        0.3,
+        0.3,
+        0.7,
+        0.7,
+        0.7,
+        0.7,
+        0.9,
+        0.9,
+        0.9,
+        0.9,
+        0.9,
+        0.9,
+        0.9,
+    ]
+    o = [0, 0, 0, 1, 0, 0, 1, 0, 1, 1, 0, 1, 1, 1, 1, 1, 0, 1, 1, 1]
+    d = scores.brier(p, o)
+    assert d.brier == pytest.approx(0.186, abs=1e-12)
+    assert d.reliability == pytest.approx(0.008142857, abs=1e-9)
+    assert d.resolution == pytest.approx(0.062142857, abs=1e-9)
+    assert d.uncertainty == pytest.approx(0.24, abs=1e-12)
+    assert d.within_bin == pytest.approx(0.0, abs=1e-12)
+    assert d.brier == pytest.approx(
+        float(np.mean(sr.brier_score(np.array(o), np.array(p)))), abs=1e-12
+    )
+
+
+def test_rps() -> None:
+    # checks.md 8.5 oracles (unnormalised): 0.53, 0.10, 0.17; and 0.34.
+    probabilities = np.array([[0.2, 0.5, 0.3], [0.1, 0.6, 0.3], [0.6, 0.3, 0.1], [0.3, 0.2, 0.5]])
+    category = np.array([2, 1, 0, 1])
+    assert scores.rps(probabilities, category) == pytest.approx([0.53, 0.10, 0.17, 0.34], abs=1e-12)
+    assert scores.rps(probabilities, category) == pytest.approx(
+        [float(sr.rps_score(c + 1, p)) for p, c in zip(probabilities, category, strict=True)],
+        abs=1e-12,
+    )
+
+
+def test_berkowitz_oracle() -> None:
+    # checks.md 8.2: LR3 = 0.990589 (p = 0.803529).
+    result = rstats.berkowitz(PIT)
+    assert result.statistic == pytest.approx(0.990589, abs=1e-4)
+    assert result.pvalue == pytest.approx(0.803529, abs=1e-4)
+
+
+def test_knuppel_oracles() -> None:
+    # checks.md 8.3: iid centred, moments 1-2: 0.861693; 1-4: 1.152559; Bartlett L = 2,
+    # centred, moments 1-4: 2.388942.
+    assert rstats.knuppel(PIT, h=1, moments=2).statistic == pytest.approx(0.861693, abs=1e-6)
+    assert rstats.knuppel(PIT, h=1, moments=4).statistic == pytest.approx(1.152559, abs=1e-6)
+    assert rstats.knuppel(PIT, h=3, moments=4).statistic == pytest.approx(2.388942, abs=1e-6)
