@@ -6,6 +6,9 @@
    per horizon), against a naive loop of scipy fits on the same samples. The naive
    bootstrap loop is timed on a subsample of replicates and scaled up (stated below).
    Target: our fitting at least 20x faster than the naive loop.
+3. The calibration replay (every family, every horizon, every past origin) on the demo and
+   on a history four times as long, against the import floor and a naive refit loop; with a
+   fixed error window its cost should grow no worse than linearly in origins x horizons.
 """
 
 from __future__ import annotations
@@ -63,6 +66,63 @@ def _naive_fit(family: str, x: np.ndarray) -> None:
         )
 
 
+def _replay_inputs(copies: int) -> tuple[object, np.ndarray, np.ndarray]:
+    """The demo's panel and combined-forecast errors, the history repeated ``copies`` times."""
+    from riskreport import combination, inputs, panel
+    from riskreport import config as config_module
+    from riskreport.track_record import error_matrix
+
+    cfg = config_module.load(CONFIG)
+    fc = inputs.read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
+    act = inputs.read_actuals(cfg.actuals, cfg.frequency)
+    base = panel.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+    combo = combination.combine("equal", base)
+    errors = error_matrix(combo.combined, base.outcomes)
+    known = errors[: -cfg.horizons - 1]
+    stacked = np.concatenate([known] * (copies - 1) + [errors]) if copies > 1 else errors
+    combined = (
+        np.concatenate([combo.combined[: known.shape[0]]] * (copies - 1) + [combo.combined])
+        if copies > 1
+        else combo.combined
+    )
+    n = stacked.shape[0]
+    origins = np.arange(n) + int(base.origins[-1]) - n + 1
+    outcomes = combined + stacked
+    grown = panel.Panel(
+        base.models,
+        origins,
+        np.zeros((1, n, cfg.horizons + 1)),
+        outcomes,
+        outcomes[:, 0],
+        np.full(n + 400, 3.0),
+        int(origins[0]) - 400,
+    )
+    return (grown, cfg), combined, stacked
+
+
+def _replay_seconds(copies: int) -> tuple[float, int]:
+    from riskreport import calibration
+
+    (grown, cfg), combined, errors = _replay_inputs(copies)
+    start = time.perf_counter()
+    runs = calibration.replay(
+        grown, combined, errors, cfg.horizons, window=cfg.window, mode=None, band_for=cfg.band_for
+    )  # type: ignore[attr-defined]
+    seconds = time.perf_counter() - start
+    return seconds, sum(r.pit.size for r in runs.values())
+
+
+def _naive_replay_seconds(samples: int = 40) -> float:
+    """A naive replay step: refit each family with scipy at one origin and score it."""
+    rng = np.random.default_rng(3)
+    start = time.perf_counter()
+    for _ in range(samples):
+        x = rng.normal(0, 1, 120)
+        for family in FAMILIES:
+            _naive_fit(family, x)
+    return (time.perf_counter() - start) / samples  # per origin and horizon, all families
+
+
 def main() -> None:
     floor = _seconds("import riskreport")
     assess = _seconds(f"import riskreport; riskreport.assess({str(CONFIG)!r})")
@@ -108,6 +168,19 @@ def main() -> None:
     )
     total = (naive_fit + naive_boot) / (ours_fit + ours_boot)
     print(f"all fitting: naive / ours                 {total:8.1f} x  (target >= 20 x)")
+
+    one, cells_one = _replay_seconds(1)
+    four, cells_four = _replay_seconds(4)
+    naive = _naive_replay_seconds() * cells_one / len(FAMILIES)
+    print(
+        f"replay, demo ({cells_one} origin x horizon cells per family) / import floor {one / floor:8.2f} x"
+    )
+    print(
+        f"replay, 4x history / demo                 {four / one:8.2f} x  (cells {cells_four / cells_one:.2f} x; linear or better if <=)"
+    )
+    print(
+        f"replay: naive scipy refit loop / ours     {naive / one:8.1f} x  (naive timed on 40 origins, scaled)"
+    )
 
 
 if __name__ == "__main__":

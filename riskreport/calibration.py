@@ -26,6 +26,7 @@ from riskreport.panel import Panel
 MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common practice, no source)
 NOMINAL = (0.5, 0.9)
 PIT_BINS = 10
+CHUNK = 128  # origins fitted at once in the replay
 HORIZON_GROUPS: dict[Frequency, tuple[tuple[int, int], ...]] = {
     "monthly": ((0, 2), (3, 5), (6, 11), (12, 17), (18, 24)),
     "quarterly": ((0, 0), (1, 2), (3, 4), (5, 8)),
@@ -70,20 +71,26 @@ def training(errors: np.ndarray, h: int, window: int) -> tuple[np.ndarray, np.nd
 def _climatology(
     panel: Panel, tests: np.ndarray, h: int, band_for: Callable[[int], Band]
 ) -> np.ndarray:
-    """Frequencies of below / inside / above among the outcomes known at each origin."""
-    out = np.zeros((tests.size, 3))
+    """Frequencies of below / inside / above among the outcomes known at each origin.
+
+    Cumulative counts per distinct band, so the cost is linear in the history.
+    """
     series = panel.series
-    for row, j in enumerate(tests):
-        origin = int(panel.origins[j])
-        past = series[: max(origin - panel.series_start, 0)]
-        past = past[np.isfinite(past)]
-        band = band_for(origin + h)
-        if past.size == 0:
-            out[row] = 1 / 3
-            continue
-        below = np.mean(past < band.lower)
-        above = np.mean(past > band.upper)
-        out[row] = (below, 1 - below - above, above)
+    known = np.isfinite(series)
+    cum_known = np.concatenate([[0], np.cumsum(known)])
+    ends = np.clip(panel.origins[tests] - panel.series_start, 0, series.size)
+    bands = [band_for(int(panel.origins[j]) + h) for j in tests]
+    out = np.full((tests.size, 3), 1 / 3)
+    for band in set(bands):
+        rows = np.array([i for i, b in enumerate(bands) if b == band])
+        with np.errstate(invalid="ignore"):
+            below = np.concatenate([[0], np.cumsum(known & (series < band.lower))])
+            above = np.concatenate([[0], np.cumsum(known & (series > band.upper))])
+        n = cum_known[ends[rows]]
+        has = n > 0
+        b_share = np.where(has, below[ends[rows]] / np.maximum(n, 1), 1 / 3)
+        a_share = np.where(has, above[ends[rows]] / np.maximum(n, 1), 1 / 3)
+        out[rows] = np.column_stack([b_share, 1 - b_share - a_share, a_share])
     return out
 
 
@@ -102,29 +109,39 @@ def replay_horizon(
     tests, train, test = training(errors, h, window)
     if tests.size == 0:
         return None
-    fitted: Any = fit_batch(family, train, mode=mode)
     bands = [band_for(int(panel.origins[j]) + h) for j in tests]
     point = combined[tests, h]
-    lower = np.array([b.lower for b in bands]) - point
-    upper = np.array([b.upper for b in bands]) - point
-    f_lower, f_upper = np.asarray(fitted.cdf(lower)), np.asarray(fitted.cdf(upper))
-    probabilities = np.column_stack([f_lower, f_upper - f_lower, 1 - f_upper])
-    # Classify the recorded outcome itself (point + error can miss an edge by rounding).
-    outcome = panel.outcomes[tests, h]
     edges_low = np.array([b.lower for b in bands])
     edges_high = np.array([b.upper for b in bands])
+    parts: list[tuple[np.ndarray, ...]] = []
+    # Fixed-size chunks of origins keep the batched arrays in cache: cost stays linear.
+    for start in range(0, tests.size, CHUNK):
+        rows = slice(start, start + CHUNK)
+        fitted: Any = fit_batch(family, train[rows], mode=mode)
+        f_lower = np.asarray(fitted.cdf(edges_low[rows] - point[rows]))
+        f_upper = np.asarray(fitted.cdf(edges_high[rows] - point[rows]))
+        parts.append(
+            (
+                np.column_stack([f_lower, f_upper - f_lower, 1 - f_upper]),
+                np.asarray(fitted.cdf(test[rows])),
+                np.asarray(fitted.logpdf(test[rows])),
+                np.asarray(scores.crps(fitted, test[rows])),
+            )
+        )
+    probabilities, pit, logs, crps = (np.concatenate(p) for p in zip(*parts, strict=True))
+    # Classify the recorded outcome itself (point + error can miss an edge by rounding).
+    outcome = panel.outcomes[tests, h]
     category = np.where(outcome < edges_low, 0, np.where(outcome > edges_high, 2, 1))
-    logs = np.asarray(fitted.logpdf(test))
     return HorizonReplay(
         family=family,
         h=h,
         origins=tests,
-        pit=np.clip(np.asarray(fitted.cdf(test)), 0.0, 1.0),
+        pit=np.clip(pit, 0.0, 1.0),
         probabilities=probabilities,
         category=category,
         climatology=_climatology(panel, tests, h, band_for),
         log_score=np.where(np.isfinite(logs), logs, -50.0),  # an outcome the fit rules out
-        crps=np.asarray(scores.crps(fitted, test)),
+        crps=crps,
     )
 
 
