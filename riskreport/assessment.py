@@ -33,6 +33,7 @@ class HorizonResult:
     distribution: str
     n_errors: int
     spread: float
+    percentiles: tuple[float, ...]
 
 
 @dataclass(frozen=True)
@@ -97,6 +98,7 @@ class Assessment:
     horizons: tuple[HorizonResult, ...]
     model_based_horizons: tuple[HorizonResult, ...]
     judgement: tuple[AppliedJudgement, ...]
+    scenarios: tuple[dict[str, Any], ...]
     path: tuple[PathResult, ...]
     annual: tuple[dict[str, Any], ...]
     combination: dict[str, Any]

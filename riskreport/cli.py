@@ -25,6 +25,7 @@ from riskreport.errors import InputError
 log = logging.getLogger("riskreport")
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT = 0, 1, 2
+DEMO_PREVIOUS_ROUND = "2026-10"
 
 
 def demo_config() -> Path:
@@ -57,6 +58,11 @@ def _parser() -> argparse.ArgumentParser:
     build.add_argument("--out", type=Path, help="output folder (default: [output] directory)")
     build.add_argument("--as-of", dest="as_of", help="override [brief] as_of, e.g. 2026-11")
     build.add_argument("--force", action="store_true", help="replace an existing brief")
+    build.add_argument(
+        "--previous",
+        type=Path,
+        help="an earlier assessment JSON to compare with (default: the latest earlier one in the output folder)",
+    )
 
     backtest = sub.add_parser(
         "backtest", parents=[common], help="accuracy and tests only (tables to stdout and CSV)"
@@ -98,7 +104,9 @@ def _headline(assessment: Any) -> dict[str, Any]:
     }
 
 
-def _build(config: Path, out: Path | None, as_of: str | None, force: bool) -> dict[str, Any]:
+def _build(
+    config: Path, out: Path | None, as_of: str | None, force: bool, previous: Path | None = None
+) -> dict[str, Any]:
     from riskreport import config as config_module
     from riskreport import outputs, pipeline
 
@@ -106,7 +114,7 @@ def _build(config: Path, out: Path | None, as_of: str | None, force: bool) -> di
     if as_of is not None:
         cfg = cfg.with_as_of(as_of)
     out_dir = (out if out is not None else cfg.output_directory).resolve()
-    assessment = pipeline.assess_config(cfg)
+    assessment = pipeline.assess_config(cfg, previous=previous, search=out_dir)
     log.info("assessed %s: %d horizons", assessment.as_of, len(assessment.horizons))
     record: dict[str, Any] = {
         "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
@@ -207,9 +215,11 @@ def _run(args: argparse.Namespace) -> dict[str, Any]:
     if args.command == "backtest":
         return _backtest(args.config, args.out, args.as_of, args.force)
     if args.command == "demo":
+        # Two rounds, so the demo brief shows what changed since the previous one.
+        _build(demo_config(), args.out, DEMO_PREVIOUS_ROUND, args.force)
         return _build(demo_config(), args.out, None, args.force)
     if args.command == "build":
-        return _build(args.config, args.out, args.as_of, args.force)
+        return _build(args.config, args.out, args.as_of, args.force, args.previous)
     return _check(args.config, args.as_of)
 
 

@@ -97,6 +97,7 @@ class Config:
     simulations: int
     seed: int
     judgements: tuple[Judgement, ...]
+    scenarios: tuple[tuple[str, Judgement], ...]
     output_directory: Path
     formats: tuple[OutputFormat, ...]
 
@@ -143,6 +144,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "seed",
     },
     "judgement": {"from", "to", "shift", "scale", "skew", "reason"},
+    "scenario": {"name", "from", "to", "shift", "scale", "skew", "reason"},
     "output": {"directory", "formats"},
     "schedule": {"from", "midpoint", "tolerance", "lower", "upper"},
 }
@@ -276,16 +278,23 @@ def _schedule(path: Path, raw: Any, frequency: Frequency) -> tuple[BandChange, .
     return tuple(sorted(changes, key=lambda change: change.start))
 
 
-def _judgements(path: Path, raw: Any, frequency: Frequency) -> tuple[Judgement, ...]:
+def _judgements(
+    path: Path, raw: Any, frequency: Frequency, kind: str = "judgement"
+) -> tuple[Judgement, ...]:
     if raw is None:
         return ()
     if not isinstance(raw, list):
-        raise InputError("expected [[judgement]] tables", file=path, column="[judgement]")
+        raise InputError(f"expected [[{kind}]] tables", file=path, column=f"[{kind}]")
     entries = []
     for i, table in enumerate(raw, start=1):
         if not isinstance(table, dict):
-            raise InputError("expected a table", file=path, column=f"[judgement {i}]")
-        reader = _Reader(path, "judgement", table, label=f"judgement {i}")
+            raise InputError("expected a table", file=path, column=f"[{kind} {i}]")
+        reader = _Reader(
+            path,
+            kind,
+            {k: v for k, v in table.items() if k != "name"} if kind == "scenario" else table,
+            label=f"{kind} {i}",
+        )
         start = reader.period("from", frequency)
         end = reader.period("to", frequency)
         if end < start:
@@ -304,6 +313,20 @@ def _judgements(path: Path, raw: Any, frequency: Frequency) -> tuple[Judgement, 
             )
         )
     return tuple(entries)
+
+
+def _scenarios(path: Path, raw: Any, frequency: Frequency) -> tuple[tuple[str, Judgement], ...]:
+    """Named alternative overlays: entries with the same name compose into one scenario."""
+    entries = _judgements(path, raw, frequency, kind="scenario")
+    names = []
+    for i, table in enumerate(raw or [], start=1):
+        name = table.get("name")
+        if not isinstance(name, str) or not name.strip():
+            raise InputError(
+                "expected a scenario name (text)", file=path, column=f"[scenario {i}] name"
+            )
+        names.append(name.strip())
+    return tuple(zip(names, entries, strict=True))
 
 
 def load(path: str | Path) -> Config:
@@ -393,6 +416,7 @@ def load(path: str | Path) -> Config:
         simulations=uncertainty.integer("simulations", 20000, minimum=1000),
         seed=uncertainty.integer("seed", 20240101, minimum=0),
         judgements=_judgements(path, data.get("judgement"), frequency),
+        scenarios=_scenarios(path, data.get("scenario"), frequency),
         output_directory=(base / directory).resolve(),
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
     )

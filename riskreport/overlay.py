@@ -108,3 +108,25 @@ def apply(
             )
         )
     return adjusted, applied
+
+
+def scenarios(
+    baseline: list[Distribution],
+    ordinals: list[int],
+    entries: tuple[tuple[str, Judgement], ...],
+    *,
+    frequency: Frequency,
+    config_file: str,
+) -> list[tuple[str, tuple[str, ...], list[Distribution]]]:
+    """Named alternative scenarios, each an overlay on the baseline (after judgement).
+
+    Entries sharing a name compose in the order written, like judgement entries.
+    """
+    out = []
+    for name in dict.fromkeys(n for n, _ in entries):
+        mine = tuple(j for n, j in entries if n == name)
+        dists, applied = apply(
+            baseline, ordinals, mine, frequency=frequency, config_file=config_file
+        )
+        out.append((name, tuple(a.reason for a in applied), dists))
+    return out

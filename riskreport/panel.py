@@ -27,7 +27,7 @@ class Panel:
         models x origins x (max_h + 1), NaN where a model gave no forecast.
     outcomes
         origins x (max_h + 1): the outcome of period origin + h, NaN where not known at
-        ``as_of``.
+        ``as_of`` and for the current round itself.
     last_outcome
         origins: the outcome of the period before each origin (the no-change forecast),
         NaN where unknown.
@@ -70,6 +70,9 @@ def build(forecasts: Forecasts, actuals: Actuals, *, as_of: int, max_h: int) -> 
     series[actuals.period[known] - span_start] = actuals.value[known]
     target = origins[:, None] + np.arange(max_h + 1)[None, :] - span_start
     outcomes = series[target]
+    # The current round is what the brief assesses: it is never scored, even when an
+    # outcome for as_of (a flash estimate, or a re-run of a past month) is in the file.
+    outcomes[-1, :] = np.nan
     last_outcome = series[origins - 1 - span_start]
     return Panel(
         models=forecasts.models,

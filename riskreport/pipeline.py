@@ -18,6 +18,7 @@ import numpy as np
 
 from riskreport import annual as annual_module
 from riskreport import calibration, overlay, periods, probabilities, selection, uncertainty
+from riskreport import change as change_module
 from riskreport import combination as combination_module
 from riskreport import config as config_module
 from riskreport import panel as panel_module
@@ -187,9 +188,32 @@ def _horizon_results(
                 distribution=family,
                 n_errors=margins.own[h],
                 spread=float(np.std(dist.ppf(probabilities.SPREAD_GRID))),
+                percentiles=tuple(
+                    float(v) for v in dist.ppf(np.array(change_module.PERCENTILES) / 100)
+                ),
             )
         )
     return tuple(rows)
+
+
+def _scenario_record(
+    cfg: Config, name: str, reasons: tuple[str, ...], dists: list[Distribution], ordinals: list[int]
+) -> dict[str, object]:
+    rows = []
+    for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
+        band = cfg.band_for(ordinal)
+        p = probabilities.band_probabilities(dist, band.lower, band.upper)
+        rows.append(
+            {
+                "period": periods.label(ordinal, cfg.frequency),
+                "h": h,
+                "centre": float(dist.mode),
+                "p_below": p.p_below,
+                "p_inside": p.p_inside,
+                "p_above": p.p_above,
+            }
+        )
+    return {"name": name, "reasons": list(reasons), "horizons": rows}
 
 
 def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:
@@ -271,13 +295,29 @@ def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> dict[str, 
     return record
 
 
-def assess_config(cfg: Config) -> Assessment:
-    """Run the whole method on a validated configuration (see :func:`assess`)."""
+def assess_config(
+    cfg: Config, *, previous: Path | None = None, search: Path | None = None
+) -> Assessment:
+    """Run the whole method on a validated configuration (see :func:`assess`).
+
+    The change since the previous brief compares with ``previous`` (an assessment JSON) or
+    else with the latest earlier ``assessment-*.json`` in ``search`` (default: the config's
+    output directory).
+    """
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", RiskReportWarning)
         assessment = _assess(cfg)
     notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]
-    return dataclasses.replace(assessment, warnings=tuple(dict.fromkeys(notes)))
+    source = previous or change_module.find_previous(
+        search or cfg.output_directory, assessment.as_of
+    )
+    change = None
+    if source is not None:
+        earlier = change_module.load(source)
+        change = change_module.compare(
+            earlier, [dataclasses.asdict(r) for r in assessment.horizons]
+        )
+    return dataclasses.replace(assessment, warnings=tuple(dict.fromkeys(notes)), change=change)
 
 
 def _assess(cfg: Config) -> Assessment:
@@ -334,6 +374,9 @@ def _assess(cfg: Config) -> Assessment:
         frequency=cfg.frequency,
         config_file=str(cfg.path),
     )
+    scenario_dists = overlay.scenarios(
+        final, ordinals, cfg.scenarios, frequency=cfg.frequency, config_file=str(cfg.path)
+    )
     model_based = _horizon_results(cfg, margins, list(margins.outcome), ordinals)
     adjusted = _horizon_results(cfg, margins, final, ordinals) if cfg.judgements else model_based
     draws = _simulate(cfg, errors, final)
@@ -356,6 +399,10 @@ def _assess(cfg: Config) -> Assessment:
         horizons=adjusted,
         model_based_horizons=model_based,
         judgement=tuple(applied),
+        scenarios=tuple(
+            _scenario_record(cfg, name, reasons, dists, ordinals)
+            for name, reasons, dists in scenario_dists
+        ),
         path=_path(cfg, draws, ordinals),
         annual=tuple(dataclasses.asdict(a) for a in yearly),
         combination={
@@ -382,7 +429,9 @@ def _assess(cfg: Config) -> Assessment:
     )
 
 
-def assess(config_path: str | Path, *, as_of: str | None = None) -> Assessment:
+def assess(
+    config_path: str | Path, *, as_of: str | None = None, previous: str | Path | None = None
+) -> Assessment:
     """Compute every number of a brief; no files are written.
 
     Parameters
@@ -391,6 +440,9 @@ def assess(config_path: str | Path, *, as_of: str | None = None) -> Assessment:
         The TOML configuration.
     as_of
         Overrides ``[brief] as_of`` (a period such as ``"2026-11"``).
+    previous
+        An earlier assessment JSON to compare with; by default the latest earlier one in
+        the config's output directory, if any.
 
     Returns
     -------
@@ -405,4 +457,4 @@ def assess(config_path: str | Path, *, as_of: str | None = None) -> Assessment:
     cfg = config_module.load(config_path)
     if as_of is not None:
         cfg = cfg.with_as_of(as_of)
-    return assess_config(cfg)
+    return assess_config(cfg, previous=Path(previous) if previous is not None else None)

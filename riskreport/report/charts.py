@@ -319,3 +319,51 @@ def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float =
         ax.grid(color=GRID, lw=0.4)
         ax.spines[["top", "right"]].set_visible(False)
         return Chart("reliability", _svg(fig), width_mm, height_mm)
+
+
+PART_STYLE: dict[str, dict[str, Any]] = {
+    "centre": {"color": "#7a4e12", "hatch": ""},
+    "spread and shape": {"color": "#2f6497", "hatch": "////"},
+    "band": {"color": "#a8a29a", "hatch": ".."},
+}
+
+
+def change_parts(assessment: Assessment, width_mm: float = 84, height_mm: float = 30) -> Chart:
+    """Change in P(inside) since the previous brief, split into its three parts, by period."""
+    change = assessment.change or {"horizons": []}
+    shown = {
+        r.period for r in assessment.horizons if r.h in (0, 3, 6, 12, assessment.policy_horizon, 24)
+    }
+    rows = [r for r in change["horizons"] if r["period"] in shown]
+    with matplotlib.rc_context(_RC):
+        fig = _figure(width_mm, height_mm)
+        ax = fig.add_subplot()
+        x = np.arange(len(rows))
+        keys = (
+            ("centre", "due_to_centre"),
+            ("spread and shape", "due_to_spread"),
+            ("band", "due_to_band"),
+        )
+        for i, (label, key) in enumerate(keys):
+            style = PART_STYLE[label]
+            ax.bar(
+                x + (i - 1) * 0.26,
+                [100 * r[key] for r in rows],
+                width=0.26,
+                color=style["color"],
+                hatch=style["hatch"],
+                edgecolor=INK,
+                linewidth=0.3,
+                label=label,
+            )
+        total = [100 * (r["p_inside_now"] - r["p_inside_before"]) for r in rows]
+        ax.plot(x, total, linestyle="none", marker="D", markersize=3, color=INK, label="total")
+        ax.axhline(0, color=INK, lw=0.6)
+        ax.set_xticks(x, [r["period"] for r in rows], fontsize=6.5)
+        ax.set_ylabel("pp", fontsize=7)
+        ax.tick_params(axis="y", labelsize=6.5)
+        ax.spines[["top", "right"]].set_visible(False)
+        ax.legend(
+            fontsize=6, frameon=False, ncol=4, loc="upper center", bbox_to_anchor=(0.5, -0.18)
+        )
+        return Chart("change", _svg(fig), width_mm, height_mm)

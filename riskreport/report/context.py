@@ -91,6 +91,16 @@ class ChartBlock:
 
 
 @dataclass(frozen=True)
+class ScenarioRow:
+    """One scenario (or the baseline) at two horizons: below / inside / above, printed."""
+
+    name: str
+    reason: str
+    first: str
+    second: str
+
+
+@dataclass(frozen=True)
 class AnnualRow:
     """Probabilities for one calendar year on one basis, printed."""
 
@@ -122,6 +132,9 @@ class BriefContext:
     annual_rows: tuple[AnnualRow, ...]
     annual_text: str
     change_text: str
+    scenario_rows: tuple[ScenarioRow, ...]
+    has_scenarios: bool
+    scenario_periods: tuple[str, str]
     track_text: str
     cautions: tuple[str, ...]
     band_text: str
@@ -406,6 +419,82 @@ FAMILY_NAMES = {
 }
 
 
+def _change_text(a: Assessment) -> str:
+    """The change since the previous brief, at the policy horizon's target period, in words."""
+    if not a.change or not a.change["horizons"]:
+        return "No earlier brief was available for comparison, so the change since the last meeting is not shown."
+    rows = {r["period"]: r for r in a.change["horizons"]}
+    r = rows.get(a.policy.period) or a.change["horizons"][-1]
+    total = r["p_inside_now"] - r["p_inside_before"]
+    direction = (
+        "rose"
+        if fmt.points(total).startswith("+")
+        else "fell"
+        if total < 0 and fmt.points(total) != "0 pp"
+        else "was unchanged"
+    )
+    parts = {
+        "the centre moving": r["due_to_centre"],
+        "the spread and shape": r["due_to_spread"],
+        "the band": r["due_to_band"],
+    }
+    main = max(parts, key=lambda k: abs(parts[k]))
+    text = (
+        f"Since the brief of {a.change['previous_as_of']}, the probability of being inside the "
+        f"band in {r['period']} {direction}"
+    )
+    if direction != "was unchanged":
+        text += f" from {fmt.single_percent(r['p_inside_before'])} to {fmt.single_percent(r['p_inside_now'])} ({fmt.points(total)})"
+    text += (
+        f": centre {fmt.points(r['due_to_centre'])}, spread and shape {fmt.points(r['due_to_spread'])}, "
+        f"band {fmt.points(r['due_to_band'])}."
+    )
+    if direction != "was unchanged":
+        text += f" Most of it came from {main}."
+    return text
+
+
+def scenario_horizons(a: Assessment) -> tuple[int, int]:
+    """The two horizons the scenario table shows: one year ahead and the policy horizon."""
+    per_year = 12 if a.frequency == "monthly" else 4
+    first = min(per_year, a.horizons[-1].h)
+    return (
+        (first, a.policy_horizon)
+        if first != a.policy_horizon
+        else (max(first // 2, 0), a.policy_horizon)
+    )
+
+
+def _scenario_cell(row: dict[str, Any], base: HorizonResult) -> str:
+    whole = fmt.percentages([row["p_below"], row["p_inside"], row["p_above"]])
+    texts = [
+        fmt.percent_text(w, p)
+        for w, p in zip(whole, [row["p_below"], row["p_inside"], row["p_above"]], strict=True)
+    ]
+    return " / ".join(texts) + f" (inside {fmt.points(row['p_inside'] - base.p_inside)})"
+
+
+def _scenario_rows(a: Assessment) -> tuple[ScenarioRow, ...]:
+    h1, h2 = scenario_horizons(a)
+    b1, b2 = a.horizon_result(h1), a.horizon_result(h2)
+    rows = [
+        ScenarioRow(
+            "Baseline (after judgement)", "", " / ".join(_triple(b1)), " / ".join(_triple(b2))
+        )
+    ]
+    for sc in a.scenarios:
+        by_h = {x["h"]: x for x in sc["horizons"]}
+        rows.append(
+            ScenarioRow(
+                sc["name"],
+                " ".join(sc["reasons"]),
+                _scenario_cell(by_h[h1], b1),
+                _scenario_cell(by_h[h2], b2),
+            )
+        )
+    return tuple(rows)
+
+
 def _annual_rows(a: Assessment) -> tuple[AnnualRow, ...]:
     rows = []
     unit = "months" if a.frequency == "monthly" else "quarters"
@@ -602,9 +691,12 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         ),
         band_varies=len({r.band for r in a.horizons}) > 1,
         summary_band=band_label(a.horizons[0].band),
-        change_text=(
-            "No earlier brief was available for comparison, so the change since the last "
-            "meeting is not shown."
+        change_text=_change_text(a),
+        scenario_rows=_scenario_rows(a),
+        has_scenarios=bool(a.scenarios),
+        scenario_periods=(
+            a.horizon_result(scenario_horizons(a)[0]).period,
+            a.horizon_result(scenario_horizons(a)[1]).period,
         ),
         track_text=_track_text(a),
         cautions=CAUTIONS,

@@ -63,6 +63,20 @@ def _alt_probabilities(a: Assessment) -> str:
     )
 
 
+def _alt_change(a: Assessment) -> str:
+    assert a.change is not None
+    parts = [
+        f"{r['period']}: {fmt.points(r['p_inside_now'] - r['p_inside_before'])} "
+        f"(centre {fmt.points(r['due_to_centre'])}, spread {fmt.points(r['due_to_spread'])}, band {fmt.points(r['due_to_band'])})"
+        for r in a.change["horizons"]
+    ]
+    return (
+        f"Bar chart of the change in the probability of being inside since {a.change['previous_as_of']}: "
+        + "; ".join(parts)
+        + "."
+    )
+
+
 def _alt_pit(a: Assessment) -> str:
     parts = []
     for g in a.calibration["pit"]:
@@ -104,6 +118,15 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], d
             "the 90% bootstrap interval for inside.",
         ),
     ]
+    if a.change and a.change["horizons"]:
+        made.append(
+            (
+                charts_module.change_parts(a),
+                _alt_change(a),
+                f"Change in the probability of being inside since {a.change['previous_as_of']}, "
+                "by target period, split into centre, spread and shape, and band.",
+            )
+        )
     calibration = a.calibration
     if calibration["pit"]:
         made.append(
