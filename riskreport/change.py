@@ -25,7 +25,8 @@ from scipy import stats
 
 from riskreport.errors import InputError
 
-PERCENTILES = tuple(range(1, 100))  # stored per horizon so a later brief can rebuild the shape
+PERCENTILES = tuple(range(1, 100))
+SAME = 1e-9  # differences below this are the JSON's rounding, not a change  # stored per horizon so a later brief can rebuild the shape
 
 
 @dataclass(frozen=True)
@@ -39,11 +40,24 @@ class Side:
     p_inside: float
 
     def prob(self, centre: float, band: tuple[float, float]) -> float:
-        """P(inside) with this side's shape, a given centre and band."""
+        """P(inside) with this side's shape, a given centre and band.
+
+        The shape's CDF is the percentiles interpolated linearly in normal scores, and
+        extended linearly in normal scores beyond the outermost ones (normal-like tails).
+        """
         z = stats.norm.ppf(self.levels)
+        v = self.offsets
+        low = (z[1] - z[0]) / max(v[1] - v[0], 1e-12)
+        high = (z[-1] - z[-2]) / max(v[-1] - v[-2], 1e-12)
 
         def cdf(x: float) -> float:
-            return float(stats.norm.cdf(np.interp(x, self.offsets, z, left=-8.0, right=8.0)))
+            if x < v[0]:
+                score = z[0] + (x - v[0]) * low
+            elif x > v[-1]:
+                score = z[-1] + (x - v[-1]) * high
+            else:
+                score = float(np.interp(x, v, z))
+            return float(stats.norm.cdf(score))
 
         return cdf(band[1] - centre) - cdf(band[0] - centre)
 
@@ -72,6 +86,16 @@ def decompose(before: Side, now: Side) -> tuple[float, float, float]:
     The value of a mix takes each ingredient from ``before`` or ``now``; each part is its
     average marginal contribution over the six orders.
     """
+
+    # Ingredients equal up to the JSON's rounding count as unchanged, so their parts are 0.
+    if abs(now.centre - before.centre) < SAME:
+        now = Side(before.centre, now.band, now.levels, now.offsets, now.p_inside)
+    if now.levels.shape == before.levels.shape and np.allclose(
+        now.offsets, before.offsets, rtol=0, atol=SAME
+    ):
+        now = Side(now.centre, now.band, before.levels, before.offsets, now.p_inside)
+    if max(abs(now.band[0] - before.band[0]), abs(now.band[1] - before.band[1])) < SAME:
+        now = Side(now.centre, before.band, now.levels, now.offsets, now.p_inside)
 
     def value(use: tuple[bool, bool, bool]) -> float:
         centre = now.centre if use[0] else before.centre
