@@ -29,7 +29,7 @@ from riskreport._typing import (
 )
 from riskreport.errors import InputError
 
-VERBAL_SCALES = ("ipcc-ar5",)
+VERBAL_SCALES = ("ipcc-ar5", "icd-203", "efsa-2018")
 
 T = TypeVar("T")
 

@@ -4,7 +4,8 @@ Default scale: the IPCC AR5 calibrated likelihood language, core terms (Mastrand
 2010, Guidance Note for Lead Authors of the IPCC Fifth Assessment Report on Consistent
 Treatment of Uncertainties, Table 1). Its ranges are nested, not a partition; the term used
 is the narrowest range that contains p. Ties (p exactly 33% or 66%) go to "about as likely
-as not", the narrower middle range.
+as not", the narrower middle range. Selectable alternatives: ICD 203 and the EFSA scale,
+both partitions (a probability on a shared edge takes the term nearer to 50%).
 """
 
 from __future__ import annotations
@@ -49,7 +50,39 @@ IPCC_AR5 = Scale(
     ),
 )
 
-SCALES: dict[str, Scale] = {IPCC_AR5.key: IPCC_AR5}
+ICD_203 = Scale(
+    key="icd-203",
+    name="US Intelligence Community ICD 203 expressions of likelihood",
+    source="Office of the Director of National Intelligence (2015), Intelligence Community Directive 203, Analytic Standards",
+    terms=(
+        Term("almost no chance", 0.00, 0.05),
+        Term("very unlikely", 0.05, 0.20),
+        Term("unlikely", 0.20, 0.45),
+        Term("roughly even chance", 0.45, 0.55),
+        Term("likely", 0.55, 0.80),
+        Term("very likely", 0.80, 0.95),
+        Term("almost certain", 0.95, 1.00),
+    ),
+)
+
+EFSA_2018 = Scale(
+    key="efsa-2018",
+    name="EFSA approximate probability scale",
+    source="EFSA Scientific Committee (2018), Guidance on Uncertainty Analysis in Scientific Assessments, EFSA Journal 16(1):5123",
+    terms=(
+        Term("almost impossible", 0.00, 0.01),
+        Term("extremely unlikely", 0.01, 0.05),
+        Term("very unlikely", 0.05, 0.10),
+        Term("unlikely", 0.10, 0.33),
+        Term("about as likely as not", 0.33, 0.66),
+        Term("likely", 0.66, 0.90),
+        Term("very likely", 0.90, 0.95),
+        Term("extremely likely", 0.95, 0.99),
+        Term("almost certain", 0.99, 1.00),
+    ),
+)
+
+SCALES: dict[str, Scale] = {s.key: s for s in (IPCC_AR5, ICD_203, EFSA_2018)}
 
 
 def term(p: float, scale: Scale = IPCC_AR5) -> str:

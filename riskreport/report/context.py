@@ -166,9 +166,18 @@ def band_label(band: tuple[float, float]) -> str:
     return f"{fmt.number(band[0])}\u2013{fmt.number(band[1])}%"
 
 
-def phrase(p: float, whole: str) -> str:
-    """ "likely (72%)": the scale's word with the printed number beside it."""
-    return f"{verbal.term(p)} ({whole})"
+def scale_of(a: Assessment) -> verbal.Scale:
+    """The verbal probability scale the configuration chose."""
+    return verbal.SCALES[a.uncertainty["verbal_scale"]]
+
+
+def phrase(a: Assessment, whole: str) -> str:
+    """The scale's word with the printed number beside it, e.g. "likely (72%)".
+
+    The word is chosen for the printed (rounded) number, so word and number agree.
+    """
+    shown = float(whole.strip("<>%")) / 100
+    return f"{verbal.term(shown, scale_of(a))} ({whole})"
 
 
 def _row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
@@ -195,7 +204,7 @@ def _headline(a: Assessment) -> tuple[str, ProbabilityRow]:
     ahead = f"{r.h} {unit}{'s' if r.h != 1 else ''} ahead"
     text = (
         f"At the policy horizon ({r.period}, {ahead}) inflation is "
-        f"{phrase(r.p_inside, row.inside)} to be inside the {band_label(r.band)} target band; "
+        f"{phrase(a, row.inside)} to be inside the {band_label(r.band)} target band; "
         f"the chance that it is above the band is {row.above} and below it {row.below}."
     )
     return text, row
@@ -210,9 +219,9 @@ def _messages(a: Assessment) -> tuple[str, ...]:
         f"{fmt.single_percent(policy.p_above)}, below {fmt.single_percent(policy.p_below)}. "
         f"The central path is {fmt.number(policy.centre)}% in {policy.period}.",
         f"Inflation staying inside the band in every period from {first.period} to "
-        f"{policy.period} is {phrase(path.p_inside_throughout, fmt.single_percent(path.p_inside_throughout))}; "
+        f"{policy.period} is {phrase(a, fmt.single_percent(path.p_inside_throughout))}; "
         f"being inside at least once by then is "
-        f"{phrase(path.p_back_inside_by, fmt.single_percent(path.p_back_inside_by))}.",
+        f"{phrase(a, fmt.single_percent(path.p_back_inside_by))}.",
     ]
     if a.judgement:
         base = a.horizon_result(a.policy_horizon, model_based=True)
@@ -704,13 +713,13 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
             "Inside the band means lower edge \u2264 inflation \u2264 upper edge (both edges "
             "count as inside). Below, inside and above add to 100% after rounding; shares under 1% or over 99% are printed as <1% and >99%, never as a certainty."
         ),
-        scale_text=f"Words for probabilities follow the {verbal.IPCC_AR5.name} ({verbal.IPCC_AR5.source}).",
+        scale_text=f"Words for probabilities follow the {scale_of(a).name} ({scale_of(a).source}).",
         charts=charts,
         outlook_text=(
             f"The shaded areas hold the outcome with 50%, 80% and 90% probability; the dotted "
             f"line is the centre path (the most likely value), which ends at "
             f"{fmt.number(a.horizons[-1].centre)}% in {a.horizons[-1].period}.",
-            f"Near term, inflation is {phrase(a.horizons[0].p_inside, _row(a.horizons[0], policy_h).inside)} "
+            f"Near term, inflation is {phrase(a, _row(a.horizons[0], policy_h).inside)} "
             f"to be inside the band in {a.horizons[0].period}; uncertainty widens with the horizon.",
         ),
         overlay_entries=entries,
@@ -767,7 +776,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
                 "Path probabilities",
                 f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}",
             ),
-            KeyValue("Verbal scale", verbal.IPCC_AR5.name),
+            KeyValue("Verbal scale", scale_of(a).name),
         ),
         inputs=tuple(
             (

@@ -69,7 +69,7 @@ def percentages(probabilities: list[float]) -> list[int]:
     return floors
 
 
-def percent_text(whole: int, probability: float) -> str:
+def percent_text(whole: int, probability: float | None = None) -> str:
     """A whole percentage for print; never 0% or 100%.
 
     A probability that rounds to 0 or 100 is printed "<1%" or ">99%": these are model

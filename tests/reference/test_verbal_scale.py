@@ -35,3 +35,37 @@ def test_ipcc_terms(p: float, expected: str) -> None:
 def test_out_of_range() -> None:
     with pytest.raises(ValueError, match="probability"):
         term(1.2)
+
+
+@pytest.mark.parametrize(
+    ("p", "expected"),
+    # checks.md section 9: ICD 203 (2015) table: 0.50 -> roughly even chance, 0.85 -> very
+    # likely, 0.03 -> almost no chance.
+    [
+        (0.50, "roughly even chance"),
+        (0.85, "very likely"),
+        (0.03, "almost no chance"),
+        (0.30, "unlikely"),
+    ],
+)
+def test_icd_203(p: float, expected: str) -> None:
+    from riskreport.verbal import ICD_203
+
+    assert term(p, ICD_203) == expected
+
+
+@pytest.mark.parametrize(
+    ("p", "expected"),
+    # checks.md section 9: EFSA (2018) scale: 0.97 -> extremely likely; 0.07 -> very
+    # unlikely; 0.50 -> about as likely as not.
+    [
+        (0.97, "extremely likely"),
+        (0.07, "very unlikely"),
+        (0.50, "about as likely as not"),
+        (0.995, "almost certain"),
+    ],
+)
+def test_efsa(p: float, expected: str) -> None:
+    from riskreport.verbal import EFSA_2018
+
+    assert term(p, EFSA_2018) == expected
