@@ -175,17 +175,72 @@ def test_demo_inputs_are_what_the_generator_makes(tmp_path: Path) -> None:
         assert (tmp_path / name).read_bytes() == (DEMO / name).read_bytes(), name
 
 
-@pytest.mark.parametrize("field", ["title", "institution", "reason"])
+HOSTILE = "<script>alert(1)</script> & <img src=file:///etc/passwd>"
+ESCAPED = "&lt;script&gt;alert(1)&lt;/script&gt; &amp; &lt;img src=file:///etc/passwd&gt;"
+
+
+@pytest.mark.parametrize("field", ["title", "institution", "reason", "scenario", "model"])
 def test_hostile_text_is_escaped(case: Case, run: Callable[..., Result], field: str) -> None:
-    hostile = "<script>alert(1)</script> & <img src=file:///etc/passwd>"
-    escaped = "&lt;script&gt;alert(1)&lt;/script&gt; &amp; &lt;img src=file:///etc/passwd&gt;"
+    # practice-notes section 2: every free-text field must come out escaped.
+    toml_text = HOSTILE.replace("\\", "\\\\")
     if field == "reason":
-        case.config += f'\n[[judgement]]\nfrom = "2025-01"\nto = "2025-01"\nshift = 0.1\nreason = \'{hostile}\'\n'
+        case.config += f'\n[[judgement]]\nfrom = "2025-01"\nto = "2025-01"\nshift = 0.1\nreason = \'{toml_text}\'\n'
+    elif field == "scenario":
+        case.config += f"\n[[scenario]]\nname = '{toml_text}'\nfrom = \"2025-01\"\nto = \"2025-01\"\nshift = 0.1\nreason = '{toml_text}'\n"
+    elif field == "model":
+        for row in case.forecasts[1:]:
+            if row[2] == "a":
+                row[2] = HOSTILE.replace(",", ";")
     else:
-        case.config = re.sub(rf'{field} = "[^"]*"', f"{field} = '{hostile}'", case.config, count=1)
-    case.config = case.config.replace('formats = ["json", "csv"]', 'formats = ["html"]')
+        case.config = re.sub(
+            rf'{field} = "[^"]*"', f"{field} = '{toml_text}'", case.config, count=1
+        )
+    case.config = case.config.replace('formats = ["json", "csv"]', 'formats = ["html", "pdf"]')
     result = run("build", case.write(), "--out", case.folder / "o", "-q")
     assert result.code == 0, result.stderr
     html = (case.folder / "o" / "brief-2024-12.html").read_text("utf-8")
     assert "<script>" not in html
-    assert escaped in html
+    assert "<img src=file" not in html
+    assert ESCAPED.replace(",", ";") in html or ESCAPED in html
+    text = " ".join(_pdf_text(case.folder / "o" / "brief-2024-12.pdf").split())
+    assert "<script>alert(1)</script>" in text  # shown as text, not run
+
+
+def test_pdf_renderer_refuses_outside_resources() -> None:
+    # practice-notes section 1.9: only inline data: URLs; a file:// or http:// reference
+    # stops the render instead of being fetched.
+    import datetime as dt
+
+    from weasyprint.urls import FatalURLFetchingError
+
+    from riskreport.report import render
+
+    for url in ("file:///etc/passwd", "http://127.0.0.1:9/x.png"):
+        page = f'<html lang="en"><head><title>t</title></head><body><img src="{url}" alt="x"></body></html>'
+        with pytest.raises(FatalURLFetchingError):
+            render.pdf(page, dt.date(2026, 1, 1))
+
+
+def _scrub(html: str) -> str:
+    """Volatile fields out: software versions, the run id derived from them, chart bytes."""
+    html = re.sub(
+        r"data:image/svg\+xml;base64,[A-Za-z0-9+/=]+", "data:image/svg+xml;base64,CHART", html
+    )
+    html = re.sub(r"Run [0-9a-f]{12}", "Run RUNID", html)
+    html = re.sub(r"Software: [^<]*\.", "Software: VERSIONS.", html)
+    return re.sub(r"<style>.*?</style>", "<style>CSS</style>", html, flags=re.S)
+
+
+def test_golden_html(case: Case, run: Callable[..., Result]) -> None:
+    """The brief's HTML for a fixed small case, against a reviewed copy (volatile fields
+    scrubbed). Set RISKREPORT_UPDATE_GOLDEN=1 to rewrite it after a deliberate change."""
+    import os
+
+    case.config = case.config.replace('formats = ["json", "csv"]', 'formats = ["html"]')
+    assert run("build", case.write(), "--out", case.folder / "o", "-q").code == 0
+    html = _scrub((case.folder / "o" / "brief-2024-12.html").read_text("utf-8"))
+    golden = Path(__file__).parent / "golden" / "brief-small.html"
+    if os.environ.get("RISKREPORT_UPDATE_GOLDEN"):
+        golden.parent.mkdir(exist_ok=True)
+        golden.write_text(html, encoding="utf-8")
+    assert html == golden.read_text(encoding="utf-8")
