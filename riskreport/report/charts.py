@@ -367,3 +367,57 @@ def change_parts(assessment: Assessment, width_mm: float = 84, height_mm: float 
             fontsize=6, frameon=False, ncol=4, loc="upper center", bbox_to_anchor=(0.5, -0.18)
         )
         return Chart("change", _svg(fig), width_mm, height_mm)
+
+
+MODEL_SHADES = (
+    "#7a4e12",
+    "#2f6497",
+    "#9b2f63",
+    "#b98d4f",
+    "#6f6a63",
+    "#8fb3d9",
+    "#d9b8c9",
+    "#26231f",
+)
+MODEL_HATCHES = ("", "////", "\\\\", "..", "xx", "--", "++", "oo")
+
+
+def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Chart:
+    """The current round's combination weights by horizon, stacked (negative ones below 0)."""
+    table: dict[str, dict[int, float]] = {}
+    for w in assessment.combination["weights"]:
+        table.setdefault(w["model"], {})[w["h"]] = w["weight"]
+    hs = [r.h for r in assessment.horizons]
+    with matplotlib.rc_context(_RC):
+        fig = _figure(width_mm, height_mm)
+        ax = fig.add_subplot()
+        up = np.zeros(len(hs))
+        down = np.zeros(len(hs))
+        for i, (model, by_h) in enumerate(table.items()):
+            values = np.array([by_h.get(h, 0.0) for h in hs])
+            base = np.where(values >= 0, up, down)
+            ax.bar(
+                hs,
+                values,
+                bottom=base,
+                width=0.8,
+                color=MODEL_SHADES[i % 8],
+                hatch=MODEL_HATCHES[i % 8],
+                edgecolor=INK,
+                linewidth=0.3,
+                label=model,
+            )
+            up += np.where(values >= 0, values, 0)
+            down += np.where(values < 0, values, 0)
+        ax.axhline(0, color=INK, lw=0.6)
+        ax.set_xlabel("periods ahead (h)")
+        ax.set_ylabel("weight")
+        ax.spines[["top", "right"]].set_visible(False)
+        ax.legend(
+            fontsize=6.5,
+            frameon=False,
+            ncol=min(len(table), 5),
+            loc="upper center",
+            bbox_to_anchor=(0.5, -0.28),
+        )
+        return Chart("weights", _svg(fig), width_mm, height_mm)

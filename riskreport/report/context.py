@@ -148,6 +148,9 @@ class BriefContext:
     accuracy_lines: tuple[AccuracyLine, ...]
     accuracy_text: str
     calibration_text: tuple[str, ...]
+    pit_rows: tuple[tuple[str, tuple[str, ...], str], ...]
+    pit_bins: tuple[str, ...]
+    reliability_rows: tuple[tuple[str, str, str], ...]
     coverage_rows: tuple[tuple[str, str, str, str], ...]
     tests_text: tuple[str, ...]
     weight_horizons: tuple[str, ...]
@@ -730,6 +733,23 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         accuracy_text=acc_text,
         tests_text=_tests_text(a, shown),
         calibration_text=calibration_lines,
+        pit_rows=tuple(
+            (
+                f"{g['h_from']}\u2013{g['h_to']}" if g["h_from"] != g["h_to"] else str(g["h_from"]),
+                tuple(str(c) for c in g["counts"]),
+                str(g["n"]),
+            )
+            for g in a.calibration["pit"]
+        ),
+        pit_bins=tuple(str(k) for k in range(1, 11)),
+        reliability_rows=tuple(
+            (
+                fmt.single_percent(r["forecast_mean"]),
+                fmt.single_percent(r["observed_frequency"]),
+                str(r["n"]),
+            )
+            for r in a.calibration["brier"]["reliability"]
+        ),
         coverage_rows=coverage_rows,
         weight_horizons=weight_h,
         weight_rows=weight_rows,

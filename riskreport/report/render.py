@@ -77,6 +77,21 @@ def _alt_change(a: Assessment) -> str:
     )
 
 
+def _alt_weights(a: Assessment) -> str:
+    by_model: dict[str, list[float]] = {}
+    for w in a.combination["weights"]:
+        by_model.setdefault(w["model"], []).append(w["weight"])
+    parts = [
+        f"{m} from {fmt.number(min(ws), 2)} to {fmt.number(max(ws), 2)}"
+        for m, ws in by_model.items()
+    ]
+    return (
+        "Stacked bar chart of the combination weights by horizon: "
+        + "; ".join(parts)
+        + ". The weights table is beside it."
+    )
+
+
 def _alt_pit(a: Assessment) -> str:
     parts = []
     for g in a.calibration["pit"]:
@@ -125,6 +140,14 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], d
                 _alt_change(a),
                 f"Change in the probability of being inside since {a.change['previous_as_of']}, "
                 "by target period, split into centre, spread and shape, and band.",
+            )
+        )
+    if a.combination["method"] not in ("equal", "given"):
+        made.append(
+            (
+                charts_module.weights(a),
+                _alt_weights(a),
+                f"Combination weights of the current round by horizon ({a.combination['method']}).",
             )
         )
     calibration = a.calibration
