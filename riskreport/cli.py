@@ -72,6 +72,24 @@ def _parser() -> argparse.ArgumentParser:
     backtest.add_argument("--as-of", dest="as_of", help="override [brief] as_of")
     backtest.add_argument("--force", action="store_true", help="replace existing tables")
 
+    batch = sub.add_parser(
+        "batch", parents=[common], help="many briefs: several configs, or one re-run over months"
+    )
+    batch.add_argument("configs", type=Path, nargs="+", metavar="CONFIG")
+    batch.add_argument(
+        "--months", help="FROM..TO: re-run each config with as_of set to every period in the range"
+    )
+    batch.add_argument(
+        "--jobs",
+        type=int,
+        default=1,
+        help="configs built in parallel (periods of one config run in order)",
+    )
+    batch.add_argument(
+        "--out", type=Path, help="output folder (default: each config's [output] directory)"
+    )
+    batch.add_argument("--force", action="store_true", help="replace existing briefs")
+
     check = sub.add_parser("check", parents=[common], help="validate inputs and config only")
     check.add_argument("config", type=Path)
     check.add_argument("--as-of", dest="as_of", help="override [brief] as_of")
@@ -211,7 +229,86 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
     }
 
 
+def _periods_between(text: str) -> list[str]:
+    """The periods FROM..TO (inclusive), both written like the config's as_of."""
+    from riskreport import periods
+
+    if ".." not in text:
+        raise InputError(f"--months expected FROM..TO, e.g. 2026-01..2026-11, got {text!r}")
+    first, last = (periods.parse(part) for part in text.split("..", 1))
+    if (
+        first is None
+        or last is None
+        or first.frequency != last.frequency
+        or first.ordinal > last.ordinal
+    ):
+        raise InputError(
+            f"--months expected FROM..TO with FROM <= TO in one frequency, got {text!r}"
+        )
+    return [periods.label(o, first.frequency) for o in range(first.ordinal, last.ordinal + 1)]
+
+
+def _one_config(
+    config: Path, months: list[str] | None, out: Path | None, force: bool, verbose: bool
+) -> list[dict[str, Any]]:
+    """Every brief of one config, in period order; each failure is recorded, not raised."""
+    results = []
+    rounds: list[str | None] = list(months) if months else [None]
+    for as_of in rounds:
+        try:
+            summary = _build(config, out, as_of, force)
+            code = EXIT_OK
+        except InputError as exc:
+            summary, code = {"status": "error", "error": exc.one_line()}, EXIT_INPUT
+        except Exception as exc:  # one brief failing must not stop the others
+            detail = traceback.format_exc() if verbose else f"{type(exc).__name__}: {exc}"
+            summary, code = {"status": "error", "error": " ".join(detail.split())}, EXIT_INTERNAL
+        if code != EXIT_OK:
+            print(
+                f"riskreport: {config.name} {as_of or ''}: error: {summary['error']}",
+                file=sys.stderr,
+            )
+        results.append(
+            {
+                "config": str(config),
+                "as_of": as_of or summary.get("as_of"),
+                "exit_code": code,
+                **summary,
+            }
+        )
+    return results
+
+
+def _batch(args: argparse.Namespace) -> dict[str, Any]:
+    months = _periods_between(args.months) if args.months else None
+    configs = list(args.configs)
+    results: list[dict[str, Any]] = []
+    if args.jobs > 1 and len(configs) > 1:
+        from concurrent.futures import ProcessPoolExecutor
+
+        # Each config in its own short-lived worker: weasyprint's memory goes with it.
+        with ProcessPoolExecutor(max_workers=args.jobs, max_tasks_per_child=1) as pool:
+            futures = [
+                pool.submit(_one_config, c, months, args.out, args.force, args.verbose)
+                for c in configs
+            ]
+            for future in futures:
+                results.extend(future.result())
+    else:
+        for config in configs:
+            results.extend(_one_config(config, months, args.out, args.force, args.verbose))
+    worst = max(r["exit_code"] for r in results)
+    return {
+        "status": "ok" if worst == 0 else "error",
+        "briefs": results,
+        "exit_code": worst,
+        "outputs": [o for r in results for o in r.get("outputs", [])],
+    }
+
+
 def _run(args: argparse.Namespace) -> dict[str, Any]:
+    if args.command == "batch":
+        return _batch(args)
     if args.command == "backtest":
         return _backtest(args.config, args.out, args.as_of, args.force)
     if args.command == "demo":
@@ -230,7 +327,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     _setup_logging(args)
     try:
         summary = _run(args)
-        code = EXIT_OK
+        code = int(summary.pop("exit_code", EXIT_OK))
     except InputError as exc:
         print(f"riskreport: error: {exc.one_line()}", file=sys.stderr)
         summary, code = {"status": "error", "error": exc.one_line()}, EXIT_INPUT

@@ -244,3 +244,14 @@ def test_golden_html(case: Case, run: Callable[..., Result]) -> None:
         golden.parent.mkdir(exist_ok=True)
         golden.write_text(html, encoding="utf-8")
     assert html == golden.read_text(encoding="utf-8")
+
+
+def test_summary_fits_on_the_first_page(demo_build: Path) -> None:
+    reader = PdfReader(_out(demo_build) / f"brief-{AS_OF}.pdf")
+    first = " ".join(reader.pages[0].extract_text().split())
+    assert "At the policy horizon" in first
+    assert "Below, inside and above the band" in first
+    assert "Since the last brief" in first
+    assert "does not replace, the judgement of the policy committee" in first  # cautions box
+    assert "2 Outlook" not in first
+    assert "2 Outlook" in " ".join(reader.pages[1].extract_text().split())

@@ -205,3 +205,29 @@ def test_backtest_prints_and_writes_tables(run: Callable[..., Result], case: Cas
         assert (out / "tables" / f"{name}-2024-12.csv").is_file()
     header = (out / "tables" / "tests-2024-12.csv").read_text("utf-8").splitlines()[0]
     assert header.startswith("name,models,h,statistic,pvalue,nobs,null")
+
+
+def test_batch_over_months_and_configs(
+    run: Callable[..., Result], case: Case, tmp_path: Path
+) -> None:
+    config = case.write()
+    out = tmp_path / "b"
+    result = run("batch", config, "--months", "2024-10..2024-12", "--out", out, "--json", "-q")
+    assert result.code == 0, result.stderr
+    import json
+
+    summary = json.loads(result.stdout)
+    assert [b["as_of"] for b in summary["briefs"]] == ["2024-10", "2024-11", "2024-12"]
+    latest = json.loads((out / "assessment-2024-12.json").read_text("utf-8"))
+    assert latest["change"]["previous_as_of"] == "2024-11"
+    # One bad config fails alone; the batch exits with the worst code.
+    bad = tmp_path / "bad.toml"
+    bad.write_text(case.config.replace('as_of = "2024-12"', 'as_of = "2031-01"'))
+    (tmp_path / "forecasts.csv").write_bytes((case.folder / "forecasts.csv").read_bytes())
+    (tmp_path / "actuals.csv").write_bytes((case.folder / "actuals.csv").read_bytes())
+    mixed = run("batch", config, bad, "--out", tmp_path / "m", "--json", "-q")
+    assert mixed.code == 2
+    codes = [b["exit_code"] for b in json.loads(mixed.stdout)["briefs"]]
+    assert codes == [0, 2]
+    assert (tmp_path / "m" / "assessment-2024-12.json").is_file()
+    assert run("batch", config, "--months", "2024-12..2024-10").code == 2
