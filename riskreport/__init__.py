@@ -5,12 +5,12 @@ Public API: :func:`assess` computes every number of a brief; :func:`render` writ
 
 from __future__ import annotations
 
-from riskreport import combination, distributions
+from riskreport import combination, distributions, stats
 from riskreport.assessment import Assessment
 from riskreport.errors import InputError
 from riskreport.pipeline import assess
 
-__all__ = ["Assessment", "InputError", "assess", "combination", "distributions", "render"]
+__all__ = ["Assessment", "InputError", "assess", "combination", "distributions", "render", "stats"]
 __version__ = "0.1.0"
 
 
