@@ -1,8 +1,11 @@
-"""Option strings of the configuration, as Literal aliases (one vocabulary)."""
+"""Option strings of the configuration, as Literal aliases (one vocabulary).
+
+The tuples of allowed values are read off the aliases, so each list is written once.
+"""
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Literal, get_args
 
 Frequency = Literal["monthly", "quarterly"]
 Basis = Literal["period", "calendar-year-average", "year-end"]
@@ -23,26 +26,10 @@ CombinationMethod = Literal[
 ]
 OutputFormat = Literal["pdf", "html", "json", "csv"]
 
-FREQUENCIES: tuple[Frequency, ...] = ("monthly", "quarterly")
-BASES: tuple[Basis, ...] = ("period", "calendar-year-average", "year-end")
-CENTRES: tuple[Centre, ...] = ("estimated", "forecast")
-DISTRIBUTION_CHOICES: tuple[DistributionChoice, ...] = (
-    "normal",
-    "two-piece-normal",
-    "skew-normal",
-    "empirical",
-    "auto",
-)
-COMBINATION_METHODS: tuple[CombinationMethod, ...] = (
-    "equal",
-    "median",
-    "trimmed",
-    "inverse-mse",
-    "rank",
-    "ols",
-    "ols-sum-to-one",
-    "ols-nonnegative",
-    "shrink",
-    "given",
-)
-OUTPUT_FORMATS: tuple[OutputFormat, ...] = ("pdf", "html", "json", "csv")
+FREQUENCIES: tuple[Frequency, ...] = get_args(Frequency)
+BASES: tuple[Basis, ...] = get_args(Basis)
+CENTRES: tuple[Centre, ...] = get_args(Centre)
+DISTRIBUTION_CHOICES: tuple[DistributionChoice, ...] = get_args(DistributionChoice)
+COMBINATION_METHODS: tuple[CombinationMethod, ...] = get_args(CombinationMethod)
+OUTPUT_FORMATS: tuple[OutputFormat, ...] = get_args(OutputFormat)
+FAMILIES: tuple[Family, ...] = get_args(Family)

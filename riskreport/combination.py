@@ -32,15 +32,6 @@ from riskreport._typing import CombinationMethod
 from riskreport.panel import Panel
 
 SHRINKAGE = 0.25  # kappa of the shrink method (Stock & Watson 2004 consider 0.25, 0.5, 1)
-LINEAR: tuple[CombinationMethod, ...] = (
-    "equal",
-    "inverse-mse",
-    "rank",
-    "ols",
-    "ols-sum-to-one",
-    "ols-nonnegative",
-    "shrink",
-)
 
 
 def min_history(method: CombinationMethod, k: int) -> int:

@@ -17,6 +17,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy import optimize, stats
 
+from riskreport import _typing
 from riskreport._families import (
     EmpiricalFit,
     NormalFit,
@@ -131,7 +132,7 @@ class GivenQuantiles:
 
 
 Fit = NormalFit | TwoPieceNormalFit | SkewNormalFit | EmpiricalFit
-FAMILIES: tuple[Family, ...] = ("normal", "two-piece-normal", "skew-normal", "empirical")
+FAMILIES: tuple[Family, ...] = _typing.FAMILIES
 
 
 def _single(batch: Any) -> Any:

@@ -163,14 +163,21 @@ def diebold_mariano(
     )
 
 
-def long_run_covariance(d: np.ndarray, lags: int) -> np.ndarray:
-    """Omega = Gamma_0 + sum_{j=1}^{lags} (Gamma_j + Gamma_j'), denominators T, demeaned."""
+def long_run_covariance(
+    d: np.ndarray, lags: int, *, kernel: Literal["uniform", "bartlett"] = "uniform"
+) -> np.ndarray:
+    """Omega = Gamma_0 + sum_{j=1}^{lags} w_j (Gamma_j + Gamma_j'), denominators T, demeaned.
+
+    ``uniform`` weights are 1 (the rectangular window of DM and Mariano-Preve); ``bartlett``
+    weights 1 - j/(lags + 1) keep Omega positive semi-definite (Newey-West).
+    """
     t = d.shape[0]
     centred = d - d.mean(axis=0)
     omega = centred.T @ centred / t
     for j in range(1, lags + 1):
+        weight = 1.0 if kernel == "uniform" else 1 - j / (lags + 1)
         gamma = centred[j:].T @ centred[:-j] / t
-        omega = omega + gamma + gamma.T
+        omega = omega + weight * (gamma + gamma.T)
     return omega
 
 
@@ -180,11 +187,7 @@ def _wald(d: np.ndarray, lags: int) -> tuple[float, tuple[str, ...]]:
     omega = long_run_covariance(d, lags)
     notes: tuple[str, ...] = ()
     if np.linalg.eigvalsh(omega).min() <= 0:
-        centred = d - d.mean(axis=0)
-        omega = centred.T @ centred / t
-        for j in range(1, lags + 1):
-            gamma = centred[j:].T @ centred[:-j] / t
-            omega = omega + (1 - j / (lags + 1)) * (gamma + gamma.T)
+        omega = long_run_covariance(d, lags, kernel="bartlett")
         notes = (
             f"rectangular long-run covariance not positive definite; Bartlett kernel with {lags} lags used",
         )
@@ -407,12 +410,8 @@ def knuppel(pit: ArrayLike, *, h: int = 1, moments: int = 4) -> TestResult:
     u = np.sqrt(12) * (z - 0.5)
     d = np.column_stack([u, u**2 - 1, u**3, u**4 - 9 / 5])[:, :moments]
     t = d.shape[0]
-    centred = d - d.mean(axis=0)
-    omega = centred.T @ centred / t
     lags = h - 1
-    for j in range(1, lags + 1):
-        gamma = centred[j:].T @ centred[:-j] / t
-        omega = omega + (1 - j / (lags + 1)) * (gamma + gamma.T)
+    omega = long_run_covariance(d, lags, kernel="bartlett")
     mean = d.mean(axis=0)
     statistic = float(t * mean @ np.linalg.solve(omega, mean))
     return TestResult(
