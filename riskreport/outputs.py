@@ -12,6 +12,7 @@ import csv
 import hashlib
 import io
 import json
+import logging
 import os
 import shutil
 import tempfile
@@ -21,6 +22,8 @@ from pathlib import Path
 from riskreport._typing import OUTPUT_FORMATS, OutputFormat
 from riskreport.assessment import Assessment
 from riskreport.errors import OverwriteRefused
+
+log = logging.getLogger("riskreport")
 
 
 def run_id(assessment_json: str) -> str:
@@ -92,6 +95,21 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
             for t in data["tests"]
         )
         files[f"tables/weights-{as_of}.csv"] = _csv(data["combination"]["weights"])
+        files[f"tables/annual-{as_of}.csv"] = _csv(
+            {**r, "band": "..".join(map(str, r["band"]))} for r in data["annual"]
+        )
+        calibration = data["calibration"]
+        files[f"tables/coverage-{as_of}.csv"] = _csv(calibration["coverage"])
+        files[f"tables/scores-{as_of}.csv"] = _csv(calibration["scores"])
+        files[f"tables/brier-{as_of}.csv"] = _csv(calibration["brier"]["by_horizon"])
+        files[f"tables/reliability-{as_of}.csv"] = _csv(
+            {**r, "bin": "..".join(map(str, r["bin"]))} for r in calibration["brier"]["reliability"]
+        )
+        files[f"tables/scenarios-{as_of}.csv"] = _csv(
+            {"scenario": sc["name"], **row} for sc in data["scenarios"] for row in sc["horizons"]
+        )
+        if data["change"]:
+            files[f"tables/change-{as_of}.csv"] = _csv(data["change"]["horizons"])
     if chosen & {"html", "pdf"}:
         from riskreport.report import render as render_module
 
@@ -101,9 +119,11 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         if "html" in chosen:
             files[f"brief-{as_of}.html"] = page.encode("utf-8")
         if "pdf" in chosen:
-            files[f"brief-{as_of}.pdf"], _ = render_module.pdf(
+            files[f"brief-{as_of}.pdf"], notes = render_module.pdf(
                 page, render_module.created_date(assessment)
             )
+            for note in notes:
+                log.warning("weasyprint: %s", note)
     return files
 
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Callable
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -12,7 +13,7 @@ import riskreport
 from riskreport import calibration, selection
 from riskreport.annual import annual
 from riskreport.config import Band
-from riskreport.distributions import FAMILIES, fit_batch
+from riskreport.distributions import FAMILIES, NormalFit, fit_batch
 from riskreport.periods import parse
 from tests.conftest import Case, Result
 
@@ -131,3 +132,46 @@ def test_families_through_the_whole_pipeline(case: Case, family: str) -> None:
         assert r.p_below + r.p_inside + r.p_above == pytest.approx(1.0, abs=1e-9)
         lo, hi = r.p_inside_interval
         assert 0 <= lo <= hi <= 1
+
+
+def test_target_schedule_changes_the_band_from_its_period(case: Case) -> None:
+    case.config = case.config.replace(
+        "tolerance = 1.0",
+        'tolerance = 1.0\nschedule = [{from = "2025-02", midpoint = 1.5, tolerance = 0.5}]',
+    )
+    a = riskreport.assess(case.write())
+    for r in a.horizons:
+        expected = (1.0, 3.0) if r.period < "2025-02" else (1.0, 2.0)
+        assert r.band == expected
+    assert a.target["schedule"][0]["from"] == "2025-02"
+
+
+def test_two_piece_errors_from_a_known_law(tmp_path: Path) -> None:
+    """Errors drawn from a two-piece normal (mode 0.2, sigma1 0.4, sigma2 0.9): the fitted
+    band probabilities land within sampling error of the true ones (checks.md 1.2 CDF)."""
+    from riskreport.distributions import Tilted
+
+    rng = np.random.default_rng(99)
+    truth = Tilted(NormalFit(loc=0.2, scale=0.65, loglik=0.0, nobs=1), (0.9 - 0.4) / 1.3)
+    n = 400
+    e = truth.rvs(n + 2, rng)
+
+    def label(i: int) -> str:
+        return f"{2000 + i // 12:04d}-{i % 12 + 1:02d}"
+
+    forecasts = ["origin,period,value"] + [
+        f"{label(o)},{label(o + h)},2.0" for o in range(n + 1) for h in (0, 1)
+    ]
+    actuals = ["period,value"] + [f"{label(i)},{2.0 + e[i]:.6f}" for i in range(n)]
+    (tmp_path / "f.csv").write_text("\n".join(forecasts) + "\n")
+    (tmp_path / "a.csv").write_text("\n".join(actuals) + "\n")
+    (tmp_path / "c.toml").write_text(
+        f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{label(n)}"\nhorizons = 1\npolicy_horizon = 0\n'
+        '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n[target]\nlower = 1.8\nupper = 3.0\n'
+        '[uncertainty]\ndistribution = "two-piece-normal"\nwindow = 0\nbootstrap_replicates = 100\nsimulations = 1000\n'
+    )
+    result = riskreport.assess(tmp_path / "c.toml").horizons[0]
+    p_true = float(truth.cdf(1.0) - truth.cdf(-0.2))  # band [1.8, 3.0] minus the forecast 2.0
+    se = np.sqrt(p_true * (1 - p_true) / n)
+    assert result.p_inside == pytest.approx(p_true, abs=3 * se)
+    assert result.p_below == pytest.approx(float(truth.cdf(-0.2)), abs=3 * se)

@@ -634,6 +634,13 @@ def _tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         )
     else:
         lines.append("The combination encompasses every model at these horizons (HLN 1998 test).")
+    fallback = [t for t in a.tests if any("Bartlett" in note for note in t.notes)]
+    if fallback:
+        lines.append(
+            f"In {len(fallback)} of {len(a.tests)} tests the usual (rectangular) long-run "
+            "variance came out negative, as it can for overlapping multi-step errors; those "
+            "tests use the Bartlett kernel instead (Harvey, Leybourne and Whitehouse 2017)."
+        )
     n = sorted({t.nobs for t in dm})
     if n:
         lines.append(
