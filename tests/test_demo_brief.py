@@ -255,3 +255,17 @@ def test_summary_fits_on_the_first_page(demo_build: Path) -> None:
     assert "does not replace, the judgement of the policy committee" in first  # cautions box
     assert "2 Outlook" not in first
     assert "2 Outlook" in " ".join(reader.pages[1].extract_text().split())
+
+
+def test_track_record_sentence_gets_the_sign_of_the_bias_right(demo_build: Path) -> None:
+    # Errors are actual - forecast: a positive mean error means outcomes came in above.
+    out = _out(demo_build)
+    data = json.loads((out / f"assessment-{AS_OF}.json").read_text("utf-8"))
+    row = next(
+        r
+        for r in data["accuracy"]
+        if r["model"] == "combination" and r["h"] == data["policy_horizon"]
+    )
+    text = " ".join(_pdf_text(out / f"brief-{AS_OF}.pdf").split())
+    expected = "above" if row["mean_error"] > 0 else "below"
+    assert f"outcomes came in {expected} the forecast" in text

@@ -335,7 +335,7 @@ def _track_text(a: Assessment) -> str:
     if row is None:
         return "There is no track record of the combined forecast at the policy horizon."
     unit = "month" if a.frequency == "monthly" else "quarter"
-    direction = "below" if row.mean_error > 0 else "above"
+    direction = "above" if row.mean_error > 0 else "below"  # errors are actual - forecast
     return (
         f"Over the last {row.n} forecast rounds with a known outcome, the combined forecast "
         f"{a.policy_horizon} {unit}s ahead missed by {fmt.number(row.rmse)} pp on average "
