@@ -129,10 +129,10 @@ def outlook(assessment: Assessment, width_mm: float = 170, height_mm: float = 66
         ax.axvline(x[0] - 0.5, color=BAND_EDGE, lw=0.6, zorder=2)
         ax.annotate(
             "outcomes",
-            (hist_x[0], hist_y[0]),
-            xytext=(2, 8),
+            (hist_x[int(np.argmax(hist_y))], max(hist_y)),  # above the peak: always clear
+            xytext=(0, 4),
             textcoords="offset points",
-            ha="left",
+            ha="center",
             color=INK,
             fontsize=7,
         )
