@@ -47,10 +47,6 @@ class Actuals:
     period: np.ndarray
     value: np.ndarray
 
-    def as_dict(self) -> dict[int, float]:
-        """Period ordinal -> outcome."""
-        return dict(zip(self.period.tolist(), self.value.tolist(), strict=True))
-
 
 def _cell_text(value: object) -> str:
     """A spreadsheet cell as the text a CSV would hold."""

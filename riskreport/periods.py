@@ -28,15 +28,6 @@ class ParsedPeriod:
     ordinal: int
 
 
-def frequency_of(text: str) -> Frequency | None:
-    """The frequency a period string is written in, or None if it is neither form."""
-    if _MONTHLY.match(text):
-        return "monthly"
-    if _QUARTERLY.match(text):
-        return "quarterly"
-    return None
-
-
 def parse(text: str) -> ParsedPeriod | None:
     """Parse ``YYYY-MM`` or ``YYYY-Qn``; None when the text is neither.
 

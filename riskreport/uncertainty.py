@@ -150,13 +150,6 @@ def build(
         sample, used = _borrow(columns, h, cfg.min_errors)
         if used:
             thin.append(f"{h} (from h = {', '.join(map(str, used))})")
-        if columns[h].size < SMALL_SAMPLE:
-            warnings.warn(
-                f"Horizon {h} rests on only {columns[h].size} past errors of its own; its "
-                "probabilities, and its tail probabilities above all, are uncertain.",
-                SmallSampleWarning,
-                stacklevel=2,
-            )
         fitted = _fit(family, sample, mode, h)
         samples.append(sample)
         own.append(int(columns[h].size))
@@ -165,6 +158,18 @@ def build(
             "track record" + (f", borrowing from h = {', '.join(map(str, used))}" if used else "")
         )
         fits.append(fitted)
+    small = [
+        h for h in range(cfg.horizons + 1) if h not in given_h and columns[h].size < SMALL_SAMPLE
+    ]
+    if small:
+        fewest = min(columns[h].size for h in small)
+        warnings.warn(
+            f"Horizons {periods.ranges(small)} rest on fewer than {SMALL_SAMPLE} past errors of "
+            f"their own (as few as {fewest}); their probabilities, and the tail probabilities "
+            "above all, are uncertain.",
+            SmallSampleWarning,
+            stacklevel=2,
+        )
     if thin:
         warnings.warn(
             "Thin horizons borrow the shape of neighbouring horizons' errors, rescaled to "
