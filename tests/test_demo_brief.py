@@ -8,6 +8,7 @@ import re
 from collections.abc import Callable
 from pathlib import Path
 
+import numpy as np
 import pytest
 from pypdf import PdfReader
 
@@ -269,3 +270,15 @@ def test_track_record_sentence_gets_the_sign_of_the_bias_right(demo_build: Path)
     text = " ".join(_pdf_text(out / f"brief-{AS_OF}.pdf").split())
     expected = "above" if row["mean_error"] > 0 else "below"
     assert f"outcomes came in {expected} the forecast" in text
+
+
+def test_judgement_message_names_its_largest_effect(demo_build: Path) -> None:
+    data = json.loads((_out(demo_build) / f"assessment-{AS_OF}.json").read_text("utf-8"))
+    moves = [
+        abs(f["p_inside"] - b["p_inside"])
+        for f, b in zip(data["horizons"], data["model_based_horizons"], strict=True)
+    ]
+    biggest = data["horizons"][int(np.argmax(moves))]["period"]
+    text = " ".join(_pdf_text(_out(demo_build) / f"brief-{AS_OF}.pdf").split())
+    assert f"moves the probability of being inside most in {biggest}" in text
+    assert "It does not cover the policy horizon." in text  # the demo's judgement ends 2027-12

@@ -213,6 +213,26 @@ def _headline(a: Assessment) -> tuple[str, ProbabilityRow]:
     return text, row
 
 
+def _judgement_message(a: Assessment) -> str:
+    """Where the staff judgement moves P(inside) most, and whether it reaches the policy horizon."""
+    spans = "; ".join(f"{j.start} to {j.end}" for j in a.judgement)
+    pairs = list(zip(a.model_based_horizons, a.horizons, strict=True))
+    base, final = max(pairs, key=lambda p: abs(p[1].p_inside - p[0].p_inside))
+    text = (
+        f"Staff judgement ({spans}) moves the probability of being inside most in {final.period}: "
+        f"from {fmt.single_percent(base.p_inside)} (model-based) to {fmt.single_percent(final.p_inside)}."
+    )
+    policy_base = a.horizon_result(a.policy_horizon, model_based=True)
+    if any(a.policy.period in j.periods for j in a.judgement):
+        text += (
+            f" At the policy horizon: {fmt.single_percent(policy_base.p_inside)} model-based, "
+            f"{fmt.single_percent(a.policy.p_inside)} after judgement."
+        )
+    else:
+        text += " It does not cover the policy horizon."
+    return text
+
+
 def _messages(a: Assessment) -> tuple[str, ...]:
     first, policy = a.horizons[0], a.policy
     path = next(p for p in a.path if p.h == a.policy_horizon)
@@ -227,13 +247,7 @@ def _messages(a: Assessment) -> tuple[str, ...]:
         f"{phrase(a, fmt.single_percent(path.p_back_inside_by))}.",
     ]
     if a.judgement:
-        base = a.horizon_result(a.policy_horizon, model_based=True)
-        messages.append(
-            f"Staff judgement is applied to {len(a.judgement)} period range"
-            f"{'s' if len(a.judgement) > 1 else ''}; at the policy horizon it moves the "
-            f"probability of being inside from {fmt.single_percent(base.p_inside)} (model-based) "
-            f"to {fmt.single_percent(policy.p_inside)}."
-        )
+        messages.append(_judgement_message(a))
     else:
         messages.append("No staff judgement overlay is applied: the probabilities are model-based.")
     return tuple(messages)
