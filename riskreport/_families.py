@@ -189,19 +189,15 @@ def _tpn_scales(s1: np.ndarray, s2: np.ndarray, n: np.ndarray) -> tuple[np.ndarr
 
 
 def _tpn_profile(
-    x_sorted: np.ndarray,
-    n: np.ndarray,
-    lo: np.ndarray,
-    hi: np.ndarray,
-    steps: int,
-    allow_edges: bool,
-) -> np.ndarray:
-    """Best mode per row over a grid of candidate modes.
+    x_sorted: np.ndarray, n: np.ndarray, lo: np.ndarray, hi: np.ndarray, steps: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """Best mode per row on a grid, within gaps lo <= i < hi, and whether the unrestricted
+    grid optimum (any gap, or the largest point) is strictly better.
 
     Candidates are the sample points and ``steps`` points inside each gap between sorted
-    points i and i + 1, for gaps lo <= i < hi; with ``allow_edges`` also the largest point.
-    S1 and S2 come from prefix sums, so the profile objective S1^(1/3) + S2^(1/3) is
-    evaluated for all candidates at once.
+    points i and i + 1, plus the largest point. S1 and S2 come from prefix sums, so the
+    profile objective S1^(1/3) + S2^(1/3) is evaluated once for all candidates; the
+    restricted and the free optimum are two minima of the same array.
     """
     b, width = x_sorted.shape
     finite = np.where(np.isfinite(x_sorted), x_sorted, 0.0)
@@ -215,18 +211,19 @@ def _tpn_profile(
     left, right = x_sorted[:, :-1], x_sorted[:, 1:]
     cand = np.repeat(left, steps + 1, axis=1) + np.repeat(right - left, steps + 1, axis=1) * step
     n1 = np.broadcast_to(gap + (step > 0), cand.shape)  # points strictly below the candidate
-    ok = (gap >= lo[:, None]) & (gap < hi[:, None]) & np.isfinite(cand)
-    if allow_edges:
-        last = x_sorted[rows, n - 1][:, None]
-        cand = np.concatenate([cand, last], axis=1)
-        n1 = np.concatenate([n1, (n - 1)[:, None]], axis=1)
-        ok = np.concatenate([ok, np.ones((b, 1), dtype=bool)], axis=1)
+    inside = (gap >= lo[:, None]) & (gap < hi[:, None])
+    cand = np.concatenate([cand, x_sorted[rows, n - 1][:, None]], axis=1)  # the largest point
+    n1 = np.concatenate([n1, (n - 1)[:, None]], axis=1)
+    inside = np.concatenate([inside, np.zeros((b, 1), dtype=bool)], axis=1)
     a1, a2 = np.take_along_axis(p1, n1, 1), np.take_along_axis(p2, n1, 1)
     s1 = a2 - 2 * cand * a1 + n1 * cand**2
     s2 = (t2[:, None] - a2) - 2 * cand * (t1[:, None] - a1) + (n[:, None] - n1) * cand**2
     objective = np.cbrt(np.maximum(s1, 0)) + np.cbrt(np.maximum(s2, 0))
-    objective = np.where(ok, objective, np.inf)
-    return cand[rows, np.argmin(objective, axis=1)]
+    objective = np.where(np.isfinite(cand), objective, np.inf)
+    restricted = np.where(inside, objective, np.inf)
+    best = np.argmin(restricted, axis=1)
+    edge_better = objective.min(axis=1) < restricted[rows, best] * (1 - 1e-12)
+    return cand[rows, best], edge_better
 
 
 def _side_sums(x: np.ndarray, mode: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -258,13 +255,8 @@ def fit_two_piece_normal(
         xs = np.sort(x, axis=1)  # NaN sort to the end
         lo = np.floor(0.1 * (n - 1)).astype(int)
         hi = np.ceil(0.9 * (n - 1)).astype(int)
-        m = _tpn_profile(xs, n, lo, hi, steps, allow_edges=False)
-        free = _tpn_profile(xs, n, np.zeros(b, dtype=int), n - 1, steps, allow_edges=True)
+        m, boundary = _tpn_profile(xs, n, lo, hi, steps)
         s1, s2 = _side_sums(x, m)
-        f1, f2 = _side_sums(x, free)
-        restricted = _tpn_scales(s1, s2, n)[2]
-        unrestricted = _tpn_scales(f1, f2, n)[2]
-        boundary = unrestricted > restricted + 1e-9
         if refine and b == 1:
             row = xs[0, : n[0]]
             grid_step = (row[-1] - row[0]) / max((n[0] - 1) * (steps + 1), 1)

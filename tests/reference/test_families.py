@@ -110,8 +110,8 @@ def test_two_piece_normal_boundary_case_is_detected_and_handled() -> None:
     assert lo - 1e-9 <= f.mode <= hi + 1e-9
     assert min(f.sigma1, f.sigma2) > 0.1
     # The unrestricted optimum really is at the edge with the half-normal likelihood.
-    free = fit_two_piece_normal(SAMPLE_A[None, :], steps=50)
-    assert free.boundary[0]
+    fine_grid = fit_two_piece_normal(SAMPLE_A[None, :], steps=50)
+    assert fine_grid.boundary[0]
     # Half-normal at mode = max(x): logL = n/2 log(2/pi) - n/2 log(S1/n) - n/2 (checks.md 1.3).
     n, s1 = 12, float(np.sum((SAMPLE_A - 1.92) ** 2))
     half_normal = n / 2 * np.log(2 / np.pi) - n / 2 * np.log(s1 / n) - n / 2
