@@ -66,6 +66,7 @@ class Judgement:
     scale: float
     skew: float
     reason: str
+    label: str = "judgement"  # where it was written, e.g. "scenario 3", for error messages
 
 
 @dataclass(frozen=True)
@@ -289,12 +290,7 @@ def _judgements(
     for i, table in enumerate(raw, start=1):
         if not isinstance(table, dict):
             raise InputError("expected a table", file=path, column=f"[{kind} {i}]")
-        reader = _Reader(
-            path,
-            kind,
-            {k: v for k, v in table.items() if k != "name"} if kind == "scenario" else table,
-            label=f"{kind} {i}",
-        )
+        reader = _Reader(path, kind, table, label=f"{kind} {i}")
         start = reader.period("from", frequency)
         end = reader.period("to", frequency)
         if end < start:
@@ -310,6 +306,7 @@ def _judgements(
                 scale=scale,
                 skew=cast(float, reader.number("skew", 0.0)),
                 reason=reader.text("reason"),
+                label=f"{kind} {i}",
             )
         )
     return tuple(entries)

@@ -77,7 +77,7 @@ def apply(
     """
     adjusted = list(dists)
     applied: list[AppliedJudgement] = []
-    for number, judgement in enumerate(judgements, start=1):
+    for judgement in judgements:
         covered = [i for i, o in enumerate(ordinals) if judgement.start <= o <= judgement.end]
         if not covered:
             raise InputError(
@@ -85,7 +85,7 @@ def apply(
                 f"{periods.label(ordinals[0], frequency)} to "
                 f"{periods.label(ordinals[-1], frequency)})",
                 file=config_file,
-                column=f"[judgement {number}] from",
+                column=f"[{judgement.label}] from",
             )
         for i in covered:
             try:
@@ -94,7 +94,7 @@ def apply(
                 raise InputError(
                     f"{exc} (period {periods.label(ordinals[i], frequency)})",
                     file=config_file,
-                    column=f"[judgement {number}] skew",
+                    column=f"[{judgement.label}] skew",
                 ) from None
         applied.append(
             AppliedJudgement(

@@ -201,3 +201,13 @@ def test_a_process_killed_mid_render_leaves_the_folder_as_it_was(
         if process.poll() is None:
             process.kill()
     assert _snapshot(out) == before
+
+
+def test_bad_scenario_is_named_as_a_scenario(case: Case, run: Callable[..., Result]) -> None:
+    case.config += (
+        '\n[[scenario]]\nname = "a"\nfrom = "2025-01"\nto = "2025-01"\nshift = 0.1\nreason = "r"\n'
+        '\n[[scenario]]\nname = "b"\nfrom = "2030-01"\nto = "2030-02"\nshift = 0.1\nreason = "r"\n'
+    )
+    result = run("check", case.write())
+    assert result.code == 2
+    assert "[scenario 2] from" in result.stderr
