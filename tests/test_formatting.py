@@ -40,10 +40,10 @@ def test_percentages_reject_non_probabilities() -> None:
 
 
 def test_tiny_probabilities_are_not_printed_as_zero() -> None:
-    assert fmt.percent_text(0, 0.002) == "<1%"
-    assert fmt.percent_text(100, 0.998) == ">99%"
-    assert fmt.percent_text(0, 0.0) == "<1%"  # never print a certainty
-    assert fmt.percent_text(100, 1.0) == ">99%"
+    assert fmt.percent_text(0) == "<1%"  # never print a certainty
+    assert fmt.percent_text(100) == ">99%"
+    assert fmt.percent_text(37) == "37%"
+    assert fmt.outcome_texts(0.002, 0.5, 0.498) == ("<1%", "50%", "50%")
 
 
 def test_points() -> None:

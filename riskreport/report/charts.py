@@ -20,6 +20,7 @@ from matplotlib.figure import Figure
 from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.assessment import Assessment, HorizonResult
+from riskreport.report.context import summary_horizons
 
 MM = 1 / 25.4  # inches per millimetre: figures are sized to their box in the page CSS
 
@@ -331,9 +332,8 @@ PART_STYLE: dict[str, dict[str, Any]] = {
 def change_parts(assessment: Assessment, width_mm: float = 84, height_mm: float = 30) -> Chart:
     """Change in P(inside) since the previous brief, split into its three parts, by period."""
     change = assessment.change or {"horizons": []}
-    shown = {
-        r.period for r in assessment.horizons if r.h in (0, 3, 6, 12, assessment.policy_horizon, 24)
-    }
+    wanted = set(summary_horizons(assessment))
+    shown = {r.period for r in assessment.horizons if r.h in wanted}
     rows = [r for r in change["horizons"] if r["period"] in shown]
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)

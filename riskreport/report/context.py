@@ -14,6 +14,14 @@ from riskreport.report import formatting as fmt
 
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
 
+
+def summary_horizons(a: Assessment) -> tuple[int, ...]:
+    """The horizons the brief's compact tables show: the standard ones that are reported,
+    and the policy horizon."""
+    last = a.horizons[-1].h
+    return tuple(sorted({h for h in SUMMARY_HORIZONS if h <= last} | {a.policy_horizon}))
+
+
 CAUTIONS: tuple[str, ...] = (
     "These probabilities are model estimates built from the errors of past forecasts; they "
     "are not a measure of certainty.",
@@ -184,7 +192,7 @@ def phrase(a: Assessment, whole: str) -> str:
 
 
 def _row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
-    below, inside, above = fmt.percentages([r.p_below, r.p_inside, r.p_above])
+    below, inside, above = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
     lo, hi = r.p_inside_interval
     return ProbabilityRow(
         period=r.period,
@@ -192,9 +200,9 @@ def _row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
         band=band_label(r.band),
         forecast=fmt.number(r.point_forecast),
         centre=fmt.number(r.centre),
-        below=fmt.percent_text(below, r.p_below),
-        inside=fmt.percent_text(inside, r.p_inside),
-        above=fmt.percent_text(above, r.p_above),
+        below=below,
+        inside=inside,
+        above=above,
         interval=f"{fmt.single_percent(lo)} to {fmt.single_percent(hi)}",
         is_policy=r.h == policy_h,
     )
@@ -394,16 +402,12 @@ def _overlay(a: Assessment) -> tuple[tuple[OverlayEntry, ...], tuple[OverlayRow,
     return entries, tuple(rows), text
 
 
-def _triple(r: HorizonResult) -> list[str]:
-    whole = fmt.percentages([r.p_below, r.p_inside, r.p_above])
-    return [
-        fmt.percent_text(w, p)
-        for w, p in zip(whole, [r.p_below, r.p_inside, r.p_above], strict=True)
-    ]
+def _triple(r: HorizonResult) -> tuple[str, str, str]:
+    return fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
 
 
 def _accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
-    shown = tuple(h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h)
+    shown = summary_horizons(a)
     by_key = {(r.model, r.h): r for r in a.accuracy}
     names = list(dict.fromkeys(r.model for r in a.accuracy))
     lines = []
@@ -492,11 +496,7 @@ def scenario_horizons(a: Assessment) -> tuple[int, int]:
 
 
 def _scenario_cell(row: dict[str, Any], base: HorizonResult) -> str:
-    whole = fmt.percentages([row["p_below"], row["p_inside"], row["p_above"]])
-    texts = [
-        fmt.percent_text(w, p)
-        for w, p in zip(whole, [row["p_below"], row["p_inside"], row["p_above"]], strict=True)
-    ]
+    texts = fmt.outcome_texts(row["p_below"], row["p_inside"], row["p_above"])
     return " / ".join(texts) + f" (inside {fmt.points(row['p_inside'] - base.p_inside)})"
 
 
@@ -525,11 +525,7 @@ def _annual_rows(a: Assessment) -> tuple[AnnualRow, ...]:
     rows = []
     unit = "months" if a.frequency == "monthly" else "quarters"
     for r in a.annual:
-        whole = fmt.percentages([r["p_below"], r["p_inside"], r["p_above"]])
-        texts = [
-            fmt.percent_text(w, p)
-            for w, p in zip(whole, [r["p_below"], r["p_inside"], r["p_above"]], strict=True)
-        ]
+        texts = fmt.outcome_texts(r["p_below"], r["p_inside"], r["p_above"])
         rows.append(
             AnnualRow(
                 year=str(r["year"]),
@@ -693,10 +689,10 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
     """Phrase every number of the assessment for the templates."""
     headline, _ = _headline(a)
     policy_h = a.policy_horizon
-    summary_h = sorted({h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h} | {policy_h})
+    summary_h = summary_horizons(a)
     entries, overlay_rows, overlay_text = _overlay(a)
     acc_h, acc_lines, acc_text = _accuracy(a)
-    shown = tuple(h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h)
+    shown = summary_h
     weight_h, weight_rows, weight_text = _weights(a, shown)
     calibration_lines, coverage_rows = _calibration(a, shown)
     samples = [r.n_errors for r in a.horizons]

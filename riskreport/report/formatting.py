@@ -69,13 +69,12 @@ def percentages(probabilities: list[float]) -> list[int]:
     return floors
 
 
-def percent_text(whole: int, probability: float | None = None) -> str:
+def percent_text(whole: int) -> str:
     """A whole percentage for print; never 0% or 100%.
 
     A probability that rounds to 0 or 100 is printed "<1%" or ">99%": these are model
     estimates, and even a simulated or fitted zero is not a certainty.
     """
-    del probability  # the rounded value decides; kept for the call sites' clarity
     if whole <= 0:
         return "<1%"
     if whole >= 100:
@@ -83,10 +82,22 @@ def percent_text(whole: int, probability: float | None = None) -> str:
     return f"{whole}%"
 
 
+def outcome_texts(p_below: float, p_inside: float, p_above: float) -> tuple[str, str, str]:
+    """Below / inside / above as printed: whole percentages adding to 100, never 0 or 100.
+
+    Examples
+    --------
+    >>> outcome_texts(0.004, 0.7, 0.296)
+    ('<1%', '70%', '30%')
+    """
+    below, inside, above = (percent_text(w) for w in percentages([p_below, p_inside, p_above]))
+    return below, inside, above
+
+
 def single_percent(probability: float) -> str:
     """One probability as a whole percentage (for intervals and path probabilities)."""
     whole = int(round_half_up(100 * probability, 0))
-    return percent_text(whole, probability)
+    return percent_text(whole)
 
 
 def points(value: float) -> str:

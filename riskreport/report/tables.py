@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.context import SUMMARY_HORIZONS
+from riskreport.report.context import summary_horizons
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
@@ -19,7 +19,7 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
 
 def track_record_text(a: Assessment) -> list[str]:
     """RMSE by forecaster and DM p-values against the combination, at the summary horizons."""
-    shown = [h for h in SUMMARY_HORIZONS if h <= a.horizons[-1].h]
+    shown = summary_horizons(a)
     by_key = {(r.model, r.h): r for r in a.accuracy}
     models = list(dict.fromkeys(r.model for r in a.accuracy))
     lines = [
