@@ -290,7 +290,6 @@ def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> dict[str, 
             "chosen": margins.choice.chosen,
             "runner_up": margins.choice.runner_up,
             "total_log_score": margins.choice.total,
-            "scores": [dataclasses.asdict(s) for s in margins.choice.scores],
         }
     return record
 

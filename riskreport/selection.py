@@ -18,23 +18,13 @@ from riskreport.distributions import FAMILIES
 
 
 @dataclass(frozen=True)
-class FamilyScore:
-    """Mean out-of-sample log score of one family at one horizon (higher is better)."""
-
-    distribution: str
-    h: int
-    log_score: float
-    n: int
-
-
-@dataclass(frozen=True)
 class Selection:
-    """The chosen family, the runner-up and every score behind the choice."""
+    """The chosen family, the runner-up and each family's total log score (the per-horizon
+    scores are in the calibration record)."""
 
     chosen: Family
     runner_up: Family | None
     total: dict[str, float]
-    scores: tuple[FamilyScore, ...]
 
 
 def select(runs: dict[tuple[str, int], HorizonReplay]) -> Selection:
@@ -45,11 +35,8 @@ def select(runs: dict[tuple[str, int], HorizonReplay]) -> Selection:
     horizons = sorted({h for _, h in runs})
     common = [h for h in horizons if all((f, h) in runs for f in FAMILIES)]
     total: dict[str, float] = dict.fromkeys(FAMILIES, 0.0)
-    rows = []
     for h in common:
         for family in FAMILIES:
-            score = float(np.mean(runs[(family, h)].log_score))
-            total[family] += score
-            rows.append(FamilyScore(family, h, score, int(runs[(family, h)].log_score.size)))
+            total[family] += float(np.mean(runs[(family, h)].log_score))
     ranked: list[Family] = sorted(FAMILIES, key=lambda f: -total[f])
-    return Selection(ranked[0], ranked[1], total, tuple(rows))
+    return Selection(ranked[0], ranked[1], total)
