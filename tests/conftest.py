@@ -126,3 +126,39 @@ def demo_build(tmp_path_factory: pytest.TempPathFactory) -> Path:
     code = cli.main(["build", str(inputs / "config.toml"), "--out", str(folder / "out"), "-q"])
     assert code == 0
     return folder
+
+
+def constant_forecast_world(
+    folder: Path,
+    errors: np.ndarray,
+    *,
+    horizons: int = 1,
+    distribution: str = "normal",
+    band: tuple[float, float] = (1.0, 3.0),
+    window: int = 0,
+    policy_horizon: int = 0,
+) -> Path:
+    """A monthly world where every forecast is 2.0 and the outcome of period t is
+    2.0 + errors[t]; the last len(errors) - 1 origins have a known outcome for h = 0 and the
+    current round (origin len(errors) - 1) has none. Returns the config path."""
+    n = errors.size
+    forecasts = ["origin,period,value"] + [
+        f"{_label(24000 + o)},{_label(24000 + o + h)},2.0"
+        for o in range(n)
+        for h in range(horizons + 1)
+    ]
+    actuals = ["period,value"] + [
+        f"{_label(24000 + i)},{2.0 + e:.6f}" for i, e in enumerate(errors[:-1])
+    ]
+    (folder / "f.csv").write_text("\n".join(forecasts) + "\n")
+    (folder / "a.csv").write_text("\n".join(actuals) + "\n")
+    config = folder / "c.toml"
+    config.write_text(
+        f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{_label(24000 + n - 1)}"\n'
+        f"horizons = {horizons}\npolicy_horizon = {policy_horizon}\n"
+        '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n'
+        f"[target]\nlower = {band[0]}\nupper = {band[1]}\n"
+        f'[uncertainty]\ndistribution = "{distribution}"\nwindow = {window}\n'
+        "bootstrap_replicates = 100\nsimulations = 1000\n"
+    )
+    return config

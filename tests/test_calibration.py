@@ -14,30 +14,13 @@ import pytest
 from scipy import stats
 
 import riskreport
+from tests.conftest import constant_forecast_world
 
 
-def _label(i: int) -> str:
-    return f"{2000 + i // 12:04d}-{i % 12 + 1:02d}"
-
-
-def _world(tmp_path: Path, errors: np.ndarray, horizons: int = 2) -> dict:
+def _world(tmp_path: Path, errors: np.ndarray) -> dict:
     """Forecast 2.0 for every period; outcome 2.0 + error; iid errors at every horizon."""
-    n = errors.size
-    forecasts = ["origin,period,value"]
-    for origin in range(n - horizons):
-        forecasts += [f"{_label(origin)},{_label(origin + h)},2.0" for h in range(horizons + 1)]
-    actuals = ["period,value"] + [
-        f"{_label(i)},{2.0 + e:.6f}" for i, e in enumerate(errors[: n - horizons - 1])
-    ]
-    (tmp_path / "f.csv").write_text("\n".join(forecasts) + "\n")
-    (tmp_path / "a.csv").write_text("\n".join(actuals) + "\n")
-    (tmp_path / "c.toml").write_text(
-        f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{_label(n - horizons - 1)}"\n'
-        f"horizons = {horizons}\npolicy_horizon = 1\n"
-        '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n[target]\nlower = 1.0\nupper = 3.0\n'
-        '[uncertainty]\ndistribution = "normal"\nwindow = 120\nbootstrap_replicates = 50\nsimulations = 1000\n'
-    )
-    return riskreport.assess(tmp_path / "c.toml").calibration
+    config = constant_forecast_world(tmp_path, errors, horizons=2, policy_horizon=1, window=120)
+    return riskreport.assess(config).calibration
 
 
 def test_correctly_specified_world_is_calibrated(tmp_path: Path) -> None:

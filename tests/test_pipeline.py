@@ -13,7 +13,7 @@ from scipy import stats
 
 import riskreport
 from riskreport import combination
-from tests.conftest import Case, Result
+from tests.conftest import Case, Result, constant_forecast_world
 
 
 def _json(case: Case, **kwargs: str) -> dict:
@@ -133,28 +133,10 @@ def test_equal_weights_api() -> None:
 def test_estimated_probabilities_match_a_known_law(tmp_path: Path) -> None:
     """Simulation: errors drawn from N(0.2, 0.6) at every horizon; with 300 past errors the
     estimated band probabilities land within sampling error of the true ones (scipy)."""
-    rng = np.random.default_rng(2024)
-    rows = [["origin", "period", "value"]]
-    actual = [["period", "value"]]
     n = 300
-
-    def label(i: int) -> str:
-        return f"{2000 + i // 12:04d}-{i % 12 + 1:02d}"
-
-    for origin in range(n + 2):
-        actual.append([label(origin), f"{2.0 + rng.normal(0.2, 0.6):.6f}"])  # 2.0 + error
-        rows.append([label(origin), label(origin), "2.0"])
-        rows.append([label(origin), label(origin + 1), "2.0"])
-    actual = actual[:-1]  # the current round's outcome is not known
-    for name, table in (("f.csv", rows), ("a.csv", actual)):
-        (tmp_path / name).write_text("\n".join(",".join(r) for r in table) + "\n")
-    last = label(n + 1)
-    (tmp_path / "c.toml").write_text(
-        f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{last}"\nhorizons = 1\n'
-        'policy_horizon = 0\n[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n'
-        "[target]\nlower = 1.5\nupper = 3.0\n[uncertainty]\nwindow = 0\n"
-    )
-    result = riskreport.assess(tmp_path / "c.toml").horizons[0]
+    errors = np.random.default_rng(2024).normal(0.2, 0.6, n + 1)
+    config = constant_forecast_world(tmp_path, errors, band=(1.5, 3.0))
+    result = riskreport.assess(config).horizons[0]
     truth = stats.norm(2.2, 0.6)
     p_inside = truth.cdf(3.0) - truth.cdf(1.5)
     se = np.sqrt(p_inside * (1 - p_inside) / n)  # a generous yardstick for the fitted value

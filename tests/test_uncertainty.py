@@ -15,7 +15,7 @@ from riskreport.annual import annual
 from riskreport.config import Band
 from riskreport.distributions import FAMILIES, NormalFit, fit_batch
 from riskreport.periods import parse
-from tests.conftest import Case, Result
+from tests.conftest import Case, Result, constant_forecast_world
 
 
 def test_auto_prefers_a_skewed_family_for_skewed_errors(rng: np.random.Generator) -> None:
@@ -154,23 +154,10 @@ def test_two_piece_errors_from_a_known_law(tmp_path: Path) -> None:
     rng = np.random.default_rng(99)
     truth = Tilted(NormalFit(loc=0.2, scale=0.65, loglik=0.0, nobs=1), (0.9 - 0.4) / 1.3)
     n = 400
-    e = truth.rvs(n + 2, rng)
-
-    def label(i: int) -> str:
-        return f"{2000 + i // 12:04d}-{i % 12 + 1:02d}"
-
-    forecasts = ["origin,period,value"] + [
-        f"{label(o)},{label(o + h)},2.0" for o in range(n + 1) for h in (0, 1)
-    ]
-    actuals = ["period,value"] + [f"{label(i)},{2.0 + e[i]:.6f}" for i in range(n)]
-    (tmp_path / "f.csv").write_text("\n".join(forecasts) + "\n")
-    (tmp_path / "a.csv").write_text("\n".join(actuals) + "\n")
-    (tmp_path / "c.toml").write_text(
-        f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{label(n)}"\nhorizons = 1\npolicy_horizon = 0\n'
-        '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n[target]\nlower = 1.8\nupper = 3.0\n'
-        '[uncertainty]\ndistribution = "two-piece-normal"\nwindow = 0\nbootstrap_replicates = 100\nsimulations = 1000\n'
+    config = constant_forecast_world(
+        tmp_path, truth.rvs(n + 1, rng), distribution="two-piece-normal", band=(1.8, 3.0)
     )
-    result = riskreport.assess(tmp_path / "c.toml").horizons[0]
+    result = riskreport.assess(config).horizons[0]
     p_true = float(truth.cdf(1.0) - truth.cdf(-0.2))  # band [1.8, 3.0] minus the forecast 2.0
     se = np.sqrt(p_true * (1 - p_true) / n)
     assert result.p_inside == pytest.approx(p_true, abs=3 * se)
