@@ -94,52 +94,80 @@ def _climatology(
     return out
 
 
-def replay_horizon(
-    family: Family,
+@dataclass(frozen=True)
+class HorizonData:
+    """What every family's replay at one horizon shares: evaluation origins, training
+    samples, test errors, band edges relative to the forecast, outcome categories and the
+    climatological benchmark. Built once per horizon, not once per family."""
+
+    h: int
+    tests: np.ndarray
+    train: np.ndarray
+    test: np.ndarray
+    lower: np.ndarray  # band edges minus the point forecast
+    upper: np.ndarray
+    category: np.ndarray
+    climatology: np.ndarray
+
+
+def horizon_data(
     panel: Panel,
     combined: np.ndarray,
     errors: np.ndarray,
     h: int,
     *,
     window: int,
-    mode: float | None,
     band_for: Callable[[int], Band],
-) -> HorizonReplay | None:
-    """Replay one family at one horizon; None when no origin has enough history."""
+) -> HorizonData | None:
+    """The shared inputs of the replay at horizon h; None when no origin has enough history."""
     tests, train, test = training(errors, h, window)
     if tests.size == 0:
         return None
     bands = [band_for(int(panel.origins[j]) + h) for j in tests]
     point = combined[tests, h]
-    edges_low = np.array([b.lower for b in bands])
-    edges_high = np.array([b.upper for b in bands])
+    low = np.array([b.lower for b in bands])
+    high = np.array([b.upper for b in bands])
+    # Classify the recorded outcome itself (point + error can miss an edge by rounding).
+    outcome = panel.outcomes[tests, h]
+    category = np.where(outcome < low, 0, np.where(outcome > high, 2, 1))
+    return HorizonData(
+        h,
+        tests,
+        train,
+        test,
+        low - point,
+        high - point,
+        category,
+        _climatology(panel, tests, h, band_for),
+    )
+
+
+def replay_horizon(family: Family, data: HorizonData, *, mode: float | None) -> HorizonReplay:
+    """Replay one family at one horizon."""
     parts: list[tuple[np.ndarray, ...]] = []
     # Fixed-size chunks of origins keep the batched arrays in cache: cost stays linear.
-    for start in range(0, tests.size, CHUNK):
+    for start in range(0, data.tests.size, CHUNK):
         rows = slice(start, start + CHUNK)
-        fitted: Any = fit_batch(family, train[rows], mode=mode)
-        f_lower = np.asarray(fitted.cdf(edges_low[rows] - point[rows]))
-        f_upper = np.asarray(fitted.cdf(edges_high[rows] - point[rows]))
+        fitted: Any = fit_batch(family, data.train[rows], mode=mode)
+        f_lower = np.asarray(fitted.cdf(data.lower[rows]))
+        f_upper = np.asarray(fitted.cdf(data.upper[rows]))
         parts.append(
             (
                 np.column_stack([f_lower, f_upper - f_lower, 1 - f_upper]),
-                np.asarray(fitted.cdf(test[rows])),
-                np.asarray(fitted.logpdf(test[rows])),
-                np.asarray(scores.crps(fitted, test[rows])),
+                np.asarray(fitted.cdf(data.test[rows])),
+                np.asarray(fitted.logpdf(data.test[rows])),
+                np.asarray(scores.crps(fitted, data.test[rows])),
             )
         )
     probabilities, pit, logs, crps = (np.concatenate(p) for p in zip(*parts, strict=True))
-    # Classify the recorded outcome itself (point + error can miss an edge by rounding).
-    outcome = panel.outcomes[tests, h]
-    category = np.where(outcome < edges_low, 0, np.where(outcome > edges_high, 2, 1))
     return HorizonReplay(
         family=family,
-        h=h,
-        origins=tests,
+        h=data.h,
+        origins=data.tests,
         pit=np.clip(pit, 0.0, 1.0),
         probabilities=probabilities,
-        category=category,
-        climatology=_climatology(panel, tests, h, band_for),
+        category=data.category,
+        climatology=data.climatology,
         log_score=np.where(np.isfinite(logs), logs, -50.0),  # an outcome the fit rules out
         crps=crps,
     )
@@ -158,13 +186,12 @@ def replay(
 ) -> dict[tuple[str, int], HorizonReplay]:
     """Replay every family at every horizon."""
     out: dict[tuple[str, int], HorizonReplay] = {}
-    for family in families:
-        for h in range(horizons + 1):
-            result = replay_horizon(
-                family, panel, combined, errors, h, window=window, mode=mode, band_for=band_for
-            )
-            if result is not None:
-                out[(family, h)] = result
+    for h in range(horizons + 1):
+        data = horizon_data(panel, combined, errors, h, window=window, band_for=band_for)
+        if data is None:
+            continue
+        for family in families:
+            out[(family, h)] = replay_horizon(family, data, mode=mode)
     return out
 
 
