@@ -31,9 +31,43 @@ class HorizonResult:
     p_inside_interval: tuple[float, float]
     quantiles: dict[str, float]
     distribution: str
-    n_errors: int
+    n_errors: int | None  # None where the error distribution is given (error_quantiles)
     spread: float
     percentiles: tuple[float, ...]
+
+
+@dataclass(frozen=True)
+class BasisResult:
+    """Band probabilities on the measure the target is defined on (``[target] basis``).
+
+    Attributes
+    ----------
+    basis
+        ``period``, ``calendar-year-average`` or ``year-end``.
+    label
+        What the probabilities are of, as printed: ``2028-Q2``, ``2028 average`` or
+        ``2028 year end``.
+    period
+        The period whose band applies (for a year: its last period).
+    year
+        The calendar year (None on the ``period`` basis).
+    p_inside_interval
+        The 90% bootstrap interval of P(inside), where one is computed (per period only).
+    observed_periods, simulated_periods
+        Periods of the year entering as known outcomes and as simulated values.
+    """
+
+    basis: str
+    label: str
+    period: str
+    year: int | None
+    band: tuple[float, float]
+    p_below: float
+    p_inside: float
+    p_above: float
+    p_inside_interval: tuple[float, float] | None
+    observed_periods: int
+    simulated_periods: int
 
 
 @dataclass(frozen=True)
@@ -95,6 +129,8 @@ class Assessment:
     institution: str
     target: dict[str, Any]
     policy_horizon: int
+    headline: BasisResult
+    basis_results: tuple[BasisResult, ...]
     horizons: tuple[HorizonResult, ...]
     model_based_horizons: tuple[HorizonResult, ...]
     judgement: tuple[AppliedJudgement, ...]

@@ -113,12 +113,15 @@ def _sha256(path: Path) -> str:
 
 def _headline(assessment: Any) -> dict[str, Any]:
     r = assessment.policy
+    head = assessment.headline  # the measure of [target] basis (the period, or a year)
     return {
         "period": r.period,
         "h": r.h,
-        "p_below": r.p_below,
-        "p_inside": r.p_inside,
-        "p_above": r.p_above,
+        "basis": head.basis,
+        "label": head.label,
+        "p_below": head.p_below,
+        "p_inside": head.p_inside,
+        "p_above": head.p_above,
     }
 
 
@@ -176,7 +179,7 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
     from riskreport import assess
 
     assessment = assess(config, as_of=as_of)
-    n = [r.n_errors for r in assessment.horizons]
+    n = [r.n_errors for r in assessment.horizons if r.n_errors is not None] or [0]
     current = [m.model for m in assessment.models if m.in_current_round]
     left = [m.model for m in assessment.models if not m.in_current_round]
     lines = [

@@ -76,3 +76,11 @@ class ModelLeftOutWarning(RiskReportWarning):
 
 class BoundaryFitWarning(RiskReportWarning):
     """A fit's likelihood peaked at the edge of its parameter space, or a fit failed."""
+
+
+class LaterOutcomeWarning(RiskReportWarning):
+    """The actuals hold outcomes for as_of or later; they are not used in the round."""
+
+
+class HeadlineBasisWarning(RiskReportWarning):
+    """The headline cannot speak of the policy-horizon year on the configured basis."""

@@ -1,7 +1,10 @@
 """The forecasts and outcomes as dense arrays over (model, origin, horizon).
 
 Only what was knowable at ``as_of`` enters: forecast rows with origin <= as_of and
-outcomes with period <= as_of (so ``--as-of`` in the past sees no later data).
+outcomes with period < as_of (so ``--as-of`` in the past sees no later data). The round made
+at ``as_of`` uses data up to as_of - 1, so an outcome for as_of itself (a flash estimate, or a
+re-run of a past month) is not in its information set: it is ignored everywhere (scores,
+weights, error distributions, observed periods of a year, the history shown).
 """
 
 from __future__ import annotations
@@ -26,14 +29,14 @@ class Panel:
     forecasts
         models x origins x (max_h + 1), NaN where a model gave no forecast.
     outcomes
-        origins x (max_h + 1): the outcome of period origin + h, NaN where not known at
-        ``as_of`` and for the current round itself.
+        origins x (max_h + 1): the outcome of period origin + h, NaN where not known
+        before ``as_of`` and for the current round itself.
     last_outcome
         origins: the outcome of the period before each origin (the no-change forecast),
         NaN where unknown.
     series, series_start
-        The outcome series known at ``as_of`` (NaN where missing) and the ordinal of its
-        first entry.
+        The outcome series known in the round (periods before ``as_of``; NaN where missing)
+        and the ordinal of its first entry.
     """
 
     models: tuple[str, ...]
@@ -64,14 +67,14 @@ def build(forecasts: Forecasts, actuals: Actuals, *, as_of: int, max_h: int) -> 
     cube = np.full((len(forecasts.models), origins.size, max_h + 1), np.nan)
     cube[forecasts.model[keep], forecasts.origin[keep] - first, h[keep]] = forecasts.value[keep]
 
-    known = actuals.period <= as_of
+    known = actuals.period < as_of
     span_start = int(min(first - 1, actuals.period.min()))
     series = np.full(as_of - span_start + max_h + 2, np.nan)
     series[actuals.period[known] - span_start] = actuals.value[known]
     target = origins[:, None] + np.arange(max_h + 1)[None, :] - span_start
     outcomes = series[target]
-    # The current round is what the brief assesses: it is never scored, even when an
-    # outcome for as_of (a flash estimate, or a re-run of a past month) is in the file.
+    # The current round is what the brief assesses: it is never scored (its outcomes are
+    # for periods >= as_of, which are not known).
     outcomes[-1, :] = np.nan
     last_outcome = series[origins - 1 - span_start]
     return Panel(

@@ -1,5 +1,8 @@
 """Periods written ``YYYY-MM`` (monthly) or ``YYYY-Qn`` (quarterly), as pandas Periods.
 
+Quarters are also accepted without the dash (``YYYYQn``, as pandas and many statistical
+offices write them); outputs always write the canonical ``YYYY-Qn``.
+
 Internally a period is its pandas ordinal (an integer), so horizons are differences of
 integers and whole arrays of periods are handled at once.
 """
@@ -14,7 +17,7 @@ import pandas as pd
 from riskreport._typing import Frequency
 
 _MONTHLY = re.compile(r"^(\d{4})-(0[1-9]|1[0-2])$")
-_QUARTERLY = re.compile(r"^(\d{4})-[Qq]([1-4])$")
+_QUARTERLY = re.compile(r"^(\d{4})-?[Qq]([1-4])$")
 _PANDAS_FREQ: dict[Frequency, str] = {"monthly": "M", "quarterly": "Q"}
 PERIODS_PER_YEAR: dict[Frequency, int] = {"monthly": 12, "quarterly": 4}
 EXAMPLE: dict[Frequency, str] = {"monthly": "2026-11", "quarterly": "2026-Q4"}
@@ -29,7 +32,7 @@ class ParsedPeriod:
 
 
 def parse(text: str) -> ParsedPeriod | None:
-    """Parse ``YYYY-MM`` or ``YYYY-Qn``; None when the text is neither.
+    """Parse ``YYYY-MM``, ``YYYY-Qn`` or ``YYYYQn``; None when the text is none of these.
 
     Examples
     --------
@@ -37,6 +40,10 @@ def parse(text: str) -> ParsedPeriod | None:
     'monthly'
     >>> label(parse("2026-Q3").ordinal, "quarterly")
     '2026-Q3'
+    >>> label(parse("2026Q3").ordinal, "quarterly")
+    '2026-Q3'
+    >>> parse("2026 Q3") is None
+    True
     """
     text = text.strip()
     if m := _MONTHLY.match(text):
@@ -72,7 +79,7 @@ def position_in_year(ordinal: int, frequency: Frequency) -> int:
     return int(period.month if frequency == "monthly" else period.quarter)
 
 
-_ANY = re.compile(r"^\s*(\d{4})-(?:(0[1-9]|1[0-2])|[Qq]([1-4]))\s*$")
+_ANY = re.compile(r"^\s*(\d{4})(?:-(0[1-9]|1[0-2])|-?[Qq]([1-4]))\s*$")
 
 
 def parse_column(texts: pd.Series) -> tuple[pd.Series, pd.Series]:

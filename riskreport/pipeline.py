@@ -25,6 +25,7 @@ from riskreport import panel as panel_module
 from riskreport._typing import Family
 from riskreport.assessment import (
     Assessment,
+    BasisResult,
     HorizonResult,
     InputRecord,
     ModelStatus,
@@ -36,7 +37,9 @@ from riskreport.config import Config
 from riskreport.distributions import Distribution
 from riskreport.errors import (
     CombinationFallbackWarning,
+    HeadlineBasisWarning,
     InputError,
+    LaterOutcomeWarning,
     ModelLeftOutWarning,
     RiskReportWarning,
 )
@@ -186,7 +189,7 @@ def _horizon_results(
                     for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
                 },
                 distribution=family,
-                n_errors=margins.own[h],
+                n_errors=None if family == "given-quantiles" else margins.own[h],
                 spread=float(np.std(dist.ppf(probabilities.SPREAD_GRID))),
                 percentiles=tuple(
                     float(v) for v in dist.ppf(np.array(change_module.PERCENTILES) / 100)
@@ -236,9 +239,123 @@ def _path(cfg: Config, draws: np.ndarray, ordinals: list[int]) -> tuple[PathResu
     )
 
 
+BASIS_WORDS = {"calendar-year-average": "average", "year-end": "year end"}
+
+
+def _basis_results(
+    cfg: Config, yearly: tuple[annual_module.AnnualResult, ...]
+) -> tuple[BasisResult, ...]:
+    """The calendar years in view on the configured basis (empty on the ``period`` basis)."""
+    if cfg.basis == "period":
+        return ()
+    per_year = periods.PERIODS_PER_YEAR[cfg.frequency]
+    rows = []
+    for r in yearly:
+        if r.basis != cfg.basis:
+            continue
+        last = _year_start(r.year, cfg) + per_year - 1
+        rows.append(
+            BasisResult(
+                basis=r.basis,
+                label=f"{r.year} {BASIS_WORDS[r.basis]}",
+                period=periods.label(last, cfg.frequency),
+                year=r.year,
+                band=r.band,
+                p_below=r.p_below,
+                p_inside=r.p_inside,
+                p_above=r.p_above,
+                p_inside_interval=None,
+                observed_periods=r.observed_periods,
+                simulated_periods=r.simulated_periods,
+            )
+        )
+    return tuple(rows)
+
+
+def _year_start(year: int, cfg: Config) -> int:
+    start = periods.parse(f"{year}-01" if cfg.frequency == "monthly" else f"{year}-Q1")
+    assert start is not None
+    return start.ordinal
+
+
+def _period_headline(row: HorizonResult) -> BasisResult:
+    return BasisResult(
+        basis="period",
+        label=row.period,
+        period=row.period,
+        year=None,
+        band=row.band,
+        p_below=row.p_below,
+        p_inside=row.p_inside,
+        p_above=row.p_above,
+        p_inside_interval=row.p_inside_interval,
+        observed_periods=0,
+        simulated_periods=1,
+    )
+
+
+def _headline(cfg: Config, policy: HorizonResult, years: tuple[BasisResult, ...]) -> BasisResult:
+    """The measure the headline speaks of: the policy-horizon period on the ``period`` basis,
+    else the calendar year of the policy horizon on the configured basis.
+
+    When that year is not wholly observed or reported, the latest earlier year that is
+    stands in, with a warning; with no such year, the policy-horizon period does.
+    """
+    if cfg.basis == "period":
+        return _period_headline(policy)
+    year = periods.year_of(cfg.as_of + cfg.policy_horizon, cfg.frequency)
+    for row in years:
+        if row.year == year:
+            return row
+    earlier = [row for row in years if row.year is not None and row.year < year]
+    word = BASIS_WORDS[cfg.basis]
+    if earlier:
+        chosen = earlier[-1]
+        warnings.warn(
+            f"The target is on a calendar-year basis ({cfg.basis}), but the reported horizons "
+            f"do not reach the end of {year}, the year of the policy horizon; the headline "
+            f"speaks of the {chosen.year} {word} instead.",
+            HeadlineBasisWarning,
+            stacklevel=3,
+        )
+        return chosen
+    warnings.warn(
+        f"The target is on a calendar-year basis ({cfg.basis}), but no calendar year is wholly "
+        "observed or reported; the headline speaks of the policy-horizon period instead.",
+        HeadlineBasisWarning,
+        stacklevel=3,
+    )
+    return _period_headline(policy)
+
+
+def _warn_later_outcomes(act: Actuals, cfg: Config) -> None:
+    """Warn when the actuals hold outcomes the round could not know (periods >= as_of).
+
+    The forecast made at origin o uses data up to o - 1 (DEVELOPERS.md, no look-ahead), so
+    the outcome for as_of and later ones are ignored everywhere: past rounds are not scored
+    on them, the error distributions and weights do not use them, and a calendar year does
+    not count them as observed.
+    """
+    later = act.period[act.period >= cfg.as_of]
+    if later.size == 0:
+        return
+    f = cfg.frequency
+    span = periods.label(int(later.min()), f)
+    if later.size > 1:
+        span += f" to {periods.label(int(later.max()), f)}"
+    warnings.warn(
+        f"The actuals hold {later.size} outcome(s) for {span}, not before the current round "
+        f"({periods.label(cfg.as_of, f)}); the round uses outcomes up to "
+        f"{periods.label(cfg.as_of - 1, f)} only, so these are ignored in this brief "
+        "(not scored, not counted as observed).",
+        LaterOutcomeWarning,
+        stacklevel=3,
+    )
+
+
 def _history(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
     start = cfg.as_of - HISTORY_YEARS * periods.PERIODS_PER_YEAR[cfg.frequency]
-    keep = (act.period >= start) & (act.period <= cfg.as_of)
+    keep = (act.period >= start) & (act.period < cfg.as_of)
     return tuple(
         Observation(periods.label(int(p), cfg.frequency), float(v))
         for p, v in zip(act.period[keep], act.value[keep], strict=True)
@@ -323,6 +440,7 @@ def _assess(cfg: Config) -> Assessment:
     fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
     act = read_actuals(cfg.actuals, cfg.frequency)
     given = read_error_quantiles(cfg.error_quantiles) if cfg.error_quantiles else None
+    _warn_later_outcomes(act, cfg)
     panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
     status = _model_status(fc, cfg)
     for row in status:
@@ -379,8 +497,10 @@ def _assess(cfg: Config) -> Assessment:
     model_based = _horizon_results(cfg, margins, list(margins.outcome), ordinals)
     adjusted = _horizon_results(cfg, margins, final, ordinals) if cfg.judgements else model_based
     draws = _simulate(cfg, errors, final)
-    known = {int(p): float(v) for p, v in zip(act.period, act.value, strict=True) if p <= cfg.as_of}
+    known = {int(p): float(v) for p, v in zip(act.period, act.value, strict=True) if p < cfg.as_of}
     yearly = annual_module.annual(draws, ordinals, known, cfg.frequency, cfg.band_for)
+    basis_rows = _basis_results(cfg, yearly)
+    headline = _headline(cfg, adjusted[cfg.policy_horizon], basis_rows)
     record = evaluate(panel, combo, cfg.window, cfg.horizons)
     weights = [
         WeightRow(h, name, float(combo.current_weights[k, h]))
@@ -395,6 +515,8 @@ def _assess(cfg: Config) -> Assessment:
         institution=cfg.institution,
         target=_target(cfg),
         policy_horizon=cfg.policy_horizon,
+        headline=headline,
+        basis_results=basis_rows,
         horizons=adjusted,
         model_based_horizons=model_based,
         judgement=tuple(applied),

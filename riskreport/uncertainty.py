@@ -2,8 +2,9 @@
 
 Errors over the last ``window`` origins with a known outcome; thin horizons borrow the shape
 of their neighbours' errors (scaled to their own spread); the family is given or chosen by
-out-of-sample log score; the spread may not shrink as the horizon lengthens; a given
-``error_quantiles`` distribution replaces the learned one where it has the horizon.
+out-of-sample log score; the spread of the learned horizons may not shrink as the horizon
+lengthens; a given ``error_quantiles`` distribution replaces the learned one where it has the
+horizon and is used exactly as given.
 """
 
 from __future__ import annotations
@@ -33,7 +34,8 @@ class Margins:
     samples
         Per horizon, the errors the fit rests on (after any borrowing).
     own
-        Per horizon, how many of them are the horizon's own.
+        Per horizon, how many of them are the horizon's own (0 where the distribution is
+        given).
     families
         Per horizon, the family used (``given-quantiles`` for a given distribution).
     sources
@@ -91,14 +93,23 @@ def _fit(family: Family, sample: np.ndarray, mode: float | None, h: int) -> Dist
         return distributions.fit("normal", sample, mode=mode)
 
 
-def _monotone(fits: list[Distribution]) -> list[Distribution]:
-    """Widen any horizon whose spread is below a shorter horizon's (the running maximum)."""
-    spreads = np.array([distributions.spread(f) for f in fits])
+def _monotone(fits: list[Distribution], given: set[int]) -> list[Distribution]:
+    """Widen any learned horizon whose spread is below a shorter learned horizon's (the
+    running maximum over learned horizons).
+
+    A given distribution (``error_quantiles``) is used exactly as given: it is never widened
+    and does not set the floor of the learned horizons after it.
+    """
+    learned = [h for h in range(len(fits)) if h not in given]
+    if not learned:
+        return list(fits)
+    spreads = np.array([distributions.spread(fits[h]) for h in learned])
     floor = np.maximum.accumulate(spreads)
-    return [
-        f if s >= target else distributions.Adjusted(f, scale=float(target / s))
-        for f, s, target in zip(fits, spreads, floor, strict=True)
-    ]
+    out = list(fits)
+    for h, s, target in zip(learned, spreads, floor, strict=True):
+        if s < target:
+            out[h] = distributions.Adjusted(fits[h], scale=float(target / s))
+    return out
 
 
 def build(
@@ -143,7 +154,7 @@ def build(
             levels, values = given_h[h]
             fits.append(distributions.GivenQuantiles(levels, values))
             samples.append(columns[h])
-            own.append(int(columns[h].size))
+            own.append(0)  # the given distribution rests on no past errors of the track record
             families.append("given-quantiles")
             sources.append("given error quantiles")
             continue
@@ -186,11 +197,13 @@ def build(
             stacklevel=2,
         )
     if cfg.monotone:
-        fits = _monotone(fits)
-    if given_h:
+        fits = _monotone(fits, set(given_h) & set(range(cfg.horizons + 1)))
+    shown_given = sorted(h for h in given_h if h <= cfg.horizons)
+    if shown_given:
         warnings.warn(
             "The error distribution is given (error_quantiles) for horizons "
-            f"{periods.ranges(sorted(given_h))}; it has no sampling interval there.",
+            f"{periods.ranges(shown_given)}; it is used exactly as given there (not "
+            "widened by the monotone-spread rule, no past errors, no sampling interval).",
             SmallSampleWarning,
             stacklevel=2,
         )

@@ -184,3 +184,19 @@ def test_weights_use_no_future_outcome(tmp_path: Path) -> None:
         b = combination.combine(method, perturbed)
         assert np.allclose(a.combined[: cut + 1], b.combined[: cut + 1], equal_nan=True), method
         assert not np.allclose(a.combined[cut + 24 :], b.combined[cut + 24 :], equal_nan=True)
+
+
+def test_outcome_for_as_of_is_ignored_everywhere_with_a_warning(case: Case) -> None:
+    # Regression: an outcome for the as_of period scored past rounds (and entered their
+    # error distributions) but was not counted as observed in the current round. Rule
+    # (README, Inputs; DEVELOPERS.md, no look-ahead): the round made at as_of uses data up to
+    # as_of - 1, so an outcome for as_of or later is ignored everywhere, with a warning.
+    before = _json(case)
+    case.actuals.append(["2024-12", "9.000"])  # far outside anything seen
+    after = _json(case)
+    for key in ("horizons", "model_based_horizons", "path", "accuracy", "combination", "tests"):
+        assert after[key] == before[key], key
+    assert after["annual"] == before["annual"]
+    assert all(o["period"] != "2024-12" for o in after["history"])
+    assert not any("2024-12" in w for w in before["warnings"])
+    assert any("outcome(s) for 2024-12" in w and "ignored" in w for w in after["warnings"])

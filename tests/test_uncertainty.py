@@ -162,3 +162,34 @@ def test_two_piece_errors_from_a_known_law(tmp_path: Path) -> None:
     se = np.sqrt(p_true * (1 - p_true) / n)
     assert result.p_inside == pytest.approx(p_true, abs=3 * se)
     assert result.p_below == pytest.approx(float(truth.cdf(-0.2)), abs=3 * se)
+
+
+def test_given_error_quantiles_are_used_exactly_as_given(case: Case) -> None:
+    # Regression: the monotone-spread rule widened a given range (a given h = 6 range of
+    # -3.8 to +1.0 came out as -5.3 to +1.7) and n_errors was printed for it. A given
+    # distribution is used as given: its quantiles must reproduce the file. Here h = 2 is
+    # given narrower than the learned h = 1, which the old rule would have widened.
+    levels = (0.05, 0.1, 0.25, 0.5, 0.75, 0.9, 0.95)
+    values = (-0.38, -0.3, -0.17, -0.08, 0.0, 0.07, 0.1)  # the shape, a tenth as wide
+    rows = ["horizon,quantile,value"] + [f"2,{q},{v}" for q, v in zip(levels, values, strict=True)]
+    (case.folder / "eq.csv").write_text("\n".join(rows) + "\n")
+    case.config = case.config.replace(
+        'actuals = "actuals.csv"', 'actuals = "actuals.csv"\nerror_quantiles = "eq.csv"'
+    )
+    a = riskreport.assess(case.write())
+    r = a.horizons[2]
+    assert r.distribution == "given-quantiles"
+    got = [r.quantiles[f"{q:g}"] - r.point_forecast for q in levels]
+    assert got == pytest.approx(values, abs=1e-9)
+    assert r.n_errors is None
+    assert [x.n_errors is None for x in a.horizons] == [False, False, True, False]
+    # The learned horizons still obey the rule among themselves (h = 3 no narrower than h = 1).
+    width = {h: a.horizons[h].quantiles["0.95"] - a.horizons[h].quantiles["0.05"] for h in (1, 3)}
+    assert width[3] >= width[1] - 1e-9
+    assert any("given (error_quantiles) for horizons 2" in w and "exactly" in w for w in a.warnings)
+    from riskreport.report import context
+
+    c = context.build(a, {}, "run")
+    facts = {k.label: k.value for k in c.method + c.samples}
+    assert facts["Given error distribution"].startswith("h = 2")
+    assert "given at h = 2" in facts["Past errors per horizon"]

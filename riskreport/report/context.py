@@ -5,10 +5,11 @@ The templates only loop over these values and print them.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from typing import Any
 
-from riskreport import verbal
+from riskreport import periods, verbal
 from riskreport.assessment import Assessment, HorizonResult
 from riskreport.report import formatting as fmt
 
@@ -132,6 +133,9 @@ class BriefContext:
     run_id: str
     headline: str
     messages: tuple[str, ...]
+    summary_title: str
+    basis_caption: str
+    basis_rows: tuple[AnnualRow, ...]
     summary_rows: tuple[ProbabilityRow, ...]
     all_rows: tuple[ProbabilityRow, ...]
     path_rows: tuple[tuple[str, str, str], ...]
@@ -211,6 +215,9 @@ def _row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
 def _headline(a: Assessment) -> tuple[str, ProbabilityRow]:
     r = a.policy
     row = _row(r, a.policy_horizon)
+    head = a.headline
+    if head.basis != "period":
+        return _basis_headline(a), row
     unit = "month" if a.frequency == "monthly" else "quarter"
     ahead = f"{r.h} {unit}{'s' if r.h != 1 else ''} ahead"
     text = (
@@ -219,6 +226,28 @@ def _headline(a: Assessment) -> tuple[str, ProbabilityRow]:
         f"the chance that it is above the band is {row.above} and below it {row.below}."
     )
     return text, row
+
+
+def _basis_headline(a: Assessment) -> str:
+    """The headline when the target is defined on a calendar-year basis."""
+    head = a.headline
+    below, inside, above = fmt.outcome_texts(head.p_below, head.p_inside, head.p_above)
+    policy_year = a.policy.period[:4]
+    which = (
+        f"the calendar year of the policy horizon ({a.policy.period})"
+        if str(head.year) == policy_year
+        else "the last calendar year in view"
+    )
+    if head.basis == "calendar-year-average":
+        subject = f"Averaged over {head.year}, {which}, inflation"
+        measure = f"the {head.year} average"
+    else:
+        subject = f"At the end of {head.year} ({head.period}), {which}, inflation"
+        measure = "the year-end rate"
+    return (
+        f"{subject} is {phrase(a, inside)} to be inside the {band_label(head.band)} target "
+        f"band; the chance that {measure} is above the band is {above} and below it {below}."
+    )
 
 
 def _judgement_message(a: Assessment) -> str:
@@ -244,10 +273,12 @@ def _judgement_message(a: Assessment) -> str:
 def _messages(a: Assessment) -> tuple[str, ...]:
     first, policy = a.horizons[0], a.policy
     path = next(p for p in a.path if p.h == a.policy_horizon)
-    tilt = "above" if policy.p_above > policy.p_below else "below"
+    head = a.headline
+    tilt = "above" if head.p_above > head.p_below else "below"
+    subject = "at the policy horizon" if head.basis == "period" else f"to the {head.label}"
     messages = [
-        f"Risks at the policy horizon lean {tilt} the band: above "
-        f"{fmt.single_percent(policy.p_above)}, below {fmt.single_percent(policy.p_below)}. "
+        f"Risks {subject} lean {tilt} the band: above "
+        f"{fmt.single_percent(head.p_above)}, below {fmt.single_percent(head.p_below)}. "
         f"The central path is {fmt.number(policy.centre)}% in {policy.period}.",
         f"Inflation staying inside the band in every period from {first.period} to "
         f"{policy.period} is {phrase(a, fmt.single_percent(path.p_inside_throughout))}; "
@@ -521,10 +552,53 @@ def _scenario_rows(a: Assessment) -> tuple[ScenarioRow, ...]:
     return tuple(rows)
 
 
-def _annual_rows(a: Assessment) -> tuple[AnnualRow, ...]:
+def _basis_rows(a: Assessment) -> tuple[AnnualRow, ...]:
+    """The summary table on a calendar-year basis: one row per year in view."""
+    return _annual_rows(a, [dataclasses.asdict(r) for r in a.basis_results])
+
+
+BASIS_TITLES = {
+    "period": "Below, inside and above the band",
+    "calendar-year-average": "The calendar-year average: below, inside and above the band",
+    "year-end": "The year-end rate: below, inside and above the band",
+}
+
+
+BASIS_CAPTIONS = {
+    "period": "",
+    "calendar-year-average": "Probability that inflation averaged over the calendar year "
+    "(the mean of its period rates) is below, inside or above the target band",
+    "year-end": "Probability that inflation at the end of the calendar year is below, inside "
+    "or above the target band",
+}
+
+
+def _basis_text(a: Assessment) -> str:
+    """How the target's basis is measured, for the method page."""
+    basis = a.target["basis"]
+    if basis == "period":
+        return "per period: the rate of each reported period against the band in force then"
+    rates = "12 monthly" if a.frequency == "monthly" else "4 quarterly"
+    known = (
+        f"periods before {a.as_of} enter as their known outcomes, the others as simulated "
+        "values from the joint paths"
+    )
+    if basis == "calendar-year-average":
+        return (
+            f"calendar-year average: the mean of the year's {rates} rates; {known}; a year is "
+            "shown only when every period of it is observed or reported; the band is the one in "
+            "force in the year's last period"
+        )
+    last = "December" if a.frequency == "monthly" else "the fourth quarter"
+    return f"year end: the rate of {last}, from the joint paths; {known}"
+
+
+def _annual_rows(
+    a: Assessment, results: list[dict[str, Any]] | None = None
+) -> tuple[AnnualRow, ...]:
     rows = []
     unit = "months" if a.frequency == "monthly" else "quarters"
-    for r in a.annual:
+    for r in a.annual if results is None else results:
         texts = fmt.outcome_texts(r["p_below"], r["p_inside"], r["p_above"])
         rows.append(
             AnnualRow(
@@ -548,8 +622,9 @@ def _annual_text(a: Assessment) -> str:
     if not a.annual:
         return "No calendar year is fully covered by observed and reported periods."
     return (
-        "The calendar-year average and the year-end value, from the same simulated paths; "
-        "observed months enter as outcomes. Only years fully observed or reported are shown."
+        "The calendar-year average (the mean of the year's period rates) and the year-end "
+        f"value, from the same simulated paths; periods before {a.as_of} enter as their known "
+        "outcomes. Only years fully observed or reported are shown."
     )
 
 
@@ -695,7 +770,8 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
     shown = summary_h
     weight_h, weight_rows, weight_text = _weights(a, shown)
     calibration_lines, coverage_rows = _calibration(a, shown)
-    samples = [r.n_errors for r in a.horizons]
+    samples = [r.n_errors for r in a.horizons if r.n_errors is not None]
+    given = [r.h for r in a.horizons if r.n_errors is None]
     u = a.uncertainty
     return BriefContext(
         title=a.title,
@@ -705,6 +781,9 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         run_id=run_id,
         headline=headline,
         messages=_messages(a),
+        summary_title=BASIS_TITLES[a.headline.basis],
+        basis_caption=BASIS_CAPTIONS[a.headline.basis],
+        basis_rows=_basis_rows(a),
         summary_rows=tuple(_row(a.horizon_result(h), policy_h) for h in summary_h),
         all_rows=tuple(_row(r, policy_h) for r in a.horizons),
         annual_rows=_annual_rows(a),
@@ -801,9 +880,26 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
                 if u["centre"] == "estimated"
                 else "the point forecast is the mode of the distribution",
             ),
+            KeyValue("Target basis", _basis_text(a)),
             KeyValue(
                 "Spread by horizon",
-                "not allowed to shrink as the horizon lengthens" if u["monotone"] else "as fitted",
+                (
+                    "not allowed to shrink as the horizon lengthens"
+                    + (" (learned horizons only)" if given else "")
+                )
+                if u["monotone"]
+                else "as fitted",
+            ),
+            *(
+                (
+                    KeyValue(
+                        "Given error distribution",
+                        f"h = {periods.ranges(given)}: the error_quantiles file, used exactly "
+                        "as given (not widened, no past errors, no sampling interval)",
+                    ),
+                )
+                if given
+                else ()
             ),
             KeyValue(
                 "Interval for inside",
@@ -825,7 +921,13 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
             )
             for i in a.inputs
         ),
-        samples=(KeyValue("Past errors per horizon", _span(samples)),),
+        samples=(
+            KeyValue(
+                "Past errors per horizon",
+                (_span(samples) if samples else "none")
+                + (f"; given at h = {periods.ranges(given)}" if given else ""),
+            ),
+        ),
         warnings=a.warnings,
         software=", ".join(f"{k} {v}" for k, v in a.software.items()),
     )
