@@ -76,3 +76,7 @@ class ModelLeftOutWarning(RiskReportWarning):
 
 class BoundaryFitWarning(RiskReportWarning):
     """A fit's likelihood peaked at the edge of its parameter space, or a fit failed."""
+
+
+class CombinationRangeWarning(RiskReportWarning):
+    """Estimated weights are negative, or the combined forecast leaves the models' range."""
