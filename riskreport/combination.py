@@ -37,7 +37,7 @@ from riskreport.panel import Panel
 
 SHRINKAGE = 0.25  # kappa of the shrink method (Stock & Watson 2004 consider 0.25, 0.5, 1)
 SHRINKAGE_BOUNDS = (0.0, 10.0)  # 0: no shrinkage; common practice, no source, for the top
-RANGE_TOLERANCE = 1e-9  # a combination this close to the models' range counts as inside
+TOLERANCE = 1e-9  # numerical zero for negative weights and for leaving the range
 
 
 def min_history(method: CombinationMethod, k: int) -> int:
@@ -422,7 +422,7 @@ def combine(
         current[idx, h], intercepts[h] = w[-1], b[-1]
         fallback[h] = n[-1] < min_history(method, idx.size)
         rows[h] = int(n[-1])
-    negative = np.any(current < 0, axis=0)
+    negative = np.any(current < -TOLERANCE, axis=0)
     return Combination(
         method,
         combined,
@@ -441,7 +441,7 @@ def _outside(combined: np.ndarray, current: np.ndarray, included: np.ndarray) ->
     low = np.min(np.where(included, current, np.inf), axis=0)
     high = np.max(np.where(included, current, -np.inf), axis=0)
     with np.errstate(invalid="ignore"):
-        return (combined < low - RANGE_TOLERANCE) | (combined > high + RANGE_TOLERANCE)
+        return (combined < low - TOLERANCE) | (combined > high + TOLERANCE)
 
 
 def _robust(method: CombinationMethod, f: np.ndarray) -> np.ndarray:
