@@ -10,16 +10,21 @@ from scipy's Student-t distribution directly.
 from __future__ import annotations
 
 import itertools
+import tempfile
+from pathlib import Path
 
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from hypothesis.configuration import set_hypothesis_home_dir
 from scipy import optimize, stats
 
 from riskreport import change
 
 LEVELS = np.arange(1, 100) / 100
+# Hypothesis keeps a cache of constants; keep it out of the source tree.
+set_hypothesis_home_dir(Path(tempfile.gettempdir()) / "riskreport-hypothesis")
 
 
 def _p(centre: float, scale: float, band: tuple[float, float], df: float) -> float:
