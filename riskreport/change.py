@@ -6,10 +6,14 @@ split, the average over the six orders of making the three replacements, so the 
 up to the total change exactly.
 
 A distribution is written as centre + shape: P(inside) = F_S(U - c) - F_S(L - c), with F_S
-the distribution of (outcome - centre). Both briefs' shapes are rebuilt from the
-percentiles in their JSON (normal-score interpolation), so a part is exactly zero when its
-ingredient did not change; the split of the approximated total is then scaled to the
-exact total.
+the distribution of (outcome - centre). The game's corners are exact: the mix that takes
+every ingredient from the previous brief is worth its stored P(inside), the mix that takes
+every ingredient from this brief is worth this brief's, and only the six mixed corners are
+computed, from the shapes rebuilt from the percentiles in the JSON (normal-score
+interpolation). So the parts add up to the stored change exactly, with no rescaling, and an
+ingredient that did not change gets exactly zero (Shapley 1953, "A value for n-person
+games", in Contributions to the Theory of Games II: efficiency and the null-player
+property).
 """
 
 from __future__ import annotations
@@ -25,8 +29,9 @@ from scipy import stats
 
 from riskreport.errors import InputError
 
+# Stored per horizon so a later brief can rebuild the shape.
 PERCENTILES = tuple(range(1, 100))
-SAME = 1e-9  # differences below this are the JSON's rounding, not a change  # stored per horizon so a later brief can rebuild the shape
+SAME = 1e-9  # differences below this are the JSON's rounding, not a change
 
 
 @dataclass(frozen=True)
@@ -80,46 +85,60 @@ def side(row: dict[str, Any]) -> Side:
     )
 
 
+def _same_shape(before: Side, now: Side) -> bool:
+    return now.levels.shape == before.levels.shape and bool(
+        np.allclose(now.levels, before.levels, rtol=0, atol=SAME)
+        and np.allclose(now.offsets, before.offsets, rtol=0, atol=SAME)
+    )
+
+
+def changed_ingredients(before: Side, now: Side) -> tuple[bool, bool, bool]:
+    """Which ingredients (centre, spread/shape, band) changed beyond the JSON's rounding.
+
+    A change in P(inside) with the same centre and band is the shape's, even where the
+    percentiles do not show it (beyond the outermost ones).
+    """
+    centre = abs(now.centre - before.centre) >= SAME
+    band = max(abs(now.band[0] - before.band[0]), abs(now.band[1] - before.band[1])) >= SAME
+    shape = not _same_shape(before, now)
+    if not (centre or band) and abs(now.p_inside - before.p_inside) >= SAME:
+        shape = True
+    return centre, shape, band
+
+
 def decompose(before: Side, now: Side) -> tuple[float, float, float]:
     """Shapley parts (centre, spread/shape, band) of the change in P(inside).
 
     The value of a mix takes each ingredient from ``before`` or ``now``; each part is its
-    average marginal contribution over the six orders.
+    average marginal contribution over the six orders (Shapley 1953). The all-``before``
+    and all-``now`` mixes are worth the stored P(inside) of each brief, so the parts add
+    up to ``now.p_inside - before.p_inside`` with no rescaling; an unchanged ingredient
+    adds nothing to any mix, so its part is exactly 0.
     """
+    changed = changed_ingredients(before, now)
 
-    # Ingredients equal up to the JSON's rounding count as unchanged, so their parts are 0.
-    if abs(now.centre - before.centre) < SAME:
-        now = Side(before.centre, now.band, now.levels, now.offsets, now.p_inside)
-    if now.levels.shape == before.levels.shape and np.allclose(
-        now.offsets, before.offsets, rtol=0, atol=SAME
-    ):
-        now = Side(now.centre, now.band, before.levels, before.offsets, now.p_inside)
-    if max(abs(now.band[0] - before.band[0]), abs(now.band[1] - before.band[1])) < SAME:
-        now = Side(now.centre, before.band, now.levels, now.offsets, now.p_inside)
-
-    def value(use: tuple[bool, bool, bool]) -> float:
-        centre = now.centre if use[0] else before.centre
-        shape = now if use[1] else before
-        band = now.band if use[2] else before.band
+    def value(use: tuple[bool, ...]) -> float:
+        # Taking an unchanged ingredient from ``now`` is the same mix as from ``before``.
+        mix = tuple(u and c for u, c in zip(use, changed, strict=True))
+        if not any(mix):
+            return before.p_inside
+        if mix == changed:
+            return now.p_inside
+        centre = now.centre if mix[0] else before.centre
+        shape = now if mix[1] else before
+        band = now.band if mix[2] else before.band
         return shape.prob(centre, band)
 
+    corners = {use: value(use) for use in itertools.product((False, True), repeat=3)}
     parts = np.zeros(3)
     orders = list(itertools.permutations(range(3)))
     for order in orders:
         use = [False, False, False]
-        previous = value((False, False, False))
         for player in order:
+            previous = corners[(use[0], use[1], use[2])]
             use[player] = True
-            current = value((use[0], use[1], use[2]))
-            parts[player] += current - previous
-            previous = current
+            parts[player] += corners[(use[0], use[1], use[2])] - previous
     parts /= len(orders)
-    exact = now.p_inside - before.p_inside
-    approx = parts.sum()
-    if abs(approx) > 1e-12:
-        parts *= exact / approx
-    else:
-        parts[int(np.argmax(np.abs(parts)))] += exact - approx
     return float(parts[0]), float(parts[1]), float(parts[2])
 
 

@@ -15,8 +15,12 @@ model received; ``inverse-mse`` (Bates & Granger 1969); ``rank`` (inverse rank o
 Aiolfi & Timmermann 2006; ties share the lower rank, scipy ``rankdata(method="min")``);
 ``ols`` (Granger & Ramanathan 1984, with intercept); ``ols-sum-to-one`` (no intercept,
 weights sum to one); ``ols-nonnegative`` (also non-negative; exact, by enumerating active
-sets); ``shrink`` (sum-to-one OLS weights shrunk toward equal, Stock & Watson 2004:
-psi = max(0, 1 - kappa k / (T - h - k))); ``given`` (one combined forecast).
+sets); ``shrink`` (sum-to-one OLS weights shrunk toward equal, see :func:`shrinkage_factor`);
+``given`` (one combined forecast).
+
+Estimated weights can be negative and put the combined forecast outside the range of the
+models' own forecasts; :func:`combine` records both for the current round
+(``Combination.negative``, ``Combination.outside``) so the brief can say so.
 """
 
 from __future__ import annotations
@@ -32,6 +36,8 @@ from riskreport._typing import CombinationMethod
 from riskreport.panel import Panel
 
 SHRINKAGE = 0.25  # kappa of the shrink method (Stock & Watson 2004 consider 0.25, 0.5, 1)
+SHRINKAGE_BOUNDS = (0.0, 10.0)  # 0: no shrinkage; common practice, no source, for the top
+TOLERANCE = 1e-9  # numerical zero for negative weights and for leaving the range
 
 
 def min_history(method: CombinationMethod, k: int) -> int:
@@ -138,8 +144,45 @@ def _ols(mom: Moments) -> tuple[np.ndarray, np.ndarray]:
     return beta[:, 0], beta[:, 1:]
 
 
+def shrinkage_factor(rows: ArrayLike, k: int, kappa: float = SHRINKAGE) -> np.ndarray:
+    """Weight on the estimated weights in ``shrink``: max(0, 1 - kappa k / (rows - k)).
+
+    Stock & Watson (2004, "Combination forecasts of output growth in a seven-country data
+    set", J. Forecasting 23, section 3) shrink the estimated weights toward 1/k with
+    lambda = max(0, 1 - kappa k / (t - h - T0 - k)), where t - h - T0 is the number of
+    observations in the weight regression: the forecasts made from T0 on whose h-step
+    outcome is known at the forecast date t (the reading of the paper's indexing is
+    recalled from memory). ``rows`` is that count, so the horizon is not subtracted again:
+    the rows whose outcome is still unknown are already left out of it. The denominator is
+    the regression's residual degrees of freedom; with none left, the weights are equal.
+
+    Parameters
+    ----------
+    rows
+        Observations in the weight regression (any shape).
+    k
+        Number of models.
+    kappa
+        The shrinkage constant (the paper uses 0.25, 0.5 and 1).
+
+    Returns
+    -------
+    numpy.ndarray
+        lambda, in [0, 1], with the shape of ``rows``.
+
+    Examples
+    --------
+    >>> float(shrinkage_factor(12, 3, 0.25))  # 1 - 0.75 / 9
+    0.9166666666666666
+    """
+    n = np.asarray(rows, dtype=float)
+    dof = n - k
+    factor = 1 - kappa * k / np.where(dof > 0, dof, 1.0)
+    return np.where(dof > 0, np.clip(factor, 0.0, 1.0), 0.0)
+
+
 def linear_weights(
-    method: CombinationMethod, mom: Moments, *, h: int = 1, shrinkage: float = SHRINKAGE
+    method: CombinationMethod, mom: Moments, *, shrinkage: float = SHRINKAGE
 ) -> tuple[np.ndarray, np.ndarray]:
     """Weights (m x k) and intercepts (m) of a linear method from stacked moments."""
     m, k = mom.cross.shape
@@ -161,8 +204,7 @@ def linear_weights(
     if method == "ols-nonnegative":
         return _nonnegative(mom), zero
     if method == "shrink":
-        psi = np.clip(1 - shrinkage * k / np.maximum(mom.n - h - k, 1e-12), 0.0, 1.0)
-        psi = np.where(mom.n - h - k > 0, psi, 0.0)
+        psi = shrinkage_factor(mom.n, k, shrinkage)
         base = _sum_to_one(mom.gram, mom.cross)
         return psi[:, None] * base + (1 - psi[:, None]) / k, zero
     raise ValueError(f"method: {method!r} is not a linear combination method")
@@ -191,7 +233,6 @@ def weights(
     forecasts: ArrayLike,
     outcomes: ArrayLike,
     *,
-    h: int = 1,
     shrinkage: float = SHRINKAGE,
 ) -> np.ndarray:
     """Combination weights estimated from a track record.
@@ -203,9 +244,8 @@ def weights(
     forecasts
         T x k past forecasts of k models.
     outcomes
-        T outcomes.
-    h
-        Horizon (used by ``shrink``).
+        T outcomes. All T rows enter the regression methods, so for ``shrink`` they are
+        the T - h observations of Stock & Watson (2004) (see :func:`shrinkage_factor`).
     shrinkage
         kappa of ``shrink``.
 
@@ -233,7 +273,7 @@ def weights(
         return np.ones(1)
     if method in ("median", "trimmed"):
         return _effective_shares(method, f).mean(axis=0)
-    w, _ = linear_weights(method, Moments.of(f, y), h=h, shrinkage=shrinkage)
+    w, _ = linear_weights(method, Moments.of(f, y), shrinkage=shrinkage)
     return w[0]
 
 
@@ -257,6 +297,11 @@ class Combination:
         horizons: True where the current round fell back to equal weights.
     rows
         horizons: past rows behind the current round's weights.
+    negative
+        horizons: True where a current weight is negative.
+    outside
+        horizons: True where the current combined forecast lies outside the range of the
+        included models' current forecasts.
     """
 
     method: CombinationMethod
@@ -266,6 +311,8 @@ class Combination:
     included: np.ndarray
     fallback: np.ndarray
     rows: np.ndarray
+    negative: np.ndarray
+    outside: np.ndarray
 
 
 def _cumulative_moments(f: np.ndarray, y: np.ndarray, valid: np.ndarray) -> Moments:
@@ -302,7 +349,12 @@ def _window(cum: Moments, end: np.ndarray, window: int) -> Moments:
 
 
 def _history_rows(
-    method: CombinationMethod, f: np.ndarray, y: np.ndarray, h: int, window: int
+    method: CombinationMethod,
+    f: np.ndarray,
+    y: np.ndarray,
+    h: int,
+    window: int,
+    shrinkage: float,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Per origin: weights (n x k), intercepts and rows, from origins o' <= o - h - 1 only."""
     n, k = f.shape
@@ -311,20 +363,27 @@ def _history_rows(
     # The last past row whose outcome period came before each origin: o' + h <= o - 1.
     end = np.arange(n) - h - 1
     mom = _window(cum, end, window)
-    w, b = linear_weights(method, mom, h=h)
+    w, b = linear_weights(method, mom, shrinkage=shrinkage)
     short = mom.n < max(min_history(method, k), 1)
     w[short] = 1.0 / k
     b[short] = 0.0
     return w, b, mom.n
 
 
-def combine(method: CombinationMethod, panel: Panel, *, window: int = 0) -> Combination:
+def combine(
+    method: CombinationMethod,
+    panel: Panel,
+    *,
+    window: int = 0,
+    shrinkage: float = SHRINKAGE,
+) -> Combination:
     """Combine the panel's models without look-ahead.
 
     At each horizon the models with a current-round forecast are combined. At a past origin
     the weights come from the rows whose outcome period is before that origin (within
     ``window`` rows, 0 = all); where a model did not forecast then, or the history is too
     short for the method, the available models are averaged with equal weights.
+    ``shrinkage`` is kappa of ``shrink`` (see :func:`shrinkage_factor`).
     """
     models, _, horizons = panel.forecasts.shape
     included = ~np.isnan(panel.current)
@@ -356,14 +415,33 @@ def combine(method: CombinationMethod, panel: Panel, *, window: int = 0) -> Comb
             combined[:, h] = equal
             current[idx, h] = 1.0 / idx.size
             continue
-        w, b, n = _history_rows(method, f, y, h, window)
+        w, b, n = _history_rows(method, f, y, h, window, shrinkage)
         complete = np.all(available, axis=1)
         linear = np.einsum("ok,ok->o", w, np.nan_to_num(f)) + b
         combined[:, h] = np.where(complete, linear, equal)
         current[idx, h], intercepts[h] = w[-1], b[-1]
         fallback[h] = n[-1] < min_history(method, idx.size)
         rows[h] = int(n[-1])
-    return Combination(method, combined, current, intercepts, included, fallback, rows)
+    negative = np.any(current < -TOLERANCE, axis=0)
+    return Combination(
+        method,
+        combined,
+        current,
+        intercepts,
+        included,
+        fallback,
+        rows,
+        negative,
+        _outside(combined[-1], panel.current, included),
+    )
+
+
+def _outside(combined: np.ndarray, current: np.ndarray, included: np.ndarray) -> np.ndarray:
+    """horizons: True where the combination leaves the included models' current range."""
+    low = np.min(np.where(included, current, np.inf), axis=0)
+    high = np.max(np.where(included, current, -np.inf), axis=0)
+    with np.errstate(invalid="ignore"):
+        return (combined < low - TOLERANCE) | (combined > high + TOLERANCE)
 
 
 def _robust(method: CombinationMethod, f: np.ndarray) -> np.ndarray:

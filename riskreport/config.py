@@ -27,6 +27,7 @@ from riskreport._typing import (
     Frequency,
     OutputFormat,
 )
+from riskreport.combination import SHRINKAGE, SHRINKAGE_BOUNDS
 from riskreport.errors import InputError
 
 VERBAL_SCALES = ("ipcc-ar5", "icd-203", "efsa-2018")
@@ -101,6 +102,7 @@ class Config:
     scenarios: tuple[tuple[str, Judgement], ...]
     output_directory: Path
     formats: tuple[OutputFormat, ...]
+    combination_shrinkage: float = SHRINKAGE
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
@@ -133,7 +135,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
     },
     "inputs": {"forecasts", "actuals", "error_quantiles"},
     "target": {"midpoint", "tolerance", "lower", "upper", "basis", "schedule"},
-    "combination": {"method", "window"},
+    "combination": {"method", "window", "shrinkage"},
     "uncertainty": {
         "distribution",
         "min_errors",
@@ -386,6 +388,7 @@ def load(path: str | Path) -> Config:
                 "formats", f"expected items from {', '.join(OUTPUT_FORMATS)}, got {item!r}"
             )
     directory = output._get("directory", str, "a folder path", "out")
+    shrinkage = _shrinkage(combination)
 
     return Config(
         path=path,
@@ -416,4 +419,14 @@ def load(path: str | Path) -> Config:
         scenarios=_scenarios(path, data.get("scenario"), frequency),
         output_directory=(base / directory).resolve(),
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
+        combination_shrinkage=shrinkage,
     )
+
+
+def _shrinkage(reader: _Reader) -> float:
+    """``[combination] shrinkage``: kappa of the ``shrink`` method, within its bounds."""
+    value = reader.number("shrinkage", SHRINKAGE)
+    low, high = SHRINKAGE_BOUNDS
+    if value is None or not low <= value <= high:
+        raise reader.error("shrinkage", f"expected a number from {low:g} to {high:g}, got {value}")
+    return float(value)

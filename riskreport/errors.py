@@ -84,3 +84,7 @@ class LaterOutcomeWarning(RiskReportWarning):
 
 class HeadlineBasisWarning(RiskReportWarning):
     """The headline cannot speak of the policy-horizon year on the configured basis."""
+
+
+class CombinationRangeWarning(RiskReportWarning):
+    """Estimated weights are negative, or the combined forecast leaves the models' range."""

@@ -37,6 +37,7 @@ from riskreport.config import Config
 from riskreport.distributions import Distribution
 from riskreport.errors import (
     CombinationFallbackWarning,
+    CombinationRangeWarning,
     HeadlineBasisWarning,
     InputError,
     LaterOutcomeWarning,
@@ -436,6 +437,38 @@ def assess_config(
     return dataclasses.replace(assessment, warnings=tuple(dict.fromkeys(notes)), change=change)
 
 
+def _horizon_list(horizons: list[int]) -> str:
+    """``[0, 1, 2, 5]`` as ``"0-2, 5"``."""
+    spans: list[list[int]] = []
+    for h in horizons:
+        if spans and h == spans[-1][1] + 1:
+            spans[-1][1] = h
+        else:
+            spans.append([h, h])
+    return ", ".join(f"{a}" if a == b else f"{a}-{b}" for a, b in spans)
+
+
+def _warn_range(method: str, combo: combination_module.Combination) -> None:
+    """Say where estimated weights are negative or the combination leaves the models' range."""
+    negative = np.flatnonzero(combo.negative).tolist()
+    outside = np.flatnonzero(combo.outside).tolist()
+    if negative:
+        warnings.warn(
+            f"The '{method}' weights are negative at horizon(s) {_horizon_list(negative)}: "
+            "the combination bets against some models. Estimated weights like these often "
+            "forecast worse than equal weights out of sample; compare the track record.",
+            CombinationRangeWarning,
+            stacklevel=3,
+        )
+    if outside:
+        warnings.warn(
+            f"The '{method}' combined forecast lies outside the range of the models' current "
+            f"forecasts at horizon(s) {_horizon_list(outside)}; no model forecasts that value.",
+            CombinationRangeWarning,
+            stacklevel=3,
+        )
+
+
 def _assess(cfg: Config) -> Assessment:
     fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
     act = read_actuals(cfg.actuals, cfg.frequency)
@@ -453,7 +486,9 @@ def _assess(cfg: Config) -> Assessment:
                 stacklevel=2,
             )
     method = _method(cfg, fc)
-    combo = combination_module.combine(method, panel, window=cfg.combination_window)
+    combo = combination_module.combine(
+        method, panel, window=cfg.combination_window, shrinkage=cfg.combination_shrinkage
+    )
     for h in np.flatnonzero(combo.fallback).tolist():
         warnings.warn(
             f"Too short a history for '{method}' weights at horizon {h} "
@@ -461,6 +496,7 @@ def _assess(cfg: Config) -> Assessment:
             CombinationFallbackWarning,
             stacklevel=2,
         )
+    _warn_range(method, combo)
     point = combo.combined[-1, : cfg.horizons + 1]
     if not np.all(np.isfinite(point)):
         missing = int(np.flatnonzero(~np.isfinite(point))[0])
@@ -529,6 +565,7 @@ def _assess(cfg: Config) -> Assessment:
         combination={
             "method": method,
             "window": cfg.combination_window,
+            "shrinkage": cfg.combination_shrinkage,
             "weights": [w.__dict__ for w in weights],
             "intercepts": [
                 {"h": h, "intercept": float(combo.intercepts[h])}

@@ -70,8 +70,8 @@ def test_shapley_parts_match_a_hand_computation() -> None:
         v(c1, s1, b1) - v(c0, s1, b1),
     ]
     centre, _, _ = change.decompose(before, now)
-    # The percentile representation is close to the normal; the final scaling to the exact
-    # total moves the parts by a hair.
+    # The mixed corners come from the shapes rebuilt from the percentiles, which are close
+    # to the normal.
     assert centre == pytest.approx(np.mean(marginal), abs=2e-3)
 
 

@@ -2,8 +2,8 @@
 least squares.
 
 Oracles ([C] in checks.md): Bates & Granger (1969) inverse-MSE, Aiolfi & Timmermann (2006)
-inverse rank, Granger & Ramanathan (1984) variants (a), (b), (c), Stock & Watson (2004)
-shrinkage, for the 12-period example of checks.md section 5.
+inverse rank, Granger & Ramanathan (1984) variants (a), (b), (c), for the 12-period example
+of checks.md section 5; Stock & Watson (2004) shrinkage computed by hand from (b).
 """
 
 from __future__ import annotations
@@ -34,7 +34,10 @@ F4 = np.column_stack([F, [2.0, 2.0, 2.2, 2.4, 2.3, 2.4, 2.2, 2.15, 2.45, 2.6, 2.
         ("ols", (0.51669969, 0.40464407, 0.28313869)),
         ("ols-sum-to-one", (0.28388146, 0.41177268, 0.30434586)),
         ("ols-nonnegative", (0.28388146, 0.41177268, 0.30434586)),
-        ("shrink", (0.28851757, 0.40441899, 0.30706344)),  # kappa = 0.25, T = 12, h = 1
+        # Stock & Watson (2004) shrinkage of GR (b) toward 1/3, kappa = 0.25, by hand: the
+        # 12 rows are the regression's observations (the paper's t - h - T0), so
+        # lambda = 1 - 0.25 * 3 / (12 - 3) = 11/12 and w = 11/12 GR(b) + (1/12) / 3.
+        ("shrink", tuple(11 / 12 * np.array([0.28388146, 0.41177268, 0.30434586]) + 1 / 36)),
         ("equal", (1 / 3, 1 / 3, 1 / 3)),
     ],
 )
