@@ -29,8 +29,17 @@ from riskreport._typing import (
 )
 from riskreport.combination import SHRINKAGE, SHRINKAGE_BOUNDS
 from riskreport.errors import InputError
+from riskreport.inputs import FIRST_YEAR, LARGEST_MAX_ABS_VALUE, LAST_YEAR, MAX_ABS_VALUE
 
 VERBAL_SCALES = ("ipcc-ar5", "icd-203", "efsa-2018")
+
+# Upper bounds of the config's numbers (common practice, no source): far beyond any useful
+# setting, low enough that a typing error cannot ask for hundreds of GiB or hours of work.
+MAX_BOOTSTRAP_REPLICATES = 100_000
+MAX_SIMULATIONS = 1_000_000
+MAX_HORIZON_YEARS = 10  # horizons and policy_horizon: at most 10 years of periods
+MAX_WINDOW_YEARS = LAST_YEAR - FIRST_YEAR  # windows and min_errors: the whole year range
+MAX_SCALE = 100.0  # a judgement's spread multiplier
 
 T = TypeVar("T")
 
@@ -103,6 +112,7 @@ class Config:
     output_directory: Path
     formats: tuple[OutputFormat, ...]
     combination_shrinkage: float = SHRINKAGE
+    max_abs_value: float = MAX_ABS_VALUE
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
@@ -120,6 +130,10 @@ class Config:
                 f"--as-of expected a {self.frequency} period like "
                 f"{periods.EXAMPLE[self.frequency]}, got {text!r}"
             )
+        if not FIRST_YEAR <= periods.year_of(parsed.ordinal, self.frequency) <= LAST_YEAR:
+            raise InputError(
+                f"--as-of expected a period from {FIRST_YEAR} to {LAST_YEAR}, got {text!r}"
+            )
         return replace(self, as_of=parsed.ordinal)
 
 
@@ -133,7 +147,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "policy_horizon",
         "verbal_scale",
     },
-    "inputs": {"forecasts", "actuals", "error_quantiles"},
+    "inputs": {"forecasts", "actuals", "error_quantiles", "max_abs_value"},
     "target": {"midpoint", "tolerance", "lower", "upper", "basis", "schedule"},
     "combination": {"method", "window", "shrinkage"},
     "uncertainty": {
@@ -188,18 +202,23 @@ class _Reader:
             raise self.error(key, "expected non-empty text")
         return value
 
-    def number(self, key: str, default: Any = None) -> float | None:
+    def number(self, key: str, default: Any = None, bound: float | None = None) -> float | None:
+        """A finite number; with ``bound``, one from -bound to +bound."""
         value = self._get(key, (int, float), "a number", default)
         if value is None:
             return None
         if not math.isfinite(value):
             raise self.error(key, f"expected a finite number, got {value!r}")
+        if bound is not None and abs(value) > bound:
+            raise self.error(key, f"expected a number from {-bound:g} to {bound:g}, got {value!r}")
         return float(value)
 
-    def integer(self, key: str, default: Any, minimum: int) -> int:
+    def integer(self, key: str, default: Any, minimum: int, maximum: int) -> int:
         value = cast(int, self._get(key, int, "a whole number", default))
-        if value < minimum:
-            raise self.error(key, f"expected a whole number >= {minimum}, got {value}")
+        if not minimum <= value <= maximum:
+            raise self.error(
+                key, f"expected a whole number from {minimum} to {maximum}, got {value}"
+            )
         return value
 
     def flag(self, key: str, default: bool) -> bool:
@@ -218,6 +237,10 @@ class _Reader:
             raise self.error(
                 key,
                 f"expected a {frequency} period like {periods.EXAMPLE[frequency]}, got {value!r}",
+            )
+        if not FIRST_YEAR <= periods.year_of(parsed.ordinal, frequency) <= LAST_YEAR:
+            raise self.error(
+                key, f"expected a period from {FIRST_YEAR} to {LAST_YEAR}, got {value!r}"
             )
         return parsed.ordinal
 
@@ -245,21 +268,22 @@ def _table(path: Path, data: dict[str, Any], name: str, required: bool = True) -
     return value
 
 
-def _band(reader: _Reader) -> Band:
+def _band(reader: _Reader, bound: float) -> Band:
+    """A band from midpoint and tolerance or from its edges, each within +-``bound``."""
     has_mid = "midpoint" in reader.table or "tolerance" in reader.table
     has_edges = "lower" in reader.table or "upper" in reader.table
     if has_mid and has_edges:
         raise reader.error("lower", "give either midpoint and tolerance, or lower and upper")
     if has_edges:
-        lower = cast(float, reader.number("lower", _REQUIRED))
-        upper = cast(float, reader.number("upper", _REQUIRED))
+        lower = cast(float, reader.number("lower", _REQUIRED, bound))
+        upper = cast(float, reader.number("upper", _REQUIRED, bound))
         if lower >= upper:
             raise reader.error(
                 "lower", f"expected lower < upper, got lower = {lower:g}, upper = {upper:g}"
             )
         return Band(lower, upper)
-    midpoint = cast(float, reader.number("midpoint", _REQUIRED))
-    tolerance = cast(float, reader.number("tolerance", _REQUIRED))
+    midpoint = cast(float, reader.number("midpoint", _REQUIRED, bound))
+    tolerance = cast(float, reader.number("tolerance", _REQUIRED, bound))
     if tolerance <= 0:
         raise reader.error(
             "tolerance", f"expected a positive number (band lower < upper), got {tolerance:g}"
@@ -267,7 +291,7 @@ def _band(reader: _Reader) -> Band:
     return Band(midpoint - tolerance, midpoint + tolerance, midpoint, tolerance)
 
 
-def _schedule(path: Path, raw: Any, frequency: Frequency) -> tuple[BandChange, ...]:
+def _schedule(path: Path, raw: Any, frequency: Frequency, bound: float) -> tuple[BandChange, ...]:
     if raw is None:
         return ()
     if not isinstance(raw, list):
@@ -277,12 +301,12 @@ def _schedule(path: Path, raw: Any, frequency: Frequency) -> tuple[BandChange, .
         if not isinstance(entry, dict):
             raise InputError("expected a table", file=path, column=f"[target] schedule {i}")
         reader = _Reader(path, "schedule", entry, label=f"target schedule {i}")
-        changes.append(BandChange(reader.period("from", frequency), _band(reader)))
+        changes.append(BandChange(reader.period("from", frequency), _band(reader, bound)))
     return tuple(sorted(changes, key=lambda change: change.start))
 
 
 def _judgements(
-    path: Path, raw: Any, frequency: Frequency, kind: str = "judgement"
+    path: Path, raw: Any, frequency: Frequency, bound: float, kind: str = "judgement"
 ) -> tuple[Judgement, ...]:
     if raw is None:
         return ()
@@ -298,15 +322,17 @@ def _judgements(
         if end < start:
             raise reader.error("to", "expected a period on or after 'from'")
         scale = cast(float, reader.number("scale", 1.0))
-        if scale <= 0:
-            raise reader.error("scale", f"expected a positive number, got {scale:g}")
+        if not 0 < scale <= MAX_SCALE:
+            raise reader.error(
+                "scale", f"expected a positive number up to {MAX_SCALE:g}, got {scale:g}"
+            )
         entries.append(
             Judgement(
                 start=start,
                 end=end,
-                shift=cast(float, reader.number("shift", 0.0)),
+                shift=cast(float, reader.number("shift", 0.0, bound)),
                 scale=scale,
-                skew=cast(float, reader.number("skew", 0.0)),
+                skew=cast(float, reader.number("skew", 0.0, bound)),
                 reason=reader.text("reason"),
                 label=f"{kind} {i}",
             )
@@ -314,9 +340,11 @@ def _judgements(
     return tuple(entries)
 
 
-def _scenarios(path: Path, raw: Any, frequency: Frequency) -> tuple[tuple[str, Judgement], ...]:
+def _scenarios(
+    path: Path, raw: Any, frequency: Frequency, bound: float
+) -> tuple[tuple[str, Judgement], ...]:
     """Named alternative overlays: entries with the same name compose into one scenario."""
-    entries = _judgements(path, raw, frequency, kind="scenario")
+    entries = _judgements(path, raw, frequency, bound, kind="scenario")
     names = []
     for i, table in enumerate(raw or [], start=1):
         name = table.get("name")
@@ -350,12 +378,14 @@ def load(path: str | Path) -> Config:
     if not path.is_file():
         raise InputError("config file not found", file=path)
     try:
-        with path.open("rb") as handle:
-            data = tomllib.load(handle)
+        # utf-8-sig: editors on Windows often save a byte-order mark, which TOML forbids.
+        data = tomllib.loads(path.read_text(encoding="utf-8-sig"))
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"invalid TOML: {exc}", file=path) from None
     except UnicodeDecodeError:
         raise InputError("expected a UTF-8 text file", file=path) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the file ({exc.strerror or exc})", file=path) from None
     unknown = sorted(set(data) - set(_KNOWN_KEYS))
     if unknown:
         raise InputError(
@@ -366,12 +396,22 @@ def load(path: str | Path) -> Config:
     brief = _Reader(path, "brief", _table(path, data, "brief"))
     frequency = cast(Frequency, brief.choice("frequency", FREQUENCIES, "monthly"))
     per_year = periods.PERIODS_PER_YEAR[frequency]
-    horizons = brief.integer("horizons", 2 * per_year, minimum=0)
-    policy_horizon = brief.integer("policy_horizon", min(horizons, per_year * 3 // 2), minimum=0)
+    longest = MAX_HORIZON_YEARS * per_year
+    horizons = brief.integer("horizons", 2 * per_year, minimum=0, maximum=longest)
+    policy_horizon = brief.integer(
+        "policy_horizon", min(horizons, per_year * 3 // 2), minimum=0, maximum=longest
+    )
     if policy_horizon > horizons:
         raise brief.error("policy_horizon", f"expected at most horizons = {horizons}")
 
     inputs = _Reader(path, "inputs", _table(path, data, "inputs"))
+    bound = cast(float, inputs.number("max_abs_value", MAX_ABS_VALUE))
+    if not 0 < bound <= LARGEST_MAX_ABS_VALUE:
+        raise inputs.error(
+            "max_abs_value",
+            f"expected a positive number up to {LARGEST_MAX_ABS_VALUE:g}, got {bound:g}",
+        )
+    window_limit = MAX_WINDOW_YEARS * per_year
     target = _Reader(path, "target", _table(path, data, "target"))
     combination = _Reader(path, "combination", _table(path, data, "combination", False))
     uncertainty = _Reader(path, "uncertainty", _table(path, data, "uncertainty", False))
@@ -402,24 +442,29 @@ def load(path: str | Path) -> Config:
         forecasts=cast(Path, inputs.path_of("forecasts", base, required=True)),
         actuals=cast(Path, inputs.path_of("actuals", base, required=True)),
         error_quantiles=inputs.path_of("error_quantiles", base, required=False),
-        band=_band(target),
+        band=_band(target, bound),
         basis=cast(Basis, target.choice("basis", BASES, "period")),
-        schedule=_schedule(path, target.table.get("schedule"), frequency),
+        schedule=_schedule(path, target.table.get("schedule"), frequency, bound),
         combination=method,
-        combination_window=combination.integer("window", 0, minimum=0),
+        combination_window=combination.integer("window", 0, minimum=0, maximum=window_limit),
         distribution=distribution,
-        window=uncertainty.integer("window", 120, minimum=0),
+        window=uncertainty.integer("window", 120, minimum=0, maximum=window_limit),
         centre=cast(Centre, uncertainty.choice("centre", CENTRES, "estimated")),
         monotone=uncertainty.flag("monotone", True),
-        min_errors=uncertainty.integer("min_errors", 20, minimum=2),
-        bootstrap_replicates=uncertainty.integer("bootstrap_replicates", 500, minimum=50),
-        simulations=uncertainty.integer("simulations", 20000, minimum=1000),
-        seed=uncertainty.integer("seed", 20240101, minimum=0),
-        judgements=_judgements(path, data.get("judgement"), frequency),
-        scenarios=_scenarios(path, data.get("scenario"), frequency),
+        min_errors=uncertainty.integer("min_errors", 20, minimum=2, maximum=window_limit),
+        bootstrap_replicates=uncertainty.integer(
+            "bootstrap_replicates", 500, minimum=50, maximum=MAX_BOOTSTRAP_REPLICATES
+        ),
+        simulations=uncertainty.integer(
+            "simulations", 20000, minimum=1000, maximum=MAX_SIMULATIONS
+        ),
+        seed=uncertainty.integer("seed", 20240101, minimum=0, maximum=2**63 - 1),
+        judgements=_judgements(path, data.get("judgement"), frequency, bound),
+        scenarios=_scenarios(path, data.get("scenario"), frequency, bound),
         output_directory=(base / directory).resolve(),
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
         combination_shrinkage=shrinkage,
+        max_abs_value=bound,
     )
 
 

@@ -23,6 +23,8 @@ class InputError(ValueError):
         1-based row as a spreadsheet shows it (the header is row 1), or None.
     column
         Column name, or a config key such as ``[target] tolerance``, or None.
+    sheet
+        The worksheet read, for a workbook (.xlsx), or None.
     """
 
     def __init__(
@@ -32,18 +34,22 @@ class InputError(ValueError):
         file: str | Path | None = None,
         row: int | None = None,
         column: str | None = None,
+        sheet: str | None = None,
     ) -> None:
         self.message = message
         self.file = Path(file).name if file is not None else None
         self.row = row
         self.column = column
+        self.sheet = sheet
         super().__init__(self.one_line())
 
     def one_line(self) -> str:
-        """The error as one line: ``file, row N, column 'c': message``."""
+        """The error as one line: ``file, [sheet 's',] row N, column 'c': message``."""
         where: list[str] = []
         if self.file is not None:
             where.append(self.file)
+        if self.sheet is not None:
+            where.append(f"sheet {self.sheet!r}")
         if self.row is not None:
             where.append(f"row {self.row}")
         if self.column is not None:

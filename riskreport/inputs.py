@@ -6,8 +6,10 @@ and the column, so a user can go straight to the cell.
 
 from __future__ import annotations
 
+import csv
 import datetime as dt
 import math
+import zipfile
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -18,7 +20,15 @@ from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.errors import InputError
 
-_FIRST_DATA_ROW = 2  # the header is row 1
+# Plausibility bounds (common practice, no source): inflation rates in percent beyond
+# +-1000 are almost always a unit or typing error (a level instead of a rate, a stray
+# exponent); hyperinflation data can raise the bound with [inputs] max_abs_value.
+MAX_ABS_VALUE = 1000.0
+LARGEST_MAX_ABS_VALUE = 1e6
+# Years outside 1800-2200 are typing errors (0000, 20026) rather than data.
+FIRST_YEAR, LAST_YEAR = 1800, 2200
+# A given error distribution's horizon: at most the whole year range in months.
+MAX_HORIZON = 12 * (LAST_YEAR - FIRST_YEAR)
 
 
 @dataclass(frozen=True)
@@ -66,46 +76,158 @@ def read_table(
     """Read a CSV (UTF-8, BOM tolerated) or .xlsx file as text columns.
 
     Column names are stripped and lower-cased; cells are kept as text so that each check can
-    quote what it found. Missing required columns raise :class:`InputError`.
+    quote what it found. The index holds each row's number as a spreadsheet shows it: the
+    header is row 1 and blank rows count (they are skipped, not renumbered). A workbook is
+    read from its first sheet; the sheet's name is stored in ``frame.attrs["sheet"]`` and
+    named in every message.
+
+    Raises
+    ------
+    InputError
+        An unreadable file, a missing or repeated column, or no data rows.
     """
     suffix = path.suffix.lower()
-    try:
-        if suffix == ".xlsx":
-            raw = pd.read_excel(path, dtype=object, engine="openpyxl")
-            frame = raw.map(_cell_text)
-        elif suffix in {".csv", ".txt"}:
-            frame = pd.read_csv(
-                path, dtype=str, keep_default_na=False, encoding="utf-8-sig", skipinitialspace=True
-            )
-        else:
-            raise InputError(
-                f"expected a .csv or .xlsx file, got {suffix or 'no extension'}", file=path
-            )
-    except InputError:
-        raise
-    except UnicodeDecodeError:
-        raise InputError("expected UTF-8 text", file=path) from None
-    except pd.errors.EmptyDataError:
+    sheet: str | None = None
+    if suffix == ".xlsx":
+        grid, sheet = _read_workbook(path)
+    elif suffix in {".csv", ".txt"}:
+        grid = _read_csv(path)
+    else:
         raise InputError(
-            "the file is empty; expected a header row and data rows", file=path
-        ) from None
-    except pd.errors.ParserError as exc:
-        raise InputError(f"cannot read as CSV ({' '.join(str(exc).split())})", file=path) from None
-    except (ValueError, OSError, KeyError) as exc:
-        raise InputError(f"cannot read the file ({exc})", file=path) from None
-    frame.columns = [str(c).strip().lower() for c in frame.columns]
-    for column in required:
-        if column not in frame.columns:
-            found = ", ".join(frame.columns) or "none"
+            f"expected a .csv or .xlsx file, got {suffix or 'no extension'}", file=path
+        )
+    grid = grid.fillna("").astype(str)
+    grid.index = np.arange(1, len(grid) + 1)  # the row numbers a spreadsheet shows
+    filled = (grid.apply(lambda column: column.str.strip()) != "").any(axis=1).to_numpy()
+    if not filled.any():
+        raise InputError(
+            "the file is empty; expected a header row and data rows", file=path, sheet=sheet
+        )
+    header_row = int(np.flatnonzero(filled)[0])
+    names = [str(c).strip().lower() for c in grid.iloc[header_row]]
+    frame = grid.iloc[header_row + 1 :][filled[header_row + 1 :]]
+    frame.columns = pd.Index(names)
+    frame.attrs["sheet"] = sheet
+    wanted = (*required, *optional)
+    for column in wanted:
+        where = [i for i, name in enumerate(names) if name == column]
+        if len(where) > 1:
             raise InputError(
-                f"missing column '{column}'; expected columns "
-                f"{', '.join(required + optional)}, found {found}",
+                f"column '{column}' appears {len(where)} times (column names ignore case: "
+                f"{', '.join(repr(str(grid.iloc[header_row, i]).strip()) for i in where)}); "
+                "expected each column once",
                 file=path,
-                row=1,
+                row=header_row + 1,
+                sheet=sheet,
+            )
+    for column in required:
+        if column not in names:
+            found = ", ".join(n for n in names if n) or "none"
+            raise InputError(
+                f"missing column '{column}'; expected columns {', '.join(wanted)}, found {found}",
+                file=path,
+                row=header_row + 1,
+                sheet=sheet,
             )
     if frame.empty:
-        raise InputError("no data rows below the header", file=path)
-    return frame[[c for c in (*required, *optional) if c in frame.columns]].copy()
+        raise InputError("no data rows below the header", file=path, sheet=sheet)
+    result = frame[[c for c in wanted if c in names]].copy()
+    if sheet is not None:
+        _refuse_unsaved_formulas(path, sheet, result, header_row + 1)
+    return result
+
+
+def _read_csv(path: Path) -> pd.DataFrame:
+    """Every record of a CSV as text, the header too; blank lines kept as empty rows.
+
+    Read with the standard csv module rather than pandas.read_csv: pandas either drops blank
+    lines (and so renumbers the rows after them) or fixes the number of columns from the
+    first line, and the row numbers in messages must match what a spreadsheet shows.
+    """
+    try:
+        with path.open(encoding="utf-8-sig", newline="") as handle:
+            records = list(csv.reader(handle, skipinitialspace=True))
+    except UnicodeDecodeError:
+        raise InputError("expected UTF-8 text", file=path) from None
+    except csv.Error as exc:
+        raise InputError(f"cannot read as CSV ({exc})", file=path) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the file ({exc.strerror or exc})", file=path) from None
+    header = next((r for r in records if any(cell.strip() for cell in r)), [])
+    width = len(header)
+    for number, record in enumerate(records, start=1):
+        if len(record) > width and any(cell.strip() for cell in record[width:]):
+            raise InputError(
+                f"expected at most {width} cells as in the header, found {len(record)}",
+                file=path,
+                row=number,
+            )
+    return pd.DataFrame(
+        [(r + [""] * width)[:width] for r in records], columns=range(width), dtype=object
+    )
+
+
+def _read_workbook(path: Path) -> tuple[pd.DataFrame, str]:
+    """Every row of the first sheet as text (the header too, from spreadsheet row 1), and
+    the sheet's name."""
+    try:
+        with pd.ExcelFile(path, engine="openpyxl") as book:
+            chosen = str(book.sheet_names[0])
+            raw = pd.read_excel(book, sheet_name=chosen, header=None, dtype=object)
+    except zipfile.BadZipFile:
+        raise InputError(
+            "not an .xlsx workbook (an .xlsx file is a zip archive; a CSV file must end in .csv)",
+            file=path,
+        ) from None
+    # A damaged workbook can fail anywhere inside openpyxl with almost any exception type;
+    # all of them mean the same thing to the user, so they are caught together.
+    except Exception as exc:
+        raise InputError(
+            f"cannot read as an .xlsx workbook ({type(exc).__name__}: "
+            f"{' '.join(str(exc).split())[:200]})",
+            file=path,
+        ) from None
+    # With header=None the first row pandas returns is spreadsheet row 1, blank or not.
+    return raw.map(_cell_text), chosen
+
+
+def _refuse_unsaved_formulas(path: Path, sheet: str, frame: pd.DataFrame, header: int) -> None:
+    """A formula cell whose value was never saved reads as empty: say so, not ``got ''``.
+
+    openpyxl reads the value a spreadsheet program cached when it saved the file; a workbook
+    written by a script may hold formulas without values.
+    """
+    empty = frame.apply(lambda column: column.str.strip()) == ""
+    if not empty.to_numpy().any():
+        return
+    import openpyxl
+
+    try:
+        book = openpyxl.load_workbook(path, read_only=True, data_only=False)
+    except Exception:  # already read once; a second failure only loses the better message
+        return
+    try:
+        rows = list(book[sheet].iter_rows(min_row=1, values_only=True))
+    finally:
+        book.close()
+    if not rows:
+        return
+    header_cells = [str(c).strip().lower() if c is not None else "" for c in rows[header - 1]]
+    for row_number, column in zip(*np.nonzero(empty.to_numpy()), strict=True):
+        name = str(frame.columns[column])
+        spreadsheet_row = int(frame.index[row_number])
+        if name not in header_cells or spreadsheet_row > len(rows):
+            continue
+        cell = rows[spreadsheet_row - 1][header_cells.index(name)]
+        if isinstance(cell, str) and cell.startswith("="):
+            raise InputError(
+                f"the cell holds a formula with no saved value ({cell[:60]}); open the file "
+                "in a spreadsheet program and save it, or paste the values",
+                file=path,
+                row=spreadsheet_row,
+                column=name,
+                sheet=sheet,
+            )
 
 
 def _first(mask: pd.Series | np.ndarray) -> int | None:
@@ -114,98 +236,143 @@ def _first(mask: pd.Series | np.ndarray) -> int | None:
     return int(hits[0]) if hits.size else None
 
 
+def _error(
+    frame: pd.DataFrame, path: Path, message: str, position: int | None, column: str | None
+) -> InputError:
+    """An error at the row in ``position`` (0-based among data rows), as the file shows it."""
+    row = int(frame.index[position]) if position is not None else None
+    return InputError(message, file=path, row=row, column=column, sheet=frame.attrs.get("sheet"))
+
+
 def _periods(frame: pd.DataFrame, column: str, frequency: Frequency, path: Path) -> np.ndarray:
     texts = frame[column].str.strip()
     found, ordinal = periods.parse_column(texts)
     if (bad := _first(found.isna())) is not None:
-        raise InputError(
+        raise _error(
+            frame,
+            path,
             f"expected a period like {periods.EXAMPLE[frequency]} (YYYY-MM or YYYY-Qn), "
             f"got {texts.iloc[bad]!r}",
-            file=path,
-            row=bad + _FIRST_DATA_ROW,
-            column=column,
+            bad,
+            column,
         )
     if (bad := _first(found != frequency)) is not None:
-        raise InputError(
+        raise _error(
+            frame,
+            path,
             f"mixed frequencies: expected a {frequency} period like "
             f"{periods.EXAMPLE[frequency]} (the config's frequency), got {texts.iloc[bad]!r}",
-            file=path,
-            row=bad + _FIRST_DATA_ROW,
-            column=column,
+            bad,
+            column,
         )
-    return ordinal.to_numpy(dtype=np.int64)
+    result = ordinal.to_numpy(dtype=np.int64)
+    # pandas ordinals count periods from 1970 (see periods.parse_column).
+    year = 1970 + np.floor_divide(result, periods.PERIODS_PER_YEAR[frequency])
+    if (bad := _first((year < FIRST_YEAR) | (year > LAST_YEAR))) is not None:
+        raise _error(
+            frame,
+            path,
+            f"implausible year: expected a period from {FIRST_YEAR} to {LAST_YEAR}, "
+            f"got {texts.iloc[bad]!r}",
+            bad,
+            column,
+        )
+    return result
 
 
-def _values(frame: pd.DataFrame, column: str, path: Path) -> np.ndarray:
+def _values(
+    frame: pd.DataFrame, column: str, path: Path, max_abs: float = MAX_ABS_VALUE
+) -> np.ndarray:
     texts = frame[column].str.strip()
     numbers = pd.to_numeric(texts, errors="coerce").to_numpy(dtype=float)
     if (bad := _first(~np.isfinite(numbers))) is not None:
-        raise InputError(
+        raise _error(
+            frame,
+            path,
             f"expected a finite number (inflation in percent), got {texts.iloc[bad]!r}",
-            file=path,
-            row=bad + _FIRST_DATA_ROW,
-            column=column,
+            bad,
+            column,
+        )
+    if (bad := _first(np.abs(numbers) > max_abs)) is not None:
+        raise _error(
+            frame,
+            path,
+            f"implausible value {texts.iloc[bad]!r}: expected inflation in percent between "
+            f"{-max_abs:g} and {max_abs:g} (raise [inputs] max_abs_value if it is right)",
+            bad,
+            column,
         )
     return numbers
 
 
-def _duplicates(keys: pd.DataFrame, what: str, path: Path, column: str) -> None:
+def _duplicates(
+    frame: pd.DataFrame, keys: pd.DataFrame, what: str, path: Path, column: str
+) -> None:
     repeated = keys.duplicated(keep="first").to_numpy()
     if (bad := _first(repeated)) is not None:
         same = (keys == keys.iloc[bad]).all(axis=1).to_numpy()
         first = int(np.flatnonzero(same)[0])
-        raise InputError(
-            f"duplicate {what}; the same key is already on row {first + _FIRST_DATA_ROW}",
-            file=path,
-            row=bad + _FIRST_DATA_ROW,
-            column=column,
+        raise _error(
+            frame,
+            path,
+            f"duplicate {what}; the same key is already on row {int(frame.index[first])}",
+            bad,
+            column,
         )
 
 
-def read_forecasts(path: Path, frequency: Frequency, as_of: int) -> Forecasts:
+def read_forecasts(
+    path: Path, frequency: Frequency, as_of: int, max_abs_value: float = MAX_ABS_VALUE
+) -> Forecasts:
     """Read and validate the forecasts table (``origin, period, model, value``).
 
     A file without a ``model`` column holds one already-combined forecast.
 
+    Parameters
+    ----------
+    path, frequency, as_of
+        The file, the config's frequency and the current origin (a period ordinal).
+    max_abs_value
+        The largest plausible absolute value, in percent (``[inputs] max_abs_value``).
+
     Raises
     ------
     InputError
-        Missing column, unparseable period, non-finite value, duplicate (model, origin,
-        period), origin after period, mixed frequencies, or no current-round row.
+        Missing column, unparseable period, a year outside 1800-2200, non-finite or
+        implausible value, duplicate (model, origin, period), origin after period, mixed
+        frequencies, or no current-round row.
     """
     frame = read_table(path, ("origin", "period", "value"), ("model",))
     has_model = "model" in frame.columns
     if has_model:
         names = frame["model"].str.strip()
         if (bad := _first(names == "")) is not None:
-            raise InputError(
-                "expected a model name, got an empty cell",
-                file=path,
-                row=bad + _FIRST_DATA_ROW,
-                column="model",
-            )
+            raise _error(frame, path, "expected a model name, got an empty cell", bad, "model")
     else:
         names = pd.Series("combined", index=frame.index)
     origin = _periods(frame, "origin", frequency, path)
     period = _periods(frame, "period", frequency, path)
-    value = _values(frame, "value", path)
+    value = _values(frame, "value", path, max_abs_value)
     if (bad := _first(origin > period)) is not None:
-        raise InputError(
+        raise _error(
+            frame,
+            path,
             f"origin after period: {frame['origin'].iloc[bad].strip()} is later than "
             f"{frame['period'].iloc[bad].strip()}; expected origin <= period (h >= 0)",
-            file=path,
-            row=bad + _FIRST_DATA_ROW,
-            column="origin",
+            bad,
+            "origin",
         )
     keys = pd.DataFrame({"model": names.to_numpy(), "origin": origin, "period": period})
-    _duplicates(keys, "(model, origin, period)", path, "period")
+    _duplicates(frame, keys, "(model, origin, period)", path, "period")
     if not np.any(origin == as_of):
         latest = periods.label(int(origin.max()), frequency)
-        raise InputError(
+        raise _error(
+            frame,
+            path,
             f"as_of {periods.label(as_of, frequency)} is absent from the forecasts: no row "
             f"has that origin (the current round); the latest origin is {latest}",
-            file=path,
-            column="origin",
+            None,
+            "origin",
         )
     models = tuple(sorted(set(names.tolist())))
     index = {name: i for i, name in enumerate(models)}
@@ -220,19 +387,19 @@ def read_forecasts(path: Path, frequency: Frequency, as_of: int) -> Forecasts:
     )
 
 
-def read_actuals(path: Path, frequency: Frequency) -> Actuals:
+def read_actuals(path: Path, frequency: Frequency, max_abs_value: float = MAX_ABS_VALUE) -> Actuals:
     """Read and validate the outcomes table (``period, value``).
 
     Raises
     ------
     InputError
-        Missing column, unparseable period, mixed frequencies, non-finite value or a
-        duplicate period.
+        Missing column, unparseable period, a year outside 1800-2200, mixed frequencies,
+        non-finite or implausible value (``|value| > max_abs_value``) or a duplicate period.
     """
     frame = read_table(path, ("period", "value"))
     period = _periods(frame, "period", frequency, path)
-    value = _values(frame, "value", path)
-    _duplicates(pd.DataFrame({"period": period}), "period", path, "period")
+    value = _values(frame, "value", path, max_abs_value)
+    _duplicates(frame, pd.DataFrame({"period": period}), "period", path, "period")
     order = np.argsort(period, kind="stable")
     return Actuals(file=path, period=period[order], value=value[order])
 
@@ -245,56 +412,64 @@ class ErrorQuantiles:
     by_horizon: dict[int, tuple[tuple[float, ...], tuple[float, ...]]]
 
 
-def read_error_quantiles(path: Path) -> ErrorQuantiles:
+def read_error_quantiles(path: Path, max_abs_value: float = MAX_ABS_VALUE) -> ErrorQuantiles:
     """Read and validate ``horizon, quantile, value`` (a given error distribution).
 
     Raises
     ------
     InputError
-        Missing column, a horizon that is not a whole number >= 0, a quantile outside
-        (0, 1), a non-finite value, a duplicate (horizon, quantile), fewer than two
-        quantiles for a horizon, or values that do not increase with the quantile.
+        Missing column, a horizon that is not a whole number from 0 to 2400, a quantile
+        outside (0, 1), a non-finite or implausible value (``|value| > max_abs_value``), a
+        duplicate (horizon, quantile), fewer than two quantiles for a horizon, or values
+        that do not increase with the quantile.
     """
     frame = read_table(path, ("horizon", "quantile", "value"))
     horizon_text = frame["horizon"].str.strip()
     horizon = pd.to_numeric(horizon_text, errors="coerce").to_numpy(dtype=float)
-    bad = _first(~np.isfinite(horizon) | (horizon < 0) | (np.mod(horizon, 1) != 0))
+    bad = _first(
+        ~np.isfinite(horizon) | (horizon < 0) | (horizon > MAX_HORIZON) | (np.mod(horizon, 1) != 0)
+    )
     if bad is not None:
-        raise InputError(
-            f"expected a whole number of periods >= 0, got {horizon_text.iloc[bad]!r}",
-            file=path,
-            row=bad + _FIRST_DATA_ROW,
-            column="horizon",
+        raise _error(
+            frame,
+            path,
+            f"expected a whole number of periods from 0 to {MAX_HORIZON}, "
+            f"got {horizon_text.iloc[bad]!r}",
+            bad,
+            "horizon",
         )
     level = _values(frame, "quantile", path)
     if (bad := _first((level <= 0) | (level >= 1))) is not None:
-        raise InputError(
+        raise _error(
+            frame,
+            path,
             f"expected a probability strictly between 0 and 1, got {frame['quantile'].iloc[bad]!r}",
-            file=path,
-            row=bad + _FIRST_DATA_ROW,
-            column="quantile",
+            bad,
+            "quantile",
         )
-    value = _values(frame, "value", path)
+    value = _values(frame, "value", path, max_abs_value)
     keys = pd.DataFrame({"horizon": horizon, "quantile": level})
-    _duplicates(keys, "(horizon, quantile)", path, "quantile")
+    _duplicates(frame, keys, "(horizon, quantile)", path, "quantile")
     by_horizon: dict[int, tuple[tuple[float, ...], tuple[float, ...]]] = {}
     for h in sorted(set(horizon.astype(int).tolist())):
         rows = np.flatnonzero(horizon == h)
         order = rows[np.argsort(level[rows], kind="stable")]
         if order.size < 2:
-            raise InputError(
+            raise _error(
+                frame,
+                path,
                 f"horizon {h} has one quantile; expected at least two",
-                file=path,
-                row=int(order[0]) + _FIRST_DATA_ROW,
-                column="quantile",
+                int(order[0]),
+                "quantile",
             )
         steps = np.diff(value[order])
         if (bad := _first(steps <= 0)) is not None:
-            raise InputError(
+            raise _error(
+                frame,
+                path,
                 f"values must increase with the quantile at horizon {h}",
-                file=path,
-                row=int(order[bad + 1]) + _FIRST_DATA_ROW,
-                column="value",
+                int(order[bad + 1]),
+                "value",
             )
         by_horizon[h] = (tuple(level[order].tolist()), tuple(value[order].tolist()))
     return ErrorQuantiles(file=path, by_horizon=by_horizon)

@@ -470,9 +470,13 @@ def _warn_range(method: str, combo: combination_module.Combination) -> None:
 
 
 def _assess(cfg: Config) -> Assessment:
-    fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
-    act = read_actuals(cfg.actuals, cfg.frequency)
-    given = read_error_quantiles(cfg.error_quantiles) if cfg.error_quantiles else None
+    fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of, cfg.max_abs_value)
+    act = read_actuals(cfg.actuals, cfg.frequency, cfg.max_abs_value)
+    given = (
+        read_error_quantiles(cfg.error_quantiles, cfg.max_abs_value)
+        if cfg.error_quantiles
+        else None
+    )
     _warn_later_outcomes(act, cfg)
     panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
     status = _model_status(fc, cfg)

@@ -45,6 +45,9 @@ _RC: Any = {
     "xtick.color": INK,
     "ytick.color": INK,
     "axes.labelcolor": INK,
+    # Labels carry user text (model names): "$" must not start mathtext, so
+    # "$x$", "a_b", "^" and backslashes print as written instead of failing to parse.
+    "text.parse_math": False,
 }
 
 
