@@ -217,7 +217,12 @@ def _pit_groups(runs: list[HorizonReplay], frequency: Frequency) -> list[dict[st
     return groups
 
 
+MIN_TEST_ROUNDS = 12  # fewer replayed rounds make the calibration tests meaningless
+
+
 def _reliability(runs: list[HorizonReplay], bins: int = 10) -> list[dict[str, Any]]:
+    if not runs:  # too short a track record for any past origin to be replayed
+        return []
     p = np.concatenate([r.probabilities[:, 1] for r in runs])
     o = np.concatenate([(r.category == 1).astype(float) for r in runs])
     which = np.minimum((p * bins).astype(int), bins - 1)
@@ -290,7 +295,7 @@ def summarise(
                 "n": int(r.pit.size),
             }
         )
-        if r.pit.size >= 12:
+        if r.pit.size >= MIN_TEST_ROUNDS:
             if r.h == 0:
                 tests.append(_test_entry("berkowitz", r.h, stats.berkowitz(r.pit)))
             tests.append(_test_entry("knuppel", r.h, stats.knuppel(r.pit, h=r.h + 1, moments=2)))

@@ -11,6 +11,7 @@ from typing import Any
 
 from riskreport import periods, verbal
 from riskreport.assessment import Assessment, HorizonResult
+from riskreport.calibration import MIN_TEST_ROUNDS
 from riskreport.report import formatting as fmt
 
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
@@ -322,6 +323,42 @@ def _calibration_sentence(a: Assessment) -> str:
     )
 
 
+COVERAGE_TOO_NARROW = 0.85  # 90% ranges holding less often than this were too narrow
+COVERAGE_TOO_WIDE = 0.97  # and more often than this, too wide (common practice, no source)
+
+
+def _coverage_lines(a: Assessment, shown: tuple[int, ...]) -> list[str]:
+    """What the replayed 90% ranges say, naming only the horizons that could be checked."""
+    checked = {h: cv for h in shown if (cv := _coverage(a, h, 0.9)) is not None}
+    if not checked:
+        return [
+            "There are too few past rounds to replay the method, so how its 90% ranges held "
+            "cannot be checked."
+        ]
+    narrow = [h for h, cv in checked.items() if cv["observed"] < COVERAGE_TOO_NARROW]
+    wide = [h for h, cv in checked.items() if cv["observed"] > COVERAGE_TOO_WIDE]
+    lines = []
+    if narrow:
+        lines.append(
+            f"The 90% ranges held the outcome clearly less often than 90% at {_join_h(narrow)}: "
+            "past uncertainty at those horizons was larger than the fitted distributions said."
+        )
+    if wide:
+        lines.append(
+            f"The 90% ranges held the outcome more often than 90% at {_join_h(wide)}: "
+            "the fitted distributions there were wider than past errors needed."
+        )
+    fine = [h for h in checked if h not in narrow and h not in wide]
+    if fine:
+        lines.append(
+            f"The 90% ranges held the outcome about as often as they should at {_join_h(fine)}."
+        )
+    unchecked = [h for h in shown if h not in checked]
+    if unchecked:
+        lines.append(f"Too few past rounds to check the ranges at {_join_h(unchecked)}.")
+    return lines
+
+
 def _calibration(
     a: Assessment, shown: tuple[int, ...]
 ) -> tuple[tuple[str, ...], tuple[tuple[str, str, str, str], ...]]:
@@ -343,16 +380,7 @@ def _calibration(
         "from the errors known then and scores the outcome that followed; the judgement "
         "overlay is not replayed."
     ]
-    wide = [h for h in shown if (cv := _coverage(a, h, 0.9)) and cv["observed"] < 0.85]
-    if wide:
-        lines.append(
-            f"The 90% ranges held the outcome clearly less often than 90% at {_join_h(wide)}: "
-            "past uncertainty at those horizons was larger than the fitted distributions said."
-        )
-    else:
-        lines.append(
-            "The 90% ranges held the outcome about as often as they should at the horizons shown."
-        )
+    lines.extend(_coverage_lines(a, shown))
     tests = {(t["name"], t["h"]): t for t in c["tests"]}
     berk = tests.get(("berkowitz", 0))
     if berk:
@@ -361,23 +389,32 @@ def _calibration(
             f"For the nowcast, the Berkowitz test {verdict} well-calibrated, independent PITs "
             f"(p = {fmt.number(berk['pvalue'], 3)})."
         )
-    rejected = [h for h in shown if (t := tests.get(("knuppel", h))) and t["pvalue"] < SIGNIFICANCE]
-    lines.append(
-        "A raw-moment test that allows for the overlap of multi-step errors (Knueppel 2015) "
-        + (
-            f"rejects calibration at {_join_h(rejected)}."
-            if rejected
-            else "does not reject calibration at the horizons shown."
+    run = [h for h in shown if ("knuppel", h) in tests]
+    rejected = [h for h in run if tests[("knuppel", h)]["pvalue"] < SIGNIFICANCE]
+    if run:
+        lines.append(
+            "A raw-moment test that allows for the overlap of multi-step errors (Knueppel 2015) "
+            + (
+                f"rejects calibration at {_join_h(rejected)}."
+                if rejected
+                else f"does not reject calibration at {_join_h(run)}."
+            )
         )
-    )
+    else:
+        lines.append(
+            "The calibration tests were not run: they need at least "
+            f"{MIN_TEST_ROUNDS} replayed rounds at a horizon."
+        )
     skill = {r["h"]: r["skill"] for r in c["rps"]["by_horizon"]}
-    better = [h for h in shown if skill.get(h, -1) > 0]
-    lines.append(
-        "Against a benchmark that always says the historical shares of below, inside and "
-        "above, the ranked probability score is better at "
-        + (_join_h(better) if better else "none of the horizons shown")
-        + "."
-    )
+    scored = [h for h in shown if h in skill]
+    better = [h for h in scored if skill[h] > 0]
+    if scored:
+        lines.append(
+            "Against a benchmark that always says the historical shares of below, inside and "
+            "above, the ranked probability score is better at "
+            + (_join_h(better) if better else f"none of {_join_h(scored)}")
+            + "."
+        )
     return tuple(lines), tuple(rows)
 
 
