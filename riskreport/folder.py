@@ -95,9 +95,8 @@ def _refuse_links(out_dir: Path, name: str) -> None:
     for i in range(1, len(parts) + 1):
         path = out_dir.joinpath(*parts[:i])
         if path.is_symlink():
-            rel = "/".join(parts[:i])
             raise LinkRefused(
-                f"{rel} in {out_dir} is a symbolic link; riskreport does not write "
+                f"is a symbolic link in {out_dir}; riskreport does not write "
                 "through links (remove the link; nothing was written)",
                 file=path,
             )
@@ -177,7 +176,8 @@ def locked(out_dir: Path) -> Iterator[None]:
     timeout = _lock_timeout()
     with environment(key):
         key.mkdir(parents=True, exist_ok=True)
-        _refuse_links(key, LOCK_NAME)
+        for name in (LOCK_NAME, RUNS_NAME, "tables", "charts"):  # fail early, before work
+            _refuse_links(key, name)
         fd = os.open(key / LOCK_NAME, os.O_RDWR | os.O_CREAT | os.O_NOFOLLOW, 0o644)
     try:
         deadline = time.monotonic() + timeout
