@@ -41,7 +41,13 @@ from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from pathlib import Path
 
-from riskreport.errors import EnvironmentFailure, FolderBusy, LinkRefused, OverwriteRefused
+from riskreport.errors import (
+    EnvironmentFailure,
+    FolderBusy,
+    InputError,
+    LinkRefused,
+    OverwriteRefused,
+)
 
 log = logging.getLogger("riskreport")
 
@@ -174,6 +180,8 @@ def locked(out_dir: Path) -> Iterator[None]:
             _held[key] = (fd, count - 1)
         return
     timeout = _lock_timeout()
+    if key.exists() and not key.is_dir():
+        raise InputError(f"expected an output folder, found a file: {key}", file=key)
     with environment(key):
         key.mkdir(parents=True, exist_ok=True)
         for name in (LOCK_NAME, RUNS_NAME, "tables", "charts"):  # fail early, before work
@@ -254,8 +262,6 @@ def check_listed(path: Path) -> None:
     A file with no manifest beside it (e.g. one copied out of an output folder) is
     accepted as it is.
     """
-    from riskreport.errors import InputError
-
     as_of = path.name.removeprefix("assessment-").removesuffix(".json")
     if not (path.parent / manifest_name(as_of)).exists():
         return

@@ -300,3 +300,15 @@ def test_bad_input_into_an_existing_folder_is_recorded(
     assert records[1]["error"] == result.stderr.strip().removeprefix("riskreport: error: ")
     assert records[1]["as_of"] == AS_OF
     assert _round(out) == before
+
+
+def test_an_output_folder_that_is_a_file_is_bad_input(
+    case: Case, run: Callable[..., Result]
+) -> None:
+    config = case.write()
+    out = case.folder / "out"
+    out.write_text("a file, not a folder\n")
+    result = run("build", config, "--out", out)
+    assert result.code == 2, result.stderr
+    assert "expected an output folder" in result.stderr
+    assert out.read_text() == "a file, not a folder\n"
