@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import itertools
 import json
+import logging
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -28,6 +29,8 @@ import numpy as np
 from scipy import stats
 
 from riskreport.errors import InputError
+
+log = logging.getLogger("riskreport")
 
 # Stored per horizon so a later brief can rebuild the shape.
 PERCENTILES = tuple(range(1, 100))
@@ -143,13 +146,34 @@ def decompose(before: Side, now: Side) -> tuple[float, float, float]:
 
 
 def find_previous(directory: Path, as_of: str) -> Path | None:
-    """The latest ``assessment-<as_of>.json`` in ``directory`` earlier than ``as_of``."""
-    if not directory.is_dir():
-        return None
-    earlier = sorted(
-        p for p in directory.glob("assessment-*.json") if p.stem.removeprefix("assessment-") < as_of
-    )
-    return earlier[-1] if earlier else None
+    """The latest ``assessment-<as_of>.json`` in ``directory`` earlier than ``as_of`` that
+    belongs to a complete round (listed in a manifest that matches its files)."""
+    from riskreport import folder
+
+    for earlier in reversed(folder.rounds(directory)):
+        if earlier >= as_of:
+            continue
+        name = f"assessment-{earlier}.json"
+        entries = folder.verified(directory, earlier)
+        if entries is not None and name in entries:
+            return directory / name
+        if entries is None:
+            log.warning(
+                "the round %s in %s is incomplete or altered; not compared", earlier, directory
+            )
+    unlisted = [
+        p.name
+        for p in directory.glob("assessment-*.json")
+        if p.stem.removeprefix("assessment-") < as_of
+    ]
+    if unlisted:
+        log.warning(
+            "%s: no complete round's manifest lists %s (written by an older version, or "
+            "altered); not compared; name it with --previous to compare with it",
+            directory,
+            ", ".join(sorted(unlisted)),
+        )
+    return None
 
 
 def load(path: Path) -> dict[str, Any]:

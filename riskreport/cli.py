@@ -1,13 +1,17 @@
 """The ``riskreport`` command line.
 
-Exit codes: 0 success; 2 bad input, bad config or refused overwrite; 1 internal error.
+Exit codes: 0 success; 2 bad input, bad config, refused overwrite, a symbolic link in the
+output folder or the folder busy beyond the lock wait; 3 environment error (the file system
+refused a write: read-only, full, no permission); 1 internal error.
 Logs go to stderr; ``--json`` prints one machine-readable summary on stdout.
 """
 
 from __future__ import annotations
 
 import argparse
+import contextlib
 import datetime as dt
+import errno
 import hashlib
 import json
 import logging
@@ -20,11 +24,11 @@ from pathlib import Path
 from typing import Any
 
 from riskreport import __version__
-from riskreport.errors import InputError
+from riskreport.errors import EnvironmentFailure, InputError
 
 log = logging.getLogger("riskreport")
 
-EXIT_OK, EXIT_INTERNAL, EXIT_INPUT = 0, 1, 2
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_ENVIRONMENT = 0, 1, 2, 3
 DEMO_PREVIOUS_ROUND = "2026-10"
 
 
@@ -125,46 +129,98 @@ def _headline(assessment: Any) -> dict[str, Any]:
     }
 
 
+def exit_code(exc: BaseException) -> int:
+    """The exit code for an exception: 2 bad input, 3 environment, 1 anything else."""
+    if isinstance(exc, InputError):
+        return EXIT_INPUT
+    if isinstance(exc, EnvironmentFailure | OSError):
+        return EXIT_ENVIRONMENT
+    return EXIT_INTERNAL
+
+
+def one_line(exc: BaseException) -> str:
+    """The one-line message for an exception (as printed on stderr)."""
+    if isinstance(exc, InputError | EnvironmentFailure):
+        return exc.one_line()
+    if isinstance(exc, OSError) and exc.strerror:
+        name = errno.errorcode.get(exc.errno or 0, "")
+        where = f"{exc.filename}: " if exc.filename else ""
+        return f"{where}{exc.strerror}" + (f" ({name})" if name else "")
+    if isinstance(exc, KeyboardInterrupt):
+        return "interrupted"
+    return " ".join(f"{type(exc).__name__}: {exc}".split())
+
+
+def _record_failure(out_dir: Path, record: dict[str, Any], exc: BaseException) -> None:
+    """The one line a failed run writes: its exit status and message in ``runs.jsonl``."""
+    from riskreport import folder
+
+    line = {**record, "outputs": [], "exit_status": exit_code(exc), "error": one_line(exc)}
+    try:
+        folder.append_record(out_dir, line)
+    except (InputError, EnvironmentFailure) as problem:
+        log.warning("the failure was not recorded in runs.jsonl: %s", problem.one_line())
+
+
 def _build(
     config: Path, out: Path | None, as_of: str | None, force: bool, previous: Path | None = None
 ) -> dict[str, Any]:
     from riskreport import config as config_module
-    from riskreport import outputs, pipeline
+    from riskreport import folder, outputs, periods, pipeline
 
-    cfg = config_module.load(config)
-    if as_of is not None:
-        cfg = cfg.with_as_of(as_of)
-    out_dir = (out if out is not None else cfg.output_directory).resolve()
-    assessment = pipeline.assess_config(cfg, previous=previous, search=out_dir)
-    log.info("assessed %s: %d horizons", assessment.as_of, len(assessment.horizons))
+    out_dir = out.resolve() if out is not None else None
     record: dict[str, Any] = {
         "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
-        "as_of": assessment.as_of,
-        "config_sha256": _sha256(cfg.path),
-        "inputs": {i.role: i.sha256 for i in assessment.inputs},
+        "as_of": as_of,
+        "config_sha256": None,
+        "inputs": {},
     }
     try:
-        written = outputs.render(assessment, out_dir, formats=cfg.formats, force=force)
+        cfg = config_module.load(config)
+        if as_of is not None:
+            cfg = cfg.with_as_of(as_of)
+        if out_dir is None:
+            out_dir = cfg.output_directory.resolve()
+        record["as_of"] = periods.label(cfg.as_of, cfg.frequency)
+        record["config_sha256"] = _sha256(cfg.path)
+        # One writer at a time, from reading the previous brief to the run record. A folder
+        # that does not exist yet is made only once the inputs are known to be good.
+        existed = out_dir.is_dir()
+        with folder.locked(out_dir) if existed else contextlib.nullcontext():
+            if previous is not None:
+                folder.check_listed(previous.resolve())
+            assessment = pipeline.assess_config(cfg, previous=previous, search=out_dir)
+        with folder.locked(out_dir):
+            if not existed and previous is None and folder.rounds(out_dir):
+                # Another run made the folder meanwhile: compare with what it wrote.
+                assessment = pipeline.assess_config(cfg, search=out_dir)
+            log.info("assessed %s: %d horizons", assessment.as_of, len(assessment.horizons))
+            record["as_of"] = assessment.as_of
+            record["inputs"] = {i.role: i.sha256 for i in assessment.inputs}
+            files = outputs.files_for(assessment, cfg.formats)
+            written = folder.write_round(out_dir, files, as_of=assessment.as_of, force=force)
+            listed = [
+                {"path": str(p), "sha256": h}
+                for p, h in zip(written.paths, written.sha256, strict=True)
+            ]
+            folder.append_record(
+                out_dir,
+                {
+                    **record,
+                    "outputs": [
+                        {"path": str(p.relative_to(out_dir)), "sha256": h}
+                        for p, h in zip(written.paths, written.sha256, strict=True)
+                    ],
+                    "exit_status": EXIT_OK,
+                },
+            )
     except BaseException as exc:
-        code = EXIT_INPUT if isinstance(exc, InputError) else EXIT_INTERNAL
-        if out_dir.is_dir():
-            outputs.append_run_record(out_dir, {**record, "outputs": [], "exit_status": code})
+        if out_dir is not None and out_dir.is_dir():
+            _record_failure(out_dir, record, exc)
         raise
-    listed = [{"path": str(p), "sha256": _sha256(p)} for p in written]
-    outputs.append_run_record(
-        out_dir,
-        {
-            **record,
-            "outputs": [
-                {"path": str(p.relative_to(out_dir)), "sha256": x["sha256"]}
-                for p, x in zip(written, listed, strict=True)
-            ],
-            "exit_status": 0,
-        },
-    )
-    for p in written:
+    for p in written.paths:
         log.debug("wrote %s", p)
-    pdf = [p for p in written if p.suffix == ".pdf"]
+    pdf = [p for p in written.paths if p.suffix == ".pdf"]
     log.info("brief written to %s", pdf[0] if pdf else out_dir)
     return {
         "status": "ok",
@@ -208,7 +264,7 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
 
 def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) -> dict[str, Any]:
     from riskreport import config as config_module
-    from riskreport import outputs, pipeline
+    from riskreport import folder, outputs, pipeline
     from riskreport.report import tables
 
     cfg = config_module.load(config)
@@ -221,12 +277,15 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
         for name, content in outputs.files_for(assessment, ["csv"]).items()
         if name.startswith(("tables/accuracy-", "tables/tests-", "tables/weights-"))
     }
-    written = outputs.write_all(out_dir, files, force=force)
+    written = folder.write_round(out_dir, files, as_of=assessment.as_of, force=force, replace=False)
     return {
         "status": "ok",
         "as_of": assessment.as_of,
         "summary": tables.track_record_text(assessment),
-        "outputs": [{"path": str(p), "sha256": _sha256(p)} for p in written],
+        "outputs": [
+            {"path": str(p), "sha256": h}
+            for p, h in zip(written.paths, written.sha256, strict=True)
+        ],
         "headline": _headline(assessment),
         "warnings": list(assessment.warnings),
     }
@@ -261,11 +320,10 @@ def _one_config(
         try:
             summary = _build(config, out, as_of, force)
             code = EXIT_OK
-        except InputError as exc:
-            summary, code = {"status": "error", "error": exc.one_line()}, EXIT_INPUT
         except Exception as exc:  # one brief failing must not stop the others
-            detail = traceback.format_exc() if verbose else f"{type(exc).__name__}: {exc}"
-            summary, code = {"status": "error", "error": " ".join(detail.split())}, EXIT_INTERNAL
+            code = exit_code(exc)
+            detail = traceback.format_exc() if verbose and code == EXIT_INTERNAL else one_line(exc)
+            summary = {"status": "error", "error": " ".join(detail.split())}
         if code != EXIT_OK:
             print(
                 f"riskreport: {config.name} {as_of or ''}: error: {summary['error']}",
@@ -334,6 +392,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except InputError as exc:
         print(f"riskreport: error: {exc.one_line()}", file=sys.stderr)
         summary, code = {"status": "error", "error": exc.one_line()}, EXIT_INPUT
+    except (EnvironmentFailure, OSError) as exc:
+        print(f"riskreport: environment error: {one_line(exc)}", file=sys.stderr)
+        summary, code = {"status": "error", "error": one_line(exc)}, EXIT_ENVIRONMENT
     except KeyboardInterrupt:
         print("riskreport: interrupted; no brief was written", file=sys.stderr)
         summary, code = {"status": "error", "error": "interrupted"}, EXIT_INTERNAL

@@ -1,12 +1,13 @@
 """Errors and warnings of riskreport.
 
 Bad input raises :class:`InputError`; the command line turns it into one line on stderr and
-exit code 2. Statistical caveats are warning classes, collected into the assessment's
+exit code 2. A file system that refuses a write raises :class:`EnvironmentFailure` (exit 3). Statistical caveats are warning classes, collected into the assessment's
 ``warnings`` and shown in the brief.
 """
 
 from __future__ import annotations
 
+import errno
 from pathlib import Path
 
 
@@ -62,6 +63,37 @@ class InputError(ValueError):
 
 class OverwriteRefused(InputError):
     """An output for this as_of exists and differs; ``--force`` is needed to replace it."""
+
+
+class LinkRefused(InputError):
+    """A file or folder the output would be written through is a symbolic link."""
+
+
+class FolderBusy(InputError):
+    """Another run holds the output folder's lock longer than the configured wait."""
+
+
+class EnvironmentFailure(RuntimeError):
+    """The file system refused a read or write (read-only, full disk, no permission).
+
+    Parameters
+    ----------
+    path
+        The file or folder concerned.
+    cause
+        The ``OSError`` raised.
+    """
+
+    def __init__(self, path: Path, cause: OSError) -> None:
+        self.path = path
+        self.cause = cause
+        super().__init__(self.one_line())
+
+    def one_line(self) -> str:
+        """The error as one line: the path, the system's reason and the errno name."""
+        code = errno.errorcode.get(self.cause.errno or 0, "")
+        reason = self.cause.strerror or str(self.cause)
+        return f"cannot write {self.path}: {reason}" + (f" ({code})" if code else "")
 
 
 class RiskReportWarning(UserWarning):

@@ -1,9 +1,9 @@
 """Writing a brief's files: all or nothing, never replacing a different file silently.
 
-Every file is first written into a staging folder inside the output directory; only when
-all are made are they renamed into place (a rename within one file system is atomic), so a
-crash leaves no half-written file. An existing output that differs is replaced only with
-``force``; an identical one is left as it is.
+Every file is rendered in memory; :mod:`riskreport.folder` then writes the round under the
+folder's lock, through a staging folder and a manifest written last, so a crash or a
+concurrent run never leaves a mix of two briefs. An existing output that differs is
+replaced only with ``force``; an identical one is left as it is.
 """
 
 from __future__ import annotations
@@ -13,15 +13,12 @@ import hashlib
 import io
 import json
 import logging
-import os
-import shutil
-import tempfile
 from collections.abc import Iterable
 from pathlib import Path
 
+from riskreport import folder
 from riskreport._typing import OUTPUT_FORMATS, OutputFormat
 from riskreport.assessment import Assessment
-from riskreport.errors import OverwriteRefused
 
 log = logging.getLogger("riskreport")
 
@@ -127,47 +124,18 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
     return files
 
 
-def _refuse_overwrites(out_dir: Path, files: dict[str, bytes], force: bool) -> None:
-    if force:
-        return
-    for name, content in files.items():
-        target = out_dir / name
-        if target.exists() and target.read_bytes() != content:
-            raise OverwriteRefused(
-                f"{name} already exists in {out_dir.name}/ with different content; "
-                "use --force to replace it (nothing was written)",
-                file=target,
-            )
-
-
-def write_all(out_dir: Path, files: dict[str, bytes], *, force: bool = False) -> list[Path]:
-    """Write files atomically into ``out_dir``; all or nothing.
+def write_all(
+    out_dir: Path, files: dict[str, bytes], *, as_of: str, force: bool = False
+) -> list[Path]:
+    """Add files to round ``as_of`` in ``out_dir``, all or nothing (see :mod:`riskreport.folder`).
 
     Raises
     ------
     OverwriteRefused
         A file exists with other content and ``force`` is false; nothing is written.
     """
-    out_dir.mkdir(parents=True, exist_ok=True)
-    _refuse_overwrites(out_dir, files, force)
-    staging = Path(tempfile.mkdtemp(prefix=".riskreport-", dir=out_dir))
-    try:
-        for name, content in files.items():
-            path = staging / name
-            path.parent.mkdir(parents=True, exist_ok=True)
-            with path.open("wb") as handle:
-                handle.write(content)
-                handle.flush()
-                os.fsync(handle.fileno())
-        written = []
-        for name in files:
-            target = out_dir / name
-            target.parent.mkdir(parents=True, exist_ok=True)
-            os.replace(staging / name, target)
-            written.append(target)
-        return written
-    finally:
-        shutil.rmtree(staging, ignore_errors=True)
+    written = folder.write_round(out_dir, files, as_of=as_of, force=force, replace=False)
+    return list(written.paths)
 
 
 def render(
@@ -196,14 +164,5 @@ def render(
         The files written.
     """
     files = files_for(assessment, formats)
-    return write_all(Path(out_dir), files, force=force)
-
-
-def append_run_record(out_dir: Path, record: dict[str, object]) -> None:
-    """Append one line to ``runs.jsonl`` (opened in append mode: earlier lines stay)."""
-    out_dir.mkdir(parents=True, exist_ok=True)
-    line = json.dumps(record, ensure_ascii=False, sort_keys=True) + "\n"
-    with (out_dir / "runs.jsonl").open("a", encoding="utf-8") as handle:
-        handle.write(line)
-        handle.flush()
-        os.fsync(handle.fileno())
+    written = folder.write_round(Path(out_dir), files, as_of=assessment.as_of, force=force)
+    return list(written.paths)
