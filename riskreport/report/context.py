@@ -411,8 +411,8 @@ def _calibration(
     if scored:
         lines.append(
             "Against a benchmark that always says the historical shares of below, inside and "
-            "above, the ranked probability score is better at "
-            + (_join_h(better) if better else f"none of {_join_h(scored)}")
+            "above, the ranked probability score is "
+            + (f"better at {_join_h(better)}" if better else f"no better at {_join_h(scored)}")
             + "."
         )
     return tuple(lines), tuple(rows)
