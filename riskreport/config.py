@@ -20,12 +20,14 @@ from riskreport._typing import (
     DISTRIBUTION_CHOICES,
     FREQUENCIES,
     OUTPUT_FORMATS,
+    SPREAD_CHOICES,
     Basis,
     Centre,
     CombinationMethod,
     DistributionChoice,
     Frequency,
     OutputFormat,
+    SpreadChoice,
 )
 from riskreport.errors import InputError
 
@@ -101,6 +103,8 @@ class Config:
     scenarios: tuple[tuple[str, Judgement], ...]
     output_directory: Path
     formats: tuple[OutputFormat, ...]
+    spread: SpreadChoice = "constant"
+    recalibrate: bool = False
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
@@ -140,6 +144,8 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "window",
         "centre",
         "monotone",
+        "spread",
+        "recalibrate",
         "bootstrap_replicates",
         "simulations",
         "seed",
@@ -416,4 +422,6 @@ def load(path: str | Path) -> Config:
         scenarios=_scenarios(path, data.get("scenario"), frequency),
         output_directory=(base / directory).resolve(),
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
+        spread=cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant")),
+        recalibrate=uncertainty.flag("recalibrate", False),
     )
