@@ -77,7 +77,8 @@ def volatility(errors: np.ndarray, smoothing: float) -> np.ndarray:
 
     s(o)^2 = sum_t w_t e_b(t)^2 / sum_t w_t over the known base-horizon errors with outcome
     period t <= o - 1, weights w_t = lambda^(o - 1 - t): the EWMA with the normalisation of
-    pandas' ``ewm(adjust=True, ignore_na=True)`` (so the first values are not biased towards
+    pandas' ``ewm(adjust=True, ignore_na=False)`` (weights decay across missing periods;
+    the first values are not biased towards
     a made-up start). NaN before any base-horizon error is known.
 
     Notes
