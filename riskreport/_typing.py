@@ -13,6 +13,7 @@ Centre = Literal["estimated", "forecast"]
 Family = Literal["normal", "two-piece-normal", "skew-normal", "empirical"]
 SpreadKind = Literal["constant", "ewma"]
 SpreadChoice = Literal["constant", "ewma", "auto"]
+RecalibrationMethod = Literal["tracking", "beta"]
 DistributionChoice = Literal["normal", "two-piece-normal", "skew-normal", "empirical", "auto"]
 CombinationMethod = Literal[
     "equal",
@@ -36,3 +37,4 @@ COMBINATION_METHODS: tuple[CombinationMethod, ...] = get_args(CombinationMethod)
 OUTPUT_FORMATS: tuple[OutputFormat, ...] = get_args(OutputFormat)
 FAMILIES: tuple[Family, ...] = get_args(Family)
 SPREAD_CHOICES: tuple[SpreadChoice, ...] = get_args(SpreadChoice)
+RECALIBRATION_METHODS: tuple[RecalibrationMethod, ...] = get_args(RecalibrationMethod)

@@ -84,18 +84,30 @@ def replays(cfg: Config, panel: Panel, combined: np.ndarray, errors: np.ndarray)
     if cfg.recalibrate:
         raw = [run for (label, _), run in runs.items() if label == graded]
         for run in raw:
-            runs[(recalibration.LABEL, run.h)] = recalibration.apply_to_replay(run)
+            mapped = (
+                recalibration.apply_to_replay(run)
+                if cfg.recalibration == "beta"
+                else recalibration.track_replay(run)
+            )
+            runs[(recalibration.LABEL, run.h)] = mapped
         graded = recalibration.LABEL
     return Replays(runs, candidates, chosen, graded)
 
 
 @dataclass(frozen=True)
 class RecalibrationRow:
-    """One horizon's beta map and the probabilities before and after it."""
+    """One horizon's map and the probabilities before and after it.
+
+    ``method`` is ``beta`` (parameters ``a``, ``b``; NaN for tracking) or ``tracking``
+    (``levels``: the PIT levels now used for the nominal levels ``nominal``).
+    """
 
     h: int
+    method: str
     a: float
     b: float
+    levels: tuple[float, ...]
+    nominal: tuple[float, ...]
     n_pits: int
     p_below_raw: float
     p_inside_raw: float
@@ -114,12 +126,19 @@ def recalibrate(
     dists, rows = [], []
     for h, dist in enumerate(outcome):
         run = result.runs.get((raw_label, h))
-        new = dist
-        beta = recalibration.BetaMap(1.0, 1.0, 0)
-        if run is not None:
+        new: Distribution = dist
+        a = b = float("nan")
+        levels: tuple[float, ...] = ()
+        n = 0 if run is None else int(run.pit.size)
+        if run is not None and cfg.recalibration == "beta":
             beta = recalibration.current_map(run)
-            if (beta.a, beta.b) != (1.0, 1.0):
-                new = recalibration.Recalibrated(dist, beta.a, beta.b)
+            a, b = beta.a, beta.b
+            if (a, b) != (1.0, 1.0):
+                new = recalibration.Recalibrated(dist, a, b)
+        elif run is not None and n >= recalibration.MIN_PITS:
+            u, v = recalibration.current_tracked(run)
+            levels = u[1:-1]
+            new = recalibration.Tracked(dist, u, v)
         band = cfg.band_for(cfg.as_of + h)
         before = probabilities.band_probabilities(dist, band.lower, band.upper)
         after = probabilities.band_probabilities(new, band.lower, band.upper)
@@ -127,9 +146,12 @@ def recalibrate(
         rows.append(
             RecalibrationRow(
                 h,
-                beta.a,
-                beta.b,
-                beta.n,
+                cfg.recalibration,
+                a,
+                b,
+                levels,
+                recalibration.LEVELS if levels else (),
+                n,
                 before.p_below,
                 before.p_inside,
                 before.p_above,
@@ -217,6 +239,8 @@ def sensitivity(
                 candidate == result.selection.current,
             )
         )
+    if any(c.label == result.graded for c in result.candidates):
+        return tuple(rows)  # the graded sequence is one of the rows above
     log_score, coverage = _record_at(result.runs.get((result.graded, h)))
     rows.append(
         SensitivityRow(

@@ -20,6 +20,7 @@ from riskreport._typing import (
     DISTRIBUTION_CHOICES,
     FREQUENCIES,
     OUTPUT_FORMATS,
+    RECALIBRATION_METHODS,
     SPREAD_CHOICES,
     Basis,
     Centre,
@@ -27,6 +28,7 @@ from riskreport._typing import (
     DistributionChoice,
     Frequency,
     OutputFormat,
+    RecalibrationMethod,
     SpreadChoice,
 )
 from riskreport.errors import InputError
@@ -105,6 +107,7 @@ class Config:
     formats: tuple[OutputFormat, ...]
     spread: SpreadChoice = "constant"
     recalibrate: bool = False
+    recalibration: RecalibrationMethod = "tracking"
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
@@ -146,6 +149,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "monotone",
         "spread",
         "recalibrate",
+        "recalibration",
         "bootstrap_replicates",
         "simulations",
         "seed",
@@ -424,4 +428,8 @@ def load(path: str | Path) -> Config:
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
         spread=cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant")),
         recalibrate=uncertainty.flag("recalibrate", False),
+        recalibration=cast(
+            RecalibrationMethod,
+            uncertainty.choice("recalibration", RECALIBRATION_METHODS, "tracking"),
+        ),
     )

@@ -306,7 +306,6 @@ def _adjustments(
     replayed: adjustments_module.Replays,
     errors: np.ndarray,
     margins: uncertainty.Margins,
-    raw_outcome: tuple[Distribution, ...],
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...],
     panel: panel_module.Panel,
     given: ErrorQuantiles | None,
@@ -413,7 +412,6 @@ def _assess(cfg: Config) -> Assessment:
     margins = uncertainty.build(
         cfg, errors, point, given, family=family, choice=choice, spread=today.spread
     )
-    raw_outcome = margins.outcome
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
     if cfg.recalibrate:
         outcome, recalibrated = adjustments_module.recalibrate(cfg, replayed, margins.outcome)
@@ -478,9 +476,7 @@ def _assess(cfg: Config) -> Assessment:
         inputs=_input_records(cfg, fc, act, given),
         software=_software(),
         warnings=(),
-        adjustments=_adjustments(
-            cfg, replayed, errors, margins, raw_outcome, recalibrated, panel, given
-        ),
+        adjustments=_adjustments(cfg, replayed, errors, margins, recalibrated, panel, given),
     )
 
 

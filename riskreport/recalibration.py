@@ -154,3 +154,129 @@ class Recalibrated:
     def rvs(self, n: int, rng: np.random.Generator) -> np.ndarray:
         """``n`` draws by inversion."""
         return self.ppf(rng.random(n))
+
+
+# --- online quantile tracking ----------------------------------------------------------
+
+LEVELS: tuple[float, ...] = (0.05, 0.25, 0.5, 0.75, 0.95)
+# Step of the level updates; Gibbs & Candes (2021, NeurIPS 34) use steps of this order
+# (0.005 in their experiments, recalled from memory); 0.01 is common practice, no source.
+STEP = 0.01
+EDGE = 1e-3  # adjusted levels are kept in [EDGE, 1 - EDGE] and this far apart
+
+
+def tracking_levels(run: HorizonReplay, *, step: float = STEP) -> tuple[np.ndarray, np.ndarray]:
+    """Adaptive levels (Gibbs & Candes 2021, adaptive conformal inference, applied to each
+    level of a grid at once) used at every evaluation origin of ``run``, and today's.
+
+    For each nominal level tau, the PIT level alpha used for the tau-quantile moves after
+    each outcome becomes known: alpha <- alpha + step (tau - 1{PIT <= alpha_used}), with
+    alpha_used the level that forecast was made with. The feedback of the forecast of
+    origin o' arrives when its outcome o' + h is known (origins after o' + h), as with
+    delayed feedback in Zaffran et al. (2022, ICML). A loop over origins (sequential by
+    nature), vectorised over the levels.
+    """
+    tau = np.asarray(LEVELS)
+    n = run.origins.size
+    outcome = run.origins + run.h
+    used = np.empty((n, tau.size))
+    alpha = tau.copy()
+    k = 0
+    for i in range(n):
+        while k < i and outcome[k] <= run.origins[i] - 1:
+            alpha = alpha + step * (tau - (run.pit[k] <= used[k]))
+            k += 1
+        used[i] = alpha
+    for j in range(k, n):
+        alpha = alpha + step * (tau - (run.pit[j] <= used[j]))
+    return used, alpha
+
+
+def _knots(alpha: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Monotone knots (u, v) of the piecewise-linear map G with G(alpha_k) = tau_k."""
+    a = np.clip(np.atleast_2d(alpha), EDGE, 1 - EDGE)
+    step = EDGE * np.arange(a.shape[1])
+    a = np.maximum.accumulate(np.sort(a, axis=1) - step, axis=1) + step  # strictly increasing
+    a = np.minimum(a, 1 - EDGE * (a.shape[1] - np.arange(a.shape[1])))
+    rows = a.shape[0]
+    u = np.column_stack([np.zeros(rows), a, np.ones(rows)])
+    v = np.broadcast_to(np.concatenate([[0.0], LEVELS, [1.0]]), u.shape)
+    return u, v
+
+
+def _piecewise(x: np.ndarray, u: np.ndarray, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Row-wise G(x) and its slope for piecewise-linear knots (u, v)."""
+    x = np.clip(x, 0.0, 1.0)
+    seg = np.clip(np.sum(u[:, 1:-1] <= x[:, None], axis=1), 0, u.shape[1] - 2)
+    rows = np.arange(x.size)
+    u0, u1, v0, v1 = u[rows, seg], u[rows, seg + 1], v[rows, seg], v[rows, seg + 1]
+    slope = (v1 - v0) / (u1 - u0)
+    return v0 + slope * (x - u0), slope
+
+
+def track_replay(run: HorizonReplay) -> HorizonReplay:
+    """The replay of the tracked forecasts: each origin's levels learned from its past."""
+    used, _ = tracking_levels(run)
+    u, v = _knots(used)
+    g_lower, _ = _piecewise(run.probabilities[:, 0], u, v)
+    g_upper, _ = _piecewise(run.probabilities[:, 0] + run.probabilities[:, 1], u, v)
+    pit, slope = _piecewise(run.pit, u, v)
+    return replace(
+        run,
+        family=LABEL,
+        pit=pit,
+        probabilities=np.column_stack([g_lower, g_upper - g_lower, 1 - g_upper]),
+        log_score=np.maximum(run.log_score + np.log(slope), -50.0),
+        crps=np.full(run.pit.size, np.nan),
+    )
+
+
+@dataclass(frozen=True)
+class Tracked:
+    """A distribution with its CDF passed through a piecewise-linear increasing map G of
+    [0, 1] (knots ``u`` -> ``v``): G(F(x)), a coherent CDF."""
+
+    base: Distribution
+    u: tuple[float, ...]
+    v: tuple[float, ...]
+
+    @property
+    def family(self) -> str:
+        """The family of the base distribution."""
+        return self.base.family
+
+    @property
+    def mode(self) -> float:
+        """The base distribution's mode."""
+        return self.base.mode
+
+    def with_base(self, base: Distribution) -> Tracked:
+        """The same map on another base."""
+        return Tracked(base, self.u, self.v)
+
+    def cdf(self, x: ArrayLike) -> np.ndarray:
+        """G(F(x))."""
+        return np.asarray(np.interp(self.base.cdf(x), self.u, self.v))
+
+    def logpdf(self, x: ArrayLike) -> np.ndarray:
+        """log G'(F(x)) + log f(x)."""
+        f = np.clip(np.asarray(self.base.cdf(x), dtype=float), 0.0, 1.0)
+        u, v = np.asarray(self.u), np.asarray(self.v)
+        seg = np.clip(np.searchsorted(u, f, side="right") - 1, 0, u.size - 2)
+        slope = (v[seg + 1] - v[seg]) / (u[seg + 1] - u[seg])
+        return np.asarray(np.log(slope) + self.base.logpdf(x))
+
+    def ppf(self, q: ArrayLike) -> np.ndarray:
+        """F^-1(G^-1(q))."""
+        return self.base.ppf(np.interp(np.asarray(q, dtype=float), self.v, self.u))
+
+    def rvs(self, n: int, rng: np.random.Generator) -> np.ndarray:
+        """``n`` draws by inversion."""
+        return self.ppf(rng.random(n))
+
+
+def current_tracked(run: HorizonReplay) -> tuple[tuple[float, ...], tuple[float, ...]]:
+    """Today's knots (u, v) at this horizon."""
+    _, alpha = tracking_levels(run)
+    u, v = _knots(alpha)
+    return tuple(float(x) for x in u[0]), tuple(float(x) for x in v[0])

@@ -4,6 +4,7 @@ in a world whose error law is constant."""
 from __future__ import annotations
 
 import dataclasses
+import json
 from pathlib import Path
 
 import numpy as np
@@ -90,6 +91,9 @@ def test_future_outcome_changes_no_past_choice_or_map(tmp_path: Path) -> None:
         m1, m2 = recalibration.replay_maps(r1), recalibration.replay_maps(r2)
         for x, y in zip(m1, m2, strict=True):
             np.testing.assert_array_equal(x[past], y[past])
+        np.testing.assert_array_equal(
+            recalibration.tracking_levels(r1)[0][past], recalibration.tracking_levels(r2)[0][past]
+        )
         scored = r1.origins + h < late  # forecasts scored on earlier outcomes
         np.testing.assert_array_equal(
             first.runs[("auto, recalibrated", h)].pit[scored],
@@ -153,3 +157,22 @@ def test_constant_error_law_is_left_essentially_unchanged(tmp_path: Path) -> Non
         p0, p1 = base.horizon_result(h), new.horizon_result(h)
         assert kept or abs(p1.p_inside - p0.p_inside) <= 0.02
         assert kept or abs(p1.p_below - p0.p_below) <= 0.02
+
+
+def test_raw_and_recalibrated_probabilities_are_both_reported(tmp_path: Path) -> None:
+    errors = _garch_errors(200, 0.9, 4)
+    path = constant_forecast_world(tmp_path, errors, horizons=1, window=120)
+    cfg = dataclasses.replace(config.load(path), spread="auto", recalibrate=True)
+    result = assess_config(cfg, search=tmp_path / "none")
+    adj = result.adjustments
+    assert adj is not None
+    assert adj.recalibrate
+    assert result.calibration["distribution"] == "auto, recalibrated"
+    for row in adj.recalibration:
+        model = result.horizon_result(row.h, model_based=True)
+        assert model.p_inside == pytest.approx(row.p_inside, abs=1e-9)
+        assert row.p_below + row.p_inside + row.p_above == pytest.approx(1.0)
+        assert row.p_below_raw + row.p_inside_raw + row.p_above_raw == pytest.approx(1.0)
+    record = json.loads(result.to_json())["adjustments"]
+    assert {"p_inside_raw", "p_inside", "a", "b"} <= set(record["recalibration"][0])
+    assert record["sensitivity"][-1]["method"] == "auto, recalibrated"
