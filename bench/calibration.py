@@ -9,8 +9,8 @@ Two histories:
    of the last four quarters), combined with equal weights, horizons 0-8.
 2. The invented demo scenario.
 
-For each: the constant normal law; ``auto`` with the spread chosen prequentially; and the
-same with the beta recalibration. Printed per horizon group: the mean |coverage - nominal|
+For each: the constant normal law; ``auto`` with the family and spread chosen
+prequentially; and the same with each recalibration (online quantile tracking, beta map). Printed per horizon group: the mean |coverage - nominal|
 of the 50% and 90% ranges and the mean log score, and their averages over horizons.
 Targets (issue "Calibrated by construction"): 90% gap <= 0.03 and 50% gap <= 0.04 on
 average over horizons, log score better than the constant normal in every group.
@@ -31,7 +31,19 @@ ROOT = Path(__file__).resolve().parents[1]
 VARIANTS = (
     ("constant normal", {"distribution": "normal", "spread": "constant", "recalibrate": False}),
     ("auto", {"distribution": "auto", "spread": "auto", "recalibrate": False}),
-    ("auto + recalibration", {"distribution": "auto", "spread": "auto", "recalibrate": True}),
+    (
+        "auto + tracking",
+        {
+            "distribution": "auto",
+            "spread": "auto",
+            "recalibrate": True,
+            "recalibration": "tracking",
+        },
+    ),
+    (
+        "auto + beta map",
+        {"distribution": "auto", "spread": "auto", "recalibrate": True, "recalibration": "beta"},
+    ),
 )
 
 
