@@ -21,6 +21,7 @@ from riskreport import (
     prequential,
     recalibration,
 )
+from riskreport.errors import InputError
 from riskreport.inputs import read_actuals, read_forecasts
 from riskreport.pipeline import assess_config
 from riskreport.track_record import error_matrix
@@ -185,3 +186,12 @@ def test_raw_and_recalibrated_probabilities_are_both_reported(tmp_path: Path) ->
     record = json.loads(result.to_json())["adjustments"]
     assert {"p_inside_raw", "p_inside", "a", "b"} <= set(record["recalibration"][0])
     assert record["sensitivity"][-1]["method"] == "auto, recalibrated"
+
+
+def test_unknown_spread_option_is_refused_with_the_key_named(tmp_path: Path) -> None:
+    path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1)
+    path.write_text(
+        path.read_text().replace("[uncertainty]\n", '[uncertainty]\nspread = "garch"\n')
+    )
+    with pytest.raises(InputError, match="spread"):
+        config.load(path)
