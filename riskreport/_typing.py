@@ -11,6 +11,9 @@ Frequency = Literal["monthly", "quarterly"]
 Basis = Literal["period", "calendar-year-average", "year-end"]
 Centre = Literal["estimated", "forecast"]
 Family = Literal["normal", "two-piece-normal", "skew-normal", "empirical"]
+SpreadKind = Literal["constant", "ewma"]
+SpreadChoice = Literal["constant", "ewma", "auto"]
+RecalibrationMethod = Literal["tracking", "beta"]
 DistributionChoice = Literal["normal", "two-piece-normal", "skew-normal", "empirical", "auto"]
 CombinationMethod = Literal[
     "equal",
@@ -33,3 +36,5 @@ DISTRIBUTION_CHOICES: tuple[DistributionChoice, ...] = get_args(DistributionChoi
 COMBINATION_METHODS: tuple[CombinationMethod, ...] = get_args(CombinationMethod)
 OUTPUT_FORMATS: tuple[OutputFormat, ...] = get_args(OutputFormat)
 FAMILIES: tuple[Family, ...] = get_args(Family)
+SPREAD_CHOICES: tuple[SpreadChoice, ...] = get_args(SpreadChoice)
+RECALIBRATION_METHODS: tuple[RecalibrationMethod, ...] = get_args(RecalibrationMethod)

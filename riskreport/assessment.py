@@ -12,6 +12,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+from riskreport.adjustments import Adjustments
 from riskreport.overlay import AppliedJudgement
 from riskreport.track_record import AccuracyRow, TestRow
 
@@ -148,6 +149,7 @@ class Assessment:
     inputs: tuple[InputRecord, ...]
     software: dict[str, str]
     warnings: tuple[str, ...]
+    adjustments: Adjustments | None = None
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after the overlay unless ``model_based``)."""

@@ -10,6 +10,7 @@ replayed (past overlays are not on record); the replay judges the model-based me
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -48,12 +49,18 @@ class HorizonReplay:
     crps: np.ndarray
 
 
-def training(errors: np.ndarray, h: int, window: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def training(
+    errors: np.ndarray, h: int, window: int, *, values: np.ndarray | None = None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Evaluation origins, their training samples (NaN padded) and test errors at horizon h.
 
     e(o', h) may train the fit at origin j only if its outcome period o' + h came before j.
+    ``values`` (same shape as ``errors``), when given, fills the training samples instead of
+    the errors themselves (the standardised errors of a time-varying spread), on the same
+    origins and windows.
     """
     column = errors[:, h]
+    source = column if values is None else values[:, h]
     known = np.flatnonzero(np.isfinite(column))
     # Position of the last usable training error for each candidate origin.
     usable = np.searchsorted(known, known - h - 1, side="right")
@@ -63,8 +70,8 @@ def training(errors: np.ndarray, h: int, window: int) -> tuple[np.ndarray, np.nd
     matrix = np.full((tests.size, max(width, 1)), np.nan)
     for row, end in enumerate(ends):
         start = max(0, end - width)
-        values = column[known[start:end]]
-        matrix[row, : values.size] = values
+        sample = source[known[start:end]]
+        matrix[row, : sample.size] = sample
     return tests, matrix, column[tests]
 
 
@@ -142,8 +149,25 @@ def horizon_data(
     )
 
 
-def replay_horizon(family: Family, data: HorizonData, *, mode: float | None) -> HorizonReplay:
-    """Replay one family at one horizon."""
+def replay_horizon(
+    family: Family,
+    data: HorizonData,
+    *,
+    mode: float | None,
+    scale: np.ndarray | None = None,
+    label: str | None = None,
+) -> HorizonReplay:
+    """Replay one family at one horizon.
+
+    With ``scale`` (one volatility per evaluation origin; ``data.train`` then holds
+    standardised errors), the law at each origin is the fitted one times its volatility:
+    PIT and band probabilities use the error divided by it, the log score subtracts its log
+    and the CRPS is multiplied by it (both scores are equivariant under scaling).
+    """
+    if scale is not None:
+        data = dataclasses.replace(
+            data, test=data.test / scale, lower=data.lower / scale, upper=data.upper / scale
+        )
     parts: list[tuple[np.ndarray, ...]] = []
     # Fixed-size chunks of origins keep the batched arrays in cache: cost stays linear.
     for start in range(0, data.tests.size, CHUNK):
@@ -160,8 +184,10 @@ def replay_horizon(family: Family, data: HorizonData, *, mode: float | None) -> 
             )
         )
     probabilities, pit, logs, crps = (np.concatenate(p) for p in zip(*parts, strict=True))
+    if scale is not None:
+        logs, crps = logs - np.log(scale), crps * scale
     return HorizonReplay(
-        family=family,
+        family=label or family,
         h=data.h,
         origins=data.tests,
         pit=np.clip(pit, 0.0, 1.0),

@@ -20,12 +20,16 @@ from riskreport._typing import (
     DISTRIBUTION_CHOICES,
     FREQUENCIES,
     OUTPUT_FORMATS,
+    RECALIBRATION_METHODS,
+    SPREAD_CHOICES,
     Basis,
     Centre,
     CombinationMethod,
     DistributionChoice,
     Frequency,
     OutputFormat,
+    RecalibrationMethod,
+    SpreadChoice,
 )
 from riskreport.combination import SHRINKAGE, SHRINKAGE_BOUNDS
 from riskreport.errors import InputError
@@ -113,6 +117,9 @@ class Config:
     formats: tuple[OutputFormat, ...]
     combination_shrinkage: float = SHRINKAGE
     max_abs_value: float = MAX_ABS_VALUE
+    spread: SpreadChoice = "constant"
+    recalibrate: bool = False
+    recalibration: RecalibrationMethod = "tracking"
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
@@ -156,6 +163,9 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "window",
         "centre",
         "monotone",
+        "spread",
+        "recalibrate",
+        "recalibration",
         "bootstrap_replicates",
         "simulations",
         "seed",
@@ -465,6 +475,12 @@ def load(path: str | Path) -> Config:
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
         combination_shrinkage=shrinkage,
         max_abs_value=bound,
+        spread=cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant")),
+        recalibrate=uncertainty.flag("recalibrate", False),
+        recalibration=cast(
+            RecalibrationMethod,
+            uncertainty.choice("recalibration", RECALIBRATION_METHODS, "tracking"),
+        ),
     )
 
 

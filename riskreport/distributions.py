@@ -372,6 +372,9 @@ def rebase(dist: Distribution, base: Distribution) -> Distribution:
         return Adjusted(rebase(dist.base, base), shift=dist.shift, scale=dist.scale)
     if isinstance(dist, Tilted):
         return Tilted(rebase(dist.base, base), tilt=dist.tilt)
+    with_base = getattr(dist, "with_base", None)  # any other map that carries its base
+    if with_base is not None:
+        return with_base(rebase(dist.base, base))  # type: ignore[attr-defined]
     return base
 
 

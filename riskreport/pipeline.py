@@ -12,17 +12,24 @@ import platform
 import warnings
 from importlib import metadata
 from pathlib import Path
-from typing import cast
 
 import numpy as np
 
+from riskreport import adjustments as adjustments_module
 from riskreport import annual as annual_module
-from riskreport import calibration, overlay, periods, probabilities, selection, uncertainty
+from riskreport import (
+    calibration,
+    dynamics,
+    overlay,
+    periods,
+    probabilities,
+    selection,
+    uncertainty,
+)
 from riskreport import change as change_module
 from riskreport import combination as combination_module
 from riskreport import config as config_module
 from riskreport import panel as panel_module
-from riskreport._typing import Family
 from riskreport.assessment import (
     Assessment,
     BasisResult,
@@ -412,6 +419,43 @@ def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> dict[str, 
     return record
 
 
+def _adjustments(
+    cfg: Config,
+    replayed: adjustments_module.Replays,
+    errors: np.ndarray,
+    margins: uncertainty.Margins,
+    recalibrated: tuple[adjustments_module.RecalibrationRow, ...],
+    panel: panel_module.Panel,
+    given: ErrorQuantiles | None,
+) -> adjustments_module.Adjustments:
+    chosen = replayed.selection
+    band = cfg.band_for(cfg.as_of + cfg.policy_horizon)
+    headline = probabilities.band_probabilities(
+        margins.outcome[cfg.policy_horizon], band.lower, band.upper
+    ).p_inside
+    label = periods.label
+    return adjustments_module.Adjustments(
+        spread_option=cfg.spread,
+        spread=chosen.current.spread.label,
+        volatility=dynamics.current(errors[:, : cfg.horizons + 1], chosen.current.spread),
+        method=chosen.current.label,
+        runner_up=chosen.runner_up.label if chosen.runner_up else None,
+        graded=replayed.graded,
+        choices=tuple(
+            adjustments_module.MethodSpell(
+                label(int(panel.origins[s.first_origin]), cfg.frequency),
+                label(int(panel.origins[s.last_origin]), cfg.frequency),
+                s.candidate,
+            )
+            for s in chosen.spells
+        ),
+        recalibrate=cfg.recalibrate,
+        recalibration=recalibrated,
+        verdict=adjustments_module.verdict(replayed),
+        sensitivity=adjustments_module.sensitivity(cfg, replayed, errors, margins.point, headline),
+    )
+
+
 def assess_config(
     cfg: Config, *, previous: Path | None = None, search: Path | None = None
 ) -> Assessment:
@@ -510,19 +554,26 @@ def _assess(cfg: Config) -> Assessment:
             column="period",
         )
     errors = error_matrix(combo.combined, panel.outcomes)
-    mode = 0.0 if cfg.centre == "forecast" else None
-    runs = calibration.replay(
-        panel,
-        combo.combined,
-        errors,
-        cfg.horizons,
-        window=cfg.window,
-        mode=mode,
-        band_for=cfg.band_for,
+    replayed = adjustments_module.replays(cfg, panel, combo.combined, errors)
+    runs = replayed.runs
+    today = replayed.selection.current
+    choice = (
+        selection.Selection(
+            today.family,
+            replayed.selection.runner_up.family if replayed.selection.runner_up else None,
+            adjustments_module.family_totals(replayed),
+        )
+        if cfg.distribution == "auto"
+        else None
     )
-    choice = selection.select(runs) if cfg.distribution == "auto" else None
-    family = choice.chosen if choice is not None else cast(Family, cfg.distribution)
-    margins = uncertainty.build(cfg, errors, point, given, family=family, choice=choice)
+    family = today.family
+    margins = uncertainty.build(
+        cfg, errors, point, given, family=family, choice=choice, spread=today.spread
+    )
+    recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
+    if cfg.recalibrate:
+        outcome, recalibrated = adjustments_module.recalibrate(cfg, replayed, margins.outcome)
+        margins = dataclasses.replace(margins, outcome=outcome)
     ordinals = [cfg.as_of + h for h in range(cfg.horizons + 1)]
     final, applied = overlay.apply(
         list(margins.outcome),
@@ -581,13 +632,14 @@ def _assess(cfg: Config) -> Assessment:
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,
-        calibration=calibration.summarise(runs, family, cfg.frequency),
+        calibration=calibration.summarise(runs, replayed.graded, cfg.frequency),
         uncertainty=_uncertainty_record(cfg, margins),
         history=_history(act, cfg),
         change=None,
         inputs=_input_records(cfg, fc, act, given),
         software=_software(),
         warnings=(),
+        adjustments=_adjustments(cfg, replayed, errors, margins, recalibrated, panel, given),
     )
 
 

@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from riskreport import distributions, periods, selection
+from riskreport import distributions, dynamics, periods, selection
 from riskreport._typing import Family
 from riskreport.config import Config
 from riskreport.distributions import Distribution
@@ -81,6 +81,19 @@ def _borrow(columns: list[np.ndarray], h: int, minimum: int) -> tuple[np.ndarray
     return np.concatenate(pooled), used
 
 
+def _standardised(errors: np.ndarray, spread: dynamics.SpreadOption) -> tuple[np.ndarray, float]:
+    """The errors standardised by their origin's volatility, and today's volatility."""
+    z, _ = dynamics.standardise(errors, spread)
+    return z, dynamics.current(errors, spread)
+
+
+def _rescaled(fitted: Distribution, scale: float) -> Distribution:
+    """The law of ``scale`` times a variable with law ``fitted`` (scaled about zero)."""
+    if scale == 1.0:
+        return fitted
+    return distributions.Adjusted(fitted, shift=(scale - 1.0) * float(fitted.mode), scale=scale)
+
+
 def _fit(family: Family, sample: np.ndarray, mode: float | None, h: int) -> Distribution:
     try:
         return distributions.fit(family, sample, mode=mode)
@@ -120,8 +133,13 @@ def build(
     *,
     family: Family,
     choice: selection.Selection | None = None,
+    spread: dynamics.SpreadOption = dynamics.CONSTANT,
 ) -> Margins:
     """Fit every reported horizon's error distribution and form the outcome distributions.
+
+    With a time-varying ``spread``, the law is fitted to the standardised errors and
+    rescaled by today's volatility (:mod:`riskreport.dynamics`); ``samples`` then hold the
+    standardised errors.
 
     Raises
     ------
@@ -130,7 +148,7 @@ def build(
         distribution.
     """
     mode = 0.0 if cfg.centre == "forecast" else None
-    errors = errors[:, : cfg.horizons + 1]
+    errors, today = _standardised(errors[:, : cfg.horizons + 1], spread)
     mask = window_mask(errors, cfg.window)
     columns = [errors[mask[:, h], h] for h in range(cfg.horizons + 1)]
     given_h = given.by_horizon if given is not None else {}
@@ -162,13 +180,13 @@ def build(
         if used:
             thin.append(f"{h} (from h = {', '.join(map(str, used))})")
         fitted = _fit(family, sample, mode, h)
-        samples.append(sample)
+        samples.append(sample[np.isfinite(sample)])
         own.append(int(columns[h].size))
         families.append(fitted.family)
         sources.append(
             "track record" + (f", borrowing from h = {', '.join(map(str, used))}" if used else "")
         )
-        fits.append(fitted)
+        fits.append(_rescaled(fitted, today))
     small = [
         h for h in range(cfg.horizons + 1) if h not in given_h and columns[h].size < SMALL_SAMPLE
     ]

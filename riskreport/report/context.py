@@ -12,6 +12,7 @@ from typing import Any
 from riskreport import periods, verbal
 from riskreport.assessment import Assessment, HorizonResult
 from riskreport.calibration import MIN_TEST_ROUNDS
+from riskreport.report import adjustment_words
 from riskreport.report import formatting as fmt
 
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
@@ -175,6 +176,9 @@ class BriefContext:
     samples: tuple[KeyValue, ...]
     warnings: tuple[str, ...]
     software: str
+    adjustment_text: tuple[str, ...] = ()
+    sensitivity_rows: tuple[adjustment_words.SensitivityLine, ...] = ()
+    sensitivity_caption: str = ""
 
 
 def band_label(band: tuple[float, float]) -> str:
@@ -967,4 +971,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         ),
         warnings=a.warnings,
         software=", ".join(f"{k} {v}" for k, v in a.software.items()),
+        adjustment_text=adjustment_words.adjustment_text(a),
+        sensitivity_rows=adjustment_words.sensitivity_lines(a),
+        sensitivity_caption=adjustment_words.sensitivity_caption(a),
     )

@@ -1,0 +1,361 @@
+"""The calibration adjustments of a round: which method the replay chose at each origin,
+whether the probabilities were recalibrated, what the replay says of the result, and how
+much the choice matters (the sensitivity panel).
+
+The replay graded here is the method as it would have been run: the candidate chosen at
+each past origin from the scores known then (:mod:`riskreport.prequential`), then, with
+``recalibrate = true``, the beta map learned from the PITs known then
+(:mod:`riskreport.recalibration`).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import warnings
+from dataclasses import dataclass
+
+import numpy as np
+
+from riskreport import calibration, dynamics, prequential, probabilities, recalibration
+from riskreport._typing import FAMILIES
+from riskreport.calibration import HorizonReplay
+from riskreport.config import Config
+from riskreport.distributions import Distribution
+from riskreport.inputs import ErrorQuantiles
+from riskreport.panel import Panel
+from riskreport.prequential import Candidate, PrequentialSelection
+
+NEAR = 0.05  # |coverage - nominal| the brief calls "near nominal" (common practice, no source)
+
+
+@dataclass(frozen=True)
+class Replays:
+    """Every replay of a round and the choices made in it.
+
+    Attributes
+    ----------
+    runs
+        (label, h) -> replay: every candidate, plus ``auto`` (the selected sequence) and
+        ``auto, recalibrated`` when made.
+    candidates
+        The candidates ``auto`` chose among (only the configured family when fixed).
+    selection
+        The prequential selection over them.
+    graded
+        The label whose calibration the brief reports.
+    """
+
+    runs: dict[tuple[str, int], HorizonReplay]
+    candidates: tuple[Candidate, ...]
+    selection: PrequentialSelection
+    graded: str
+
+
+def replays(cfg: Config, panel: Panel, combined: np.ndarray, errors: np.ndarray) -> Replays:
+    """Replay every family under every configured spread option, select prequentially and,
+    when asked, recalibrate out of sample."""
+    spreads = dynamics.options(cfg.spread)
+    # The constant spread is always replayed: it is the baseline of the verdict.
+    every = tuple(dict.fromkeys((dynamics.CONSTANT, *spreads)))
+    replayed = tuple(
+        Candidate(f, s)
+        for s in every
+        for f in FAMILIES
+        if s.smoothing is None or f in dynamics.FAMILIES
+    )
+    allowed = FAMILIES if cfg.distribution == "auto" else (cfg.distribution,)
+    candidates = tuple(c for c in replayed if c.family in allowed and c.spread in spreads)
+    runs = prequential.replay(
+        panel,
+        combined,
+        errors,
+        cfg.horizons,
+        window=cfg.window,
+        mode=0.0 if cfg.centre == "forecast" else None,
+        band_for=cfg.band_for,
+        candidates=replayed,
+    )
+    chosen = prequential.select(runs, candidates, panel.origins.size)
+    graded = candidates[0].label
+    if len(candidates) > 1:
+        for h, run in prequential.selected_sequence(runs, chosen).items():
+            runs[(prequential.SELECTED, h)] = run
+        graded = prequential.SELECTED
+    if cfg.recalibrate:
+        raw = [run for (label, _), run in runs.items() if label == graded]
+        for run in raw:
+            mapped = (
+                recalibration.apply_to_replay(run)
+                if cfg.recalibration == "beta"
+                else recalibration.track_replay(run)
+            )
+            runs[(recalibration.LABEL, run.h)] = mapped
+        graded = recalibration.LABEL
+    return Replays(runs, candidates, chosen, graded)
+
+
+@dataclass(frozen=True)
+class RecalibrationRow:
+    """One horizon's map and the probabilities before and after it.
+
+    ``method`` is ``beta`` (parameters ``a``, ``b``; NaN for tracking) or ``tracking``
+    (``levels``: the PIT levels now used for the nominal levels ``nominal``).
+    """
+
+    h: int
+    method: str
+    a: float
+    b: float
+    levels: tuple[float, ...]
+    nominal: tuple[float, ...]
+    n_pits: int
+    p_below_raw: float
+    p_inside_raw: float
+    p_above_raw: float
+    p_below: float
+    p_inside: float
+    p_above: float
+
+
+def recalibrate(
+    cfg: Config, result: Replays, outcome: tuple[Distribution, ...]
+) -> tuple[tuple[Distribution, ...], tuple[RecalibrationRow, ...]]:
+    """Today's distributions through each horizon's map (fitted on every PIT of the raw
+    graded sequence), with the raw and recalibrated band probabilities."""
+    raw_label = prequential.SELECTED if len(result.candidates) > 1 else result.candidates[0].label
+    dists, rows = [], []
+    for h, dist in enumerate(outcome):
+        run = result.runs.get((raw_label, h))
+        new: Distribution = dist
+        a = b = float("nan")
+        levels: tuple[float, ...] = ()
+        n = 0 if run is None else int(run.pit.size)
+        if run is not None and cfg.recalibration == "beta":
+            beta = recalibration.current_map(run)
+            a, b = beta.a, beta.b
+            if (a, b) != (1.0, 1.0):
+                new = recalibration.Recalibrated(dist, a, b)
+        elif run is not None and n >= recalibration.MIN_PITS:
+            u, v = recalibration.current_tracked(run)
+            levels = u[1:-1]
+            new = recalibration.Tracked(dist, u, v)
+        band = cfg.band_for(cfg.as_of + h)
+        before = probabilities.band_probabilities(dist, band.lower, band.upper)
+        after = probabilities.band_probabilities(new, band.lower, band.upper)
+        dists.append(new)
+        rows.append(
+            RecalibrationRow(
+                h,
+                cfg.recalibration,
+                a,
+                b,
+                levels,
+                recalibration.LEVELS if levels else (),
+                n,
+                before.p_below,
+                before.p_inside,
+                before.p_above,
+                after.p_below,
+                after.p_inside,
+                after.p_above,
+            )
+        )
+    return tuple(dists), tuple(rows)
+
+
+@dataclass(frozen=True)
+class SensitivityRow:
+    """P(inside) at the policy horizon under one method, with its replay record there.
+
+    ``log_score`` and ``coverage_90`` are the replay's mean log score and 90% coverage at
+    the policy horizon (NaN when it was not replayed); ``chosen`` marks today's choice.
+    """
+
+    method: str
+    family: str
+    spread: str
+    p_inside: float
+    log_score: float
+    coverage_90: float
+    chosen: bool
+
+
+def _record_at(run: HorizonReplay | None) -> tuple[float, float]:
+    if run is None:
+        return float("nan"), float("nan")
+    coverage = float(np.mean(np.abs(run.pit - 0.5) <= 0.45))
+    return float(np.mean(run.log_score)), coverage
+
+
+def sensitivity(
+    cfg: Config,
+    result: Replays,
+    errors: np.ndarray,
+    point: np.ndarray,
+    headline: float,
+    given: ErrorQuantiles | None = None,
+) -> tuple[SensitivityRow, ...]:
+    """One row per replayed method (each family under each spread option), then the graded
+    sequence with today's model-based P(inside) (``headline``)."""
+    from riskreport import uncertainty  # imported here: uncertainty imports selection
+
+    h = cfg.policy_horizon
+    band = cfg.band_for(cfg.as_of + h)
+    labels = list(dict.fromkeys(label for label, _ in result.runs))
+    short = dataclasses.replace(cfg, horizons=h)  # the monotone rule needs only h and below
+    rows = []
+    for label in labels:
+        candidate = next(
+            (
+                Candidate(f, s)
+                for s in dynamics.options("auto")
+                for f in FAMILIES
+                if Candidate(f, s).label == label
+            ),
+            None,
+        )
+        if candidate is None:
+            continue
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            margins = uncertainty.build(
+                short,
+                errors,
+                point[: h + 1],
+                given,
+                family=candidate.family,
+                spread=candidate.spread,
+            )
+        p = probabilities.band_probabilities(margins.outcome[h], band.lower, band.upper)
+        log_score, coverage = _record_at(result.runs.get((label, h)))
+        rows.append(
+            SensitivityRow(
+                label,
+                candidate.family,
+                candidate.spread.label,
+                p.p_inside,
+                log_score,
+                coverage,
+                candidate == result.selection.current,
+            )
+        )
+    if any(c.label == result.graded for c in result.candidates):
+        return tuple(rows)  # the graded sequence is one of the rows above
+    log_score, coverage = _record_at(result.runs.get((result.graded, h)))
+    rows.append(
+        SensitivityRow(
+            result.graded, "as selected", "as selected", headline, log_score, coverage, True
+        )
+    )
+    return tuple(rows)
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """What the replay says of the graded method against the constant-spread normal law.
+
+    Mean |coverage - nominal| over the replayed horizons, at 50% and 90%, and the mean log
+    score over horizons; ``near`` is whether both gaps are within NEAR.
+    """
+
+    method: str
+    spread: str
+    recalibrated: bool
+    gap_50: float
+    gap_90: float
+    log_score: float
+    baseline_gap_50: float
+    baseline_gap_90: float
+    baseline_log_score: float
+    near: bool
+
+
+def _gaps(result: Replays, label: str) -> tuple[float, float, float]:
+    mine = [r for (lab, _), r in result.runs.items() if lab == label]
+    if not mine:
+        return float("nan"), float("nan"), float("nan")
+    gap = {
+        nominal: float(
+            np.mean([abs(np.mean(np.abs(r.pit - 0.5) <= nominal / 2) - nominal) for r in mine])
+        )
+        for nominal in calibration.NOMINAL
+    }
+    return gap[0.5], gap[0.9], float(np.mean([np.mean(r.log_score) for r in mine]))
+
+
+def verdict(result: Replays) -> Verdict:
+    """The graded method's coverage gaps and log score beside the constant normal law's."""
+    gap_50, gap_90, log_score = _gaps(result, result.graded)
+    base_50, base_90, base_log = _gaps(result, "normal")
+    current = result.selection.current
+    return Verdict(
+        current.label,
+        current.spread.label,
+        result.graded == recalibration.LABEL,
+        gap_50,
+        gap_90,
+        log_score,
+        base_50,
+        base_90,
+        base_log,
+        bool(gap_50 <= NEAR and gap_90 <= NEAR),
+    )
+
+
+def family_totals(result: Replays) -> dict[str, float]:
+    """Per family, today's best record over its spread options (for the ``auto`` record)."""
+    totals: dict[str, float] = {}
+    for c, value in zip(result.candidates, result.selection.totals, strict=True):
+        totals[c.family] = max(totals.get(c.family, -np.inf), value)
+    return totals
+
+
+@dataclass(frozen=True)
+class MethodSpell:
+    """The method used at the past origins from ``first`` to ``last`` (period labels)."""
+
+    first: str
+    last: str
+    method: str
+
+
+@dataclass(frozen=True)
+class Adjustments:
+    """The calibration adjustments of the round, as carried in the assessment.
+
+    Attributes
+    ----------
+    spread_option
+        The configured ``[uncertainty] spread`` (``constant``, ``ewma`` or ``auto``).
+    spread
+        The spread used today (``constant`` or ``ewma <lambda>``).
+    volatility
+        Today's error volatility (1 for a constant spread).
+    method, runner_up
+        Today's choice (family and spread) and the runner-up, from every score known now.
+    graded
+        The sequence whose calibration the brief reports (``auto`` when chosen
+        prequentially, ``auto, recalibrated`` after the beta map).
+    choices
+        The method used at each past origin, as spells of origins (labels of the periods).
+    recalibrate
+        Whether the beta map was applied.
+    recalibration
+        Per horizon, the map and the probabilities before and after it (empty when off).
+    verdict
+        What the replay says of the graded sequence beside the constant normal law.
+    sensitivity
+        P(inside) at the policy horizon under every replayed method.
+    """
+
+    spread_option: str
+    spread: str
+    volatility: float
+    method: str
+    runner_up: str | None
+    graded: str
+    choices: tuple[MethodSpell, ...]
+    recalibrate: bool
+    recalibration: tuple[RecalibrationRow, ...]
+    verdict: Verdict
+    sensitivity: tuple[SensitivityRow, ...]
