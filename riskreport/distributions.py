@@ -174,7 +174,8 @@ def fit(family: Family, sample: ArrayLike, *, mode: float | None = None) -> Fit:
     family
         ``"normal"``, ``"two-piece-normal"``, ``"skew-normal"`` or ``"empirical"``.
     sample
-        Forecast errors (actual - forecast), at least two finite values with some spread.
+        Forecast errors (actual - forecast), at least two finite values. A constant sample
+        gets a negligible spread (``MIN_SCALE``) and a note saying so: degenerate, finite.
     mode
         None estimates the mode; a number fixes it there (``centre = "forecast"`` uses 0,
         so the point forecast is the mode).
@@ -205,8 +206,6 @@ def fit(family: Family, sample: ArrayLike, *, mode: float | None = None) -> Fit:
     x = np.asarray(sample, dtype=float)
     if x.ndim != 1 or x.size < 2 or not np.all(np.isfinite(x)):
         raise ValueError("sample: expected at least two finite values in a 1-d array")
-    if np.ptp(x) == 0:
-        raise ValueError("sample: all errors are equal, so no spread can be estimated")
     if family == "skew-normal":
         return fit_skew_normal(x, mode)
     if family == "two-piece-normal" and mode is None:

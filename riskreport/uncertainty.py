@@ -177,9 +177,11 @@ def build(
             SmallSampleWarning,
             stacklevel=2,
         )
-    edge = [h for h, f in enumerate(fits) if getattr(f, "notes", ())]
-    if edge:
-        note = next(n for f in fits for n in getattr(f, "notes", ()))
+    by_note: dict[str, list[int]] = {}
+    for h, f in enumerate(fits):
+        for note in getattr(f, "notes", ()):
+            by_note.setdefault(note, []).append(h)
+    for note, edge in by_note.items():  # each distinct note once, with its horizons
         warnings.warn(
             f"{note[0].upper()}{note[1:]} (horizons {', '.join(map(str, edge))}).",
             BoundaryFitWarning,
