@@ -10,7 +10,7 @@ length) and use closed forms or grid searches: no generic optimiser runs per sam
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -32,10 +32,12 @@ CONSTANT_NOTE = (
     "(a negligible spread) and its probabilities are not meaningful"
 )
 # Two-piece normal: the mode stays between the k-th smallest and the k-th largest error,
-# k = max(3, ceil(0.2 n)), so each side keeps a few errors to estimate its scale (our rule,
-# chosen by simulation: with the earlier 10-90% range, 83-91% of fits to normal samples of
-# 8-10 errors had one scale below a tenth of the other; with this rule 1-4%).
-TPN_EDGE_SHARE, TPN_EDGE_MIN = 0.2, 3
+# k = max(5, ceil(0.1 n)), so each side keeps a few errors to estimate its scale (our rule,
+# chosen by simulation, bench/size.py: with the earlier 10-90% range alone, 83-91% of fits
+# to normal samples of 8-10 errors had one scale below a tenth of the other; with this rule
+# at most 1-2%). From n = 50 on it is the 10-90% range; with 10 or fewer errors the mode
+# stays in the gap above the middle one.
+TPN_EDGE_SHARE, TPN_EDGE_MIN = 0.1, 5
 TPN_DEGENERATE_RATIO = 0.1  # smaller scale below this share of the larger: flagged
 
 
@@ -312,7 +314,7 @@ def fit_two_piece_normal(
         notes += (
             "two-piece normal: the likelihood peaks at the edge of the sample (a half-normal); "
             "the mode is kept between the k-th smallest and k-th largest errors, "
-            "k = max(3, 20% of them)",
+            "k = max(5, 10% of them)",
         )
     if np.any(degenerate & ~boundary):
         notes += (
@@ -338,7 +340,7 @@ def _mode_range(n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     keep the mode between the k-th smallest and k-th largest. Too few errors for that: the
     gap above the median.
     """
-    k = np.maximum(TPN_EDGE_MIN, np.ceil(TPN_EDGE_SHARE * n)).astype(int)
+    k = np.maximum(TPN_EDGE_MIN, np.ceil(TPN_EDGE_SHARE * n - 1e-9)).astype(int)
     lo, hi = k - 1, n - k
     narrow = hi <= lo
     middle = np.maximum((n - 1) // 2, 0)
@@ -562,11 +564,99 @@ def _sn_penalised_batch(x: np.ndarray, n: np.ndarray) -> tuple[np.ndarray, ...]:
     return theta, value
 
 
+def mode0_batch(alpha: Any) -> np.ndarray:
+    """Exact mode of SN(0, 1, alpha) for an array of shapes: Newton on the score
+    -z + alpha r(alpha z) = 0 (r = phi/Phi), started at Azzalini's approximation."""
+    alpha = np.atleast_1d(np.asarray(alpha, dtype=float))
+    z = np.asarray(skewnormal_mode0(alpha), dtype=float)
+    for _ in range(30):
+        t = alpha * z
+        r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - special.log_ndtr(t))
+        score = -z + alpha * r
+        slope = -1 - alpha**2 * r * (t + r)  # always < 0: the log density is concave
+        step = score / slope
+        z = z - step
+        if np.all(np.abs(step) < 1e-13):
+            break
+    return z
+
+
+def _sn_fixed_terms(x: np.ndarray, theta: np.ndarray, mode: float) -> tuple[np.ndarray, np.ndarray]:
+    """Penalised log-likelihood and gradient in (log omega, alpha) with the mode held at
+    ``mode``: xi = mode - omega m0(alpha), dm0/dalpha = -(r + alpha w z)/(-1 + alpha^2 w)
+    at z = m0 (implicit function of the mode's score equation), chained through the
+    free-location gradient of :func:`_sn_terms`."""
+    eta, alpha = theta[:, 0], theta[:, 1]
+    omega = np.exp(eta)
+    m0 = mode0_batch(alpha)
+    t = alpha * m0
+    r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - special.log_ndtr(t))
+    w = -r * (t + r)
+    dm0 = -(r + alpha * w * m0) / (-1 + alpha**2 * w)
+    xi = mode - omega * m0
+    value, grad, _ = _sn_terms(x, np.column_stack([xi, eta, alpha]), False)
+    d_eta = grad[:, 0] * (-omega * m0) + grad[:, 1]
+    d_alpha = grad[:, 0] * (-omega * dm0) + grad[:, 2]
+    return value, np.column_stack([d_eta, d_alpha])
+
+
+def _sn_fixed_newton(x: np.ndarray, theta: np.ndarray, mode: float) -> tuple[np.ndarray, ...]:
+    """Damped Newton in (log omega, alpha), all rows at once; the Hessian by forward
+    differences of the analytic gradient."""
+    theta = theta.copy()
+    value, grad = _sn_fixed_terms(x, theta, mode)
+    damping = np.full(x.shape[0], 1e-3)
+    active = np.ones(x.shape[0], dtype=bool)
+    eps = 1e-6
+    for _ in range(80):
+        rows = np.flatnonzero(active)
+        if rows.size == 0:
+            break
+        hess = np.empty((rows.size, 2, 2))
+        for j in range(2):
+            moved = theta[rows].copy()
+            moved[:, j] += eps
+            hess[:, :, j] = (_sn_fixed_terms(x[rows], moved, mode)[1] - grad[rows]) / eps
+        hess = (hess + hess.transpose(0, 2, 1)) / 2
+        scale = np.abs(np.diagonal(hess, axis1=1, axis2=2)) + 1e-12
+        system = -hess + damping[rows, None, None] * (np.eye(2)[None] * scale[:, None, :])
+        step = np.linalg.solve(system, grad[rows][..., None])[..., 0]
+        step[:, 0] = np.clip(step[:, 0], -2.0, 2.0)
+        trial = theta[rows] + step
+        new_value, new_grad = _sn_fixed_terms(x[rows], trial, mode)
+        better = np.isfinite(new_value) & (new_value >= value[rows])
+        good = rows[better]
+        theta[good], value[good], grad[good] = trial[better], new_value[better], new_grad[better]
+        damping[good] = np.maximum(damping[good] / 5, 1e-9)
+        damping[rows[~better]] *= 10
+        converged = (np.abs(step) < 1e-9 * (1 + np.abs(theta[rows]))).all(axis=1)
+        active[rows[converged | (damping[rows] > 1e12)]] = False
+    return theta, value
+
+
+def _sn_fixed_batch(
+    x: np.ndarray, mode: float, omega0: np.ndarray, alpha0: np.ndarray
+) -> tuple[np.ndarray, ...]:
+    """Penalised skew-normal with its mode at ``mode`` for every row, from the moments and
+    from alpha = 0 (scale: the root mean square distance from the mode); the better end."""
+    dev = np.where(np.isfinite(x), x - mode, 0.0)
+    rms = np.sqrt((dev**2).sum(axis=1) / np.maximum(np.isfinite(x).sum(axis=1), 1))
+    starts = (
+        np.column_stack([np.log(omega0), alpha0]),
+        np.column_stack([np.log(np.maximum(rms, MIN_SCALE)), np.zeros_like(rms)]),
+    )
+    ends = [_sn_fixed_newton(x, start, mode) for start in starts]
+    best = ends[1][1] > ends[0][1]
+    theta = np.where(best[:, None], ends[1][0], ends[0][0])
+    value = np.where(best, ends[1][1], ends[0][1])
+    return theta, value
+
+
 def fit_skew_normal_batch(samples: ArrayLike, mode: float | None = None) -> SkewNormalFit:
-    """Skew-normal of each row: with the location free, the maximum penalised likelihood
-    estimate (the same estimator as a single fit, :func:`_sn_penalised_batch`); with a
-    fixed mode, the method of moments (skewness clipped inside the bound) with the location
-    moved so that the approximate mode sits there."""
+    """Maximum penalised likelihood skew-normal of each row, the same estimator as a single
+    fit: with the location free, :func:`_sn_penalised_batch`; with the mode fixed,
+    :func:`_sn_fixed_batch`. Both start from the method of moments (skewness clipped inside
+    the bound) and from alpha = 0. A constant row gets the MIN_SCALE fit, flagged."""
     x, n = _rows(samples)
     mean = _nanmean(x, n)
     dev = np.where(np.isfinite(x), x - mean[:, None], 0.0)
@@ -574,19 +664,24 @@ def fit_skew_normal_batch(samples: ArrayLike, mode: float | None = None) -> Skew
     g1 = (dev**3).sum(axis=1) / np.maximum(n, 1) / var**1.5
     xi, omega, alpha, clipped = _skewnormal_moments(mean, var, g1)
     notes = _constant_notes(x)
-    if mode is not None:
-        xi = float(mode) - omega * skewnormal_mode0(alpha)
-        return SkewNormalFit(xi, omega, alpha, np.nan, n, clipped, notes=notes)
     with np.errstate(invalid="ignore"):
         varies = np.nanmax(x, axis=1) > np.nanmin(x, axis=1)
+    if mode is not None:
+        xi = float(mode) - omega * mode0_batch(alpha)
+    xi, omega, alpha = xi.copy(), omega.copy(), alpha.copy()
+    if np.any(varies):  # a constant row keeps MIN_SCALE: its likelihood has no maximum
+        if mode is None:
+            theta, _ = _sn_penalised_batch(x[varies], n[varies])
+            xi[varies], omega[varies], alpha[varies] = theta.T
+            omega[varies] = np.exp(theta[:, 1])
+        else:
+            theta, _ = _sn_fixed_batch(x[varies], float(mode), omega[varies], alpha[varies])
+            omega[varies], alpha[varies] = np.exp(theta[:, 0]), theta[:, 1]
+            xi[varies] = float(mode) - omega[varies] * mode0_batch(theta[:, 1])
     loglik = np.asarray(skewnormal_logpdf(x, xi[:, None], omega[:, None], alpha[:, None]))
     loglik = np.where(np.isfinite(x), loglik, 0.0).sum(axis=1)
-    if np.any(varies):  # a constant row keeps MIN_SCALE: its likelihood has no maximum
-        theta, value = _sn_penalised_batch(x[varies], n[varies])
-        xi, omega, alpha = xi.copy(), omega.copy(), alpha.copy()
-        xi[varies], omega[varies], alpha[varies] = theta[:, 0], np.exp(theta[:, 1]), theta[:, 2]
-        loglik[varies] = value + PENALTY_C1 * np.log1p(PENALTY_C2 * theta[:, 2] ** 2)
-    return SkewNormalFit(xi, omega, alpha, loglik, n, clipped, notes=notes)
+    mode_value = xi + omega * mode0_batch(alpha) if mode is None else np.full(x.shape[0], mode)
+    return SkewNormalFit(xi, omega, alpha, loglik, n, clipped, notes=notes, mode_value=mode_value)
 
 
 def fit_skew_normal(sample: np.ndarray, mode: float | None = None) -> SkewNormalFit:
@@ -595,72 +690,34 @@ def fit_skew_normal(sample: np.ndarray, mode: float | None = None) -> SkewNormal
     The plain MLE of alpha is infinite with positive probability in small samples (the
     half-normal boundary; Azzalini & Capitanio 1999, Pewsey 2000). The penalty
     Q(alpha) = C1 log(1 + C2 alpha^2) keeps it finite (Azzalini & Arellano-Valle 2013).
-    Free mode: :func:`fit_skew_normal_batch` on one row, so the headline and the bootstrap
-    and replay fits are one estimator (damped Newton from the method of moments and from
-    alpha = 0, the better end kept). Fixed mode: Nelder-Mead over (log omega, alpha) with xi
-    tied to it, xi = mode - omega m0(alpha), from the same two starts.
+    This is :func:`fit_skew_normal_batch` on one row, so the headline, the bootstrap and the
+    replay use one estimator (damped Newton from the method of moments and from alpha = 0,
+    the better end kept; with a fixed mode, xi = mode - omega m0(alpha) with the exact mode
+    m0 of SN(0, 1, alpha)).
     """
-    start = fit_skew_normal_batch(sample[None, :], mode)
-    if np.ptp(sample) == 0:  # no spread: the normal-shaped fit with MIN_SCALE, flagged
-        xi, omega = float(start.xi[0]), float(start.omega[0])
-        loglik = float(skewnormal_logpdf(sample, xi, omega, 0.0).sum())
-        return SkewNormalFit(xi, omega, 0.0, loglik, sample.size, notes=start.notes, mode_value=xi)
-    boundary = bool(start.boundary[0])
-    notes = (
-        (
-            "skew-normal: the sample skewness is at the edge of what the family allows; the penalised fit keeps the shape finite",
+    fitted = _single_row(fit_skew_normal_batch(sample[None, :], mode))
+    if fitted.boundary:
+        fitted = replace(
+            fitted,
+            notes=(
+                *fitted.notes,
+                "skew-normal: the sample skewness is at the edge of what the family allows; the penalised fit keeps the shape finite",
+            ),
         )
-        if boundary
-        else ()
+    return fitted
+
+
+def _single_row(batch: SkewNormalFit) -> SkewNormalFit:
+    return replace(
+        batch,
+        xi=float(batch.xi[0]),
+        omega=float(batch.omega[0]),
+        alpha=float(batch.alpha[0]),
+        loglik=float(batch.loglik[0]),
+        nobs=int(batch.nobs[0]),
+        boundary=bool(batch.boundary[0]),
+        mode_value=float(batch.mode_value[0]),
     )
-    if mode is None:
-        xi, omega, alpha = float(start.xi[0]), float(start.omega[0]), float(start.alpha[0])
-    else:
-        xi, omega, alpha = _fixed_mode_fit(sample, float(mode), start)
-    loglik = float(skewnormal_logpdf(sample, xi, omega, alpha).sum())
-    return SkewNormalFit(
-        xi,
-        omega,
-        alpha,
-        loglik,
-        sample.size,
-        boundary,
-        notes=notes,
-        mode_value=xi + omega * float(_mode0_exact(alpha)),
-    )
-
-
-def _fixed_mode_fit(
-    sample: np.ndarray, mode: float, start: SkewNormalFit
-) -> tuple[float, float, float]:
-    """Penalised skew-normal with its mode at ``mode``: Nelder-Mead from the moments and
-    from alpha = 0, the better end kept."""
-
-    def unpack(theta: np.ndarray) -> tuple[float, float, float]:
-        omega, alpha = float(np.exp(theta[0])), float(theta[1])
-        return mode - omega * float(_mode0_exact(alpha)), omega, alpha
-
-    def penalised(theta: np.ndarray) -> float:
-        xi, omega, alpha = unpack(theta)
-        value = skewnormal_logpdf(sample, xi, omega, alpha).sum()
-        value -= PENALTY_C1 * np.log1p(PENALTY_C2 * alpha**2)
-        return -float(value) if np.isfinite(value) else 1e300
-
-    rms = float(np.sqrt(np.mean((sample - mode) ** 2)))
-    results = [
-        optimize.minimize(
-            penalised,
-            theta,
-            method="Nelder-Mead",
-            options={"xatol": 1e-9, "fatol": 1e-10, "maxiter": 4000},
-        )
-        for theta in (
-            np.array([np.log(float(start.omega[0])), float(start.alpha[0])]),
-            np.array([np.log(max(rms, MIN_SCALE)), 0.0]),
-        )
-    ]
-    best = min(results, key=lambda r: float(r.fun))
-    return unpack(best.x)
 
 
 def _mode0_exact(alpha: float) -> float:
