@@ -70,7 +70,8 @@ def _borrow(columns: list[np.ndarray], h: int, minimum: int) -> tuple[np.ndarray
     pooled, used = [own], []
     for distance in range(1, len(columns)):
         for j in (h - distance, h + distance):
-            if 0 <= j < len(columns) and columns[j].size >= 2:
+            # A neighbour whose errors are all 0 has no spread to rescale: skipped.
+            if 0 <= j < len(columns) and columns[j].size >= 2 and np.any(columns[j] != 0):
                 other = columns[j]
                 pooled.append(other * rms / float(np.sqrt(np.mean(other**2))))
                 used.append(j)

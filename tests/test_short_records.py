@@ -88,3 +88,16 @@ def test_identical_forecasts_are_reported_as_undefined(case: Case, tmp_path: Pat
     data = json.loads(a.to_json())
     assert all(t["pvalue"] is None for t in data["tests"] if t["models"][1] == "combination")
     assert any("undefined" in line for line in tables.track_record_text(a))
+
+
+def test_borrowing_skips_a_neighbour_with_no_spread() -> None:
+    # A thin horizon borrows its neighbours' errors rescaled by their root mean square; a
+    # neighbour whose errors are all 0 gave 0/0 = NaN errors to the fit.
+    from riskreport.uncertainty import _borrow
+
+    columns = [np.array([0.3, -0.2, 0.1]), np.zeros(6), np.array([0.5, -0.4, 0.2, -0.1, 0.3])]
+    pooled, used = _borrow(columns, 0, 8)
+    assert np.all(np.isfinite(pooled))
+    assert used == [2]
+    rms = np.sqrt(np.mean(columns[0] ** 2))
+    assert np.sqrt(np.mean(pooled[3:] ** 2)) == pytest.approx(rms)
