@@ -10,7 +10,7 @@ length) and use closed forms or grid searches: no generic optimiser runs per sam
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -23,6 +23,22 @@ SKEW_BOUND = 0.9952717  # |skewness| of the half-normal: the bound of TPN and sk
 # alpha^2) (Azzalini & Arellano-Valle 2013, JSPI 143:419-433); constants recalled from
 # memory of that paper and the R package sn, not checked against the text.
 PENALTY_C1, PENALTY_C2 = 0.875913, 0.856250
+# A constant sample (every error equal) has no spread to estimate. Every fit then uses
+# this spread (percentage points, a millionth of a point): degenerate but finite, and
+# flagged with CONSTANT_NOTE. Our rule, no source.
+MIN_SCALE = 1e-6
+CONSTANT_NOTE = (
+    "all the errors are equal, so their spread cannot be estimated; the fit is degenerate "
+    "(a negligible spread) and its probabilities are not meaningful"
+)
+# Two-piece normal: the mode stays between the k-th smallest and the k-th largest error,
+# k = max(5, ceil(0.1 n)), so each side keeps a few errors to estimate its scale (our rule,
+# chosen by simulation, bench/size.py: with the earlier 10-90% range alone, 83-91% of fits
+# to normal samples of 8-10 errors had one scale below a tenth of the other; with this rule
+# at most 1-2%). From n = 50 on it is the 10-90% range; with 10 or fewer errors the mode
+# stays in the gap above the middle one.
+TPN_EDGE_SHARE, TPN_EDGE_MIN = 0.1, 5
+TPN_DEGENERATE_RATIO = 0.1  # smaller scale below this share of the larger: flagged
 
 
 def _rows(samples: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
@@ -94,13 +110,18 @@ def fit_normal(samples: ArrayLike, mode: float | None = None) -> NormalFit:
     x, n = _rows(samples)
     loc = _nanmean(x, n) if mode is None else np.full(x.shape[0], float(mode))
     dev = np.where(np.isfinite(x), x - loc[:, None], 0.0)
-    scale = np.sqrt((dev**2).sum(axis=1) / np.maximum(n, 1))
-    loglik = (
-        -0.5 * n * (np.log(2 * np.pi * scale**2) + 1)
-        if mode is None
-        else (-0.5 * n * np.log(2 * np.pi * scale**2) - 0.5 * n)
-    )
-    return NormalFit(loc, scale, loglik, n)
+    raw = np.sqrt((dev**2).sum(axis=1) / np.maximum(n, 1))
+    scale = np.maximum(raw, MIN_SCALE)
+    # log L = -n/2 log(2 pi s^2) - sum(dev^2)/(2 s^2); = -n/2 (log(2 pi s^2) + 1) at the MLE.
+    loglik = -0.5 * n * np.log(2 * np.pi * scale**2) - 0.5 * n * (raw / scale) ** 2
+    return NormalFit(loc, scale, loglik, n, notes=_constant_notes(x))
+
+
+def _constant_notes(x: np.ndarray) -> tuple[str, ...]:
+    """CONSTANT_NOTE when some row has no spread at all."""
+    with np.errstate(invalid="ignore"):
+        spread = np.nanmax(x, axis=1) - np.nanmin(x, axis=1)
+    return (CONSTANT_NOTE,) if np.any(spread == 0) else ()
 
 
 # --- two-piece normal -------------------------------------------------------------------
@@ -185,6 +206,11 @@ def _tpn_scales(s1: np.ndarray, s2: np.ndarray, n: np.ndarray) -> tuple[np.ndarr
     sigma2 = np.sqrt(c2**2 * c / n)
     with np.errstate(divide="ignore"):
         loglik = n / 2 * np.log(2 / np.pi) - 1.5 * n * np.log(c) + n / 2 * np.log(n) - n / 2
+    # A constant sample (c = 0): both scales MIN_SCALE, every point at the mode.
+    constant = c <= 0
+    sigma1 = np.where(constant, MIN_SCALE, sigma1)
+    sigma2 = np.where(constant, MIN_SCALE, sigma2)
+    loglik = np.where(constant, n * np.log(SQRT_2_PI / (2 * MIN_SCALE)), loglik)
     return sigma1, sigma2, loglik
 
 
@@ -253,8 +279,7 @@ def fit_two_piece_normal(
         boundary = (s1 <= 0) | (s2 <= 0)
     else:
         xs = np.sort(x, axis=1)  # NaN sort to the end
-        lo = np.floor(0.1 * (n - 1)).astype(int)
-        hi = np.ceil(0.9 * (n - 1)).astype(int)
+        lo, hi = _mode_range(n)
         m, boundary = _tpn_profile(xs, n, lo, hi, steps)
         s1, s2 = _side_sums(x, m)
         if refine and b == 1:
@@ -280,15 +305,46 @@ def fit_two_piece_normal(
                 )
             s1, s2 = _side_sums(x, m)
     sigma1, sigma2, loglik = _tpn_scales(s1, s2, n)
-    notes: tuple[str, ...] = ()
+    with np.errstate(invalid="ignore"):
+        constant = np.nanmax(x, axis=1) == np.nanmin(x, axis=1)
+    boundary = np.asarray(boundary) & ~constant  # rounding noise, not an edge optimum
+    degenerate = np.minimum(sigma1, sigma2) < TPN_DEGENERATE_RATIO * np.maximum(sigma1, sigma2)
+    notes = _constant_notes(x)
     if np.any(boundary):
-        notes = (
-            "two-piece normal: the likelihood peaks at the edge of the sample (a half-normal); the mode is kept inside the 10-90% range of the errors",
+        notes += (
+            "two-piece normal: the likelihood peaks at the edge of the sample (a half-normal); "
+            "the mode is kept between the k-th smallest and k-th largest errors, "
+            "k = max(5, 10% of them)",
         )
-    floor = 1e-6 * np.maximum(sigma1 + sigma2, 1e-12)
+    if np.any(degenerate & ~boundary):
+        notes += (
+            "two-piece normal: one side's spread is under a tenth of the other's (a near "
+            "half-normal), which few errors cannot support",
+        )
+    floor = np.maximum(1e-6 * (sigma1 + sigma2), MIN_SCALE)
     return TwoPieceNormalFit(
-        m, np.maximum(sigma1, floor), np.maximum(sigma2, floor), loglik, n, boundary, notes=notes
+        m,
+        np.maximum(sigma1, floor),
+        np.maximum(sigma2, floor),
+        loglik,
+        n,
+        boundary | degenerate,
+        notes=notes,
     )
+
+
+def _mode_range(n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Gaps lo <= i < hi of the sorted sample the mode may lie in (see TPN_EDGE_SHARE).
+
+    Gap i runs from the (i+1)-th to the (i+2)-th smallest error; lo = k - 1 and hi = n - k
+    keep the mode between the k-th smallest and k-th largest. Too few errors for that: the
+    gap above the median.
+    """
+    k = np.maximum(TPN_EDGE_MIN, np.ceil(TPN_EDGE_SHARE * n - 1e-9)).astype(int)
+    lo, hi = k - 1, n - k
+    narrow = hi <= lo
+    middle = np.maximum((n - 1) // 2, 0)
+    return np.where(narrow, middle, lo), np.where(narrow, middle + 1, hi)
 
 
 # --- skew-normal ------------------------------------------------------------------------
@@ -395,18 +451,237 @@ def _skewnormal_moments(mean: Any, var: Any, g1: Any) -> tuple[Any, Any, Any, An
     return xi, omega, alpha, np.abs(g1) >= 0.95 * SKEW_BOUND
 
 
+def _sn_terms(
+    x: np.ndarray, theta: np.ndarray, hessian: bool
+) -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
+    """Penalised skew-normal log-likelihood of each row, its gradient and (optionally) its
+    Hessian in theta = (xi, log omega, alpha); x is NaN padded.
+
+    With z = (x - xi)/omega, t = alpha z, r = phi(t)/Phi(t) and w = dr/dt = -r (t + r):
+    dl/dxi = sum (z - alpha r)/omega, dl/dlog omega = sum (z^2 - 1 - r t),
+    dl/dalpha = sum r z - Q'(alpha); second derivatives by differentiating these once more.
+    """
+    finite = np.isfinite(x)
+    xi, eta, alpha = theta[:, 0:1], theta[:, 1:2], theta[:, 2:3]
+    omega = np.exp(eta)
+    z = np.where(finite, (np.where(finite, x, 0.0) - xi) / omega, 0.0)
+    t = alpha * z
+    log_cdf = special.log_ndtr(t)
+    r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - log_cdf)  # phi/Phi, stable in the tail
+    n = finite.sum(axis=1)
+    a = alpha[:, 0]
+    penalty = PENALTY_C1 * np.log1p(PENALTY_C2 * a**2)
+    value = (
+        np.where(finite, -0.5 * z**2 + log_cdf, 0.0).sum(axis=1)
+        + n * (np.log(2) - eta[:, 0] - 0.5 * np.log(2 * np.pi))
+        - penalty
+    )
+
+    def total(term: np.ndarray) -> np.ndarray:
+        return np.where(finite, term, 0.0).sum(axis=1)
+
+    grad = np.column_stack(
+        [
+            total(z - alpha * r) / omega[:, 0],
+            total(z**2 - r * t) - n,
+            total(r * z) - 2 * PENALTY_C1 * PENALTY_C2 * a / (1 + PENALTY_C2 * a**2),
+        ]
+    )
+    if not hessian:
+        return value, grad, None
+    w = -r * (t + r)
+    om = omega[:, 0]
+    h = np.empty((x.shape[0], 3, 3))
+    h[:, 0, 0] = total(-1 + alpha**2 * w) / om**2
+    h[:, 0, 1] = h[:, 1, 0] = total(-2 * z + alpha * w * t + alpha * r) / om
+    h[:, 0, 2] = h[:, 2, 0] = total(-r - alpha * w * z) / om
+    h[:, 1, 1] = total(-2 * z**2 + w * t**2 + r * t)
+    h[:, 1, 2] = h[:, 2, 1] = -total(z * (w * t + r))
+    h[:, 2, 2] = (
+        total(w * z**2)
+        - 2 * PENALTY_C1 * PENALTY_C2 * (1 - PENALTY_C2 * a**2) / (1 + PENALTY_C2 * a**2) ** 2
+    )
+    return value, grad, h
+
+
+def _sn_newton(x: np.ndarray, theta: np.ndarray, iterations: int = 60) -> tuple[np.ndarray, ...]:
+    """Maximise the penalised log-likelihood of every row from ``theta`` by damped Newton
+    (Levenberg-Marquardt) steps, all rows at once; rows stop when the gradient vanishes.
+
+    Returns theta and the penalised log-likelihood at it.
+    """
+    theta = theta.copy()
+    value, grad, hess = _sn_terms(x, theta, True)
+    damping = np.full(x.shape[0], 1e-3)
+    active = np.ones(x.shape[0], dtype=bool)
+    for _ in range(iterations):
+        rows = np.flatnonzero(active)
+        if rows.size == 0:
+            break
+        assert hess is not None
+        scale = np.abs(np.diagonal(hess[rows], axis1=1, axis2=2)) + 1e-12
+        system = -hess[rows] + damping[rows, None, None] * (np.eye(3)[None] * scale[:, None, :])
+        try:
+            step = np.linalg.solve(system, grad[rows][..., None])[..., 0]
+        except np.linalg.LinAlgError:
+            step = grad[rows] / scale
+        step[:, 1] = np.clip(step[:, 1], -2.0, 2.0)  # omega changes at most e^2-fold a step
+        trial = theta[rows] + step
+        new_value, new_grad, new_hess = _sn_terms(x[rows], trial, True)
+        better = np.isfinite(new_value) & (new_value >= value[rows])
+        good = rows[better]
+        theta[good] = trial[better]
+        value[good], grad[good] = new_value[better], new_grad[better]
+        hess[good] = new_hess[better]  # type: ignore[index]
+        damping[good] = np.maximum(damping[good] / 5, 1e-9)
+        damping[rows[~better]] *= 10
+        converged = (np.abs(step) < 1e-10 * (1 + np.abs(theta[rows]))).all(axis=1)
+        stuck = damping[rows] > 1e12
+        active[rows[converged | stuck]] = False
+    return theta, value
+
+
+def _sn_penalised_batch(x: np.ndarray, n: np.ndarray) -> tuple[np.ndarray, ...]:
+    """The maximum penalised likelihood skew-normal of every row (free location).
+
+    Two starts per row, the method of moments and the normal MLE (alpha = 0), each climbed
+    by :func:`_sn_newton`; the better end point is kept, so a local optimum near the start
+    cannot beat the symmetric candidate (it did in some samples with one start).
+    """
+    mean = _nanmean(x, n)
+    dev = np.where(np.isfinite(x), x - mean[:, None], 0.0)
+    var = np.maximum((dev**2).sum(axis=1) / np.maximum(n, 1), MIN_SCALE**2)
+    g1 = (dev**3).sum(axis=1) / np.maximum(n, 1) / var**1.5
+    xi0, omega0, alpha0, _ = _skewnormal_moments(mean, var, g1)
+    starts = (
+        np.column_stack([xi0, np.log(omega0), alpha0]),
+        np.column_stack([mean, 0.5 * np.log(var), np.zeros_like(mean)]),
+    )
+    ends = [_sn_newton(x, start) for start in starts]
+    best = ends[1][1] > ends[0][1]
+    theta = np.where(best[:, None], ends[1][0], ends[0][0])
+    value = np.where(best, ends[1][1], ends[0][1])
+    return theta, value
+
+
+def mode0_batch(alpha: Any) -> np.ndarray:
+    """Exact mode of SN(0, 1, alpha) for an array of shapes: Newton on the score
+    -z + alpha r(alpha z) = 0 (r = phi/Phi), started at Azzalini's approximation."""
+    alpha = np.atleast_1d(np.asarray(alpha, dtype=float))
+    z = np.asarray(skewnormal_mode0(alpha), dtype=float)
+    for _ in range(30):
+        t = alpha * z
+        r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - special.log_ndtr(t))
+        score = -z + alpha * r
+        slope = -1 - alpha**2 * r * (t + r)  # always < 0: the log density is concave
+        step = score / slope
+        z = z - step
+        if np.all(np.abs(step) < 1e-13):
+            break
+    return z
+
+
+def _sn_fixed_terms(x: np.ndarray, theta: np.ndarray, mode: float) -> tuple[np.ndarray, np.ndarray]:
+    """Penalised log-likelihood and gradient in (log omega, alpha) with the mode held at
+    ``mode``: xi = mode - omega m0(alpha), dm0/dalpha = -(r + alpha w z)/(-1 + alpha^2 w)
+    at z = m0 (implicit function of the mode's score equation), chained through the
+    free-location gradient of :func:`_sn_terms`."""
+    eta, alpha = theta[:, 0], theta[:, 1]
+    omega = np.exp(eta)
+    m0 = mode0_batch(alpha)
+    t = alpha * m0
+    r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - special.log_ndtr(t))
+    w = -r * (t + r)
+    dm0 = -(r + alpha * w * m0) / (-1 + alpha**2 * w)
+    xi = mode - omega * m0
+    value, grad, _ = _sn_terms(x, np.column_stack([xi, eta, alpha]), False)
+    d_eta = grad[:, 0] * (-omega * m0) + grad[:, 1]
+    d_alpha = grad[:, 0] * (-omega * dm0) + grad[:, 2]
+    return value, np.column_stack([d_eta, d_alpha])
+
+
+def _sn_fixed_newton(x: np.ndarray, theta: np.ndarray, mode: float) -> tuple[np.ndarray, ...]:
+    """Damped Newton in (log omega, alpha), all rows at once; the Hessian by forward
+    differences of the analytic gradient."""
+    theta = theta.copy()
+    value, grad = _sn_fixed_terms(x, theta, mode)
+    damping = np.full(x.shape[0], 1e-3)
+    active = np.ones(x.shape[0], dtype=bool)
+    eps = 1e-6
+    for _ in range(80):
+        rows = np.flatnonzero(active)
+        if rows.size == 0:
+            break
+        hess = np.empty((rows.size, 2, 2))
+        for j in range(2):
+            moved = theta[rows].copy()
+            moved[:, j] += eps
+            hess[:, :, j] = (_sn_fixed_terms(x[rows], moved, mode)[1] - grad[rows]) / eps
+        hess = (hess + hess.transpose(0, 2, 1)) / 2
+        scale = np.abs(np.diagonal(hess, axis1=1, axis2=2)) + 1e-12
+        system = -hess + damping[rows, None, None] * (np.eye(2)[None] * scale[:, None, :])
+        step = np.linalg.solve(system, grad[rows][..., None])[..., 0]
+        step[:, 0] = np.clip(step[:, 0], -2.0, 2.0)
+        trial = theta[rows] + step
+        new_value, new_grad = _sn_fixed_terms(x[rows], trial, mode)
+        better = np.isfinite(new_value) & (new_value >= value[rows])
+        good = rows[better]
+        theta[good], value[good], grad[good] = trial[better], new_value[better], new_grad[better]
+        damping[good] = np.maximum(damping[good] / 5, 1e-9)
+        damping[rows[~better]] *= 10
+        converged = (np.abs(step) < 1e-9 * (1 + np.abs(theta[rows]))).all(axis=1)
+        active[rows[converged | (damping[rows] > 1e12)]] = False
+    return theta, value
+
+
+def _sn_fixed_batch(
+    x: np.ndarray, mode: float, omega0: np.ndarray, alpha0: np.ndarray
+) -> tuple[np.ndarray, ...]:
+    """Penalised skew-normal with its mode at ``mode`` for every row, from the moments and
+    from alpha = 0 (scale: the root mean square distance from the mode); the better end."""
+    dev = np.where(np.isfinite(x), x - mode, 0.0)
+    rms = np.sqrt((dev**2).sum(axis=1) / np.maximum(np.isfinite(x).sum(axis=1), 1))
+    starts = (
+        np.column_stack([np.log(omega0), alpha0]),
+        np.column_stack([np.log(np.maximum(rms, MIN_SCALE)), np.zeros_like(rms)]),
+    )
+    ends = [_sn_fixed_newton(x, start, mode) for start in starts]
+    best = ends[1][1] > ends[0][1]
+    theta = np.where(best[:, None], ends[1][0], ends[0][0])
+    value = np.where(best, ends[1][1], ends[0][1])
+    return theta, value
+
+
 def fit_skew_normal_batch(samples: ArrayLike, mode: float | None = None) -> SkewNormalFit:
-    """Method-of-moments skew-normal of each row (skewness clipped inside the bound); with a
-    fixed mode, the location is moved so that the (approximate) mode sits there."""
+    """Maximum penalised likelihood skew-normal of each row, the same estimator as a single
+    fit: with the location free, :func:`_sn_penalised_batch`; with the mode fixed,
+    :func:`_sn_fixed_batch`. Both start from the method of moments (skewness clipped inside
+    the bound) and from alpha = 0. A constant row gets the MIN_SCALE fit, flagged."""
     x, n = _rows(samples)
     mean = _nanmean(x, n)
     dev = np.where(np.isfinite(x), x - mean[:, None], 0.0)
-    var = (dev**2).sum(axis=1) / np.maximum(n, 1)
-    g1 = (dev**3).sum(axis=1) / np.maximum(n, 1) / np.maximum(var, 1e-300) ** 1.5
+    var = np.maximum((dev**2).sum(axis=1) / np.maximum(n, 1), MIN_SCALE**2)
+    g1 = (dev**3).sum(axis=1) / np.maximum(n, 1) / var**1.5
     xi, omega, alpha, clipped = _skewnormal_moments(mean, var, g1)
+    notes = _constant_notes(x)
+    with np.errstate(invalid="ignore"):
+        varies = np.nanmax(x, axis=1) > np.nanmin(x, axis=1)
     if mode is not None:
-        xi = float(mode) - omega * skewnormal_mode0(alpha)
-    return SkewNormalFit(xi, omega, alpha, np.nan, n, clipped)
+        xi = float(mode) - omega * mode0_batch(alpha)
+    xi, omega, alpha = xi.copy(), omega.copy(), alpha.copy()
+    if np.any(varies):  # a constant row keeps MIN_SCALE: its likelihood has no maximum
+        if mode is None:
+            theta, _ = _sn_penalised_batch(x[varies], n[varies])
+            xi[varies], omega[varies], alpha[varies] = theta.T
+            omega[varies] = np.exp(theta[:, 1])
+        else:
+            theta, _ = _sn_fixed_batch(x[varies], float(mode), omega[varies], alpha[varies])
+            omega[varies], alpha[varies] = np.exp(theta[:, 0]), theta[:, 1]
+            xi[varies] = float(mode) - omega[varies] * mode0_batch(theta[:, 1])
+    loglik = np.asarray(skewnormal_logpdf(x, xi[:, None], omega[:, None], alpha[:, None]))
+    loglik = np.where(np.isfinite(x), loglik, 0.0).sum(axis=1)
+    mode_value = xi + omega * mode0_batch(alpha) if mode is None else np.full(x.shape[0], mode)
+    return SkewNormalFit(xi, omega, alpha, loglik, n, clipped, notes=notes, mode_value=mode_value)
 
 
 def fit_skew_normal(sample: np.ndarray, mode: float | None = None) -> SkewNormalFit:
@@ -415,80 +690,34 @@ def fit_skew_normal(sample: np.ndarray, mode: float | None = None) -> SkewNormal
     The plain MLE of alpha is infinite with positive probability in small samples (the
     half-normal boundary; Azzalini & Capitanio 1999, Pewsey 2000). The penalty
     Q(alpha) = C1 log(1 + C2 alpha^2) keeps it finite (Azzalini & Arellano-Valle 2013).
-    Starts from the method of moments. Free mode: L-BFGS-B over (xi, log omega, alpha) with
-    the analytic gradient (r = phi/Phi at t = alpha z):
-    dl/dxi = sum (z - alpha r)/omega, dl/dlog omega = sum (z^2 - 1 - alpha z r),
-    dl/dalpha = sum z r - Q'(alpha). Fixed mode: Nelder-Mead over (log omega, alpha) with
-    xi tied to it, xi = mode - omega m0(alpha).
+    This is :func:`fit_skew_normal_batch` on one row, so the headline, the bootstrap and the
+    replay use one estimator (damped Newton from the method of moments and from alpha = 0,
+    the better end kept; with a fixed mode, xi = mode - omega m0(alpha) with the exact mode
+    m0 of SN(0, 1, alpha)).
     """
-    start = fit_skew_normal_batch(sample[None, :])
-    xi0, omega0, alpha0 = float(start.xi[0]), float(start.omega[0]), float(start.alpha[0])
-
-    def unpack(theta: np.ndarray) -> tuple[float, float, float]:
-        if mode is None:
-            return float(theta[0]), float(np.exp(theta[1])), float(theta[2])
-        omega, alpha = float(np.exp(theta[0])), float(theta[1])
-        return float(mode) - omega * float(_mode0_exact(alpha)), omega, alpha
-
-    def penalised(theta: np.ndarray) -> float:
-        xi, omega, alpha = unpack(theta)
-        value = skewnormal_logpdf(sample, xi, omega, alpha).sum()
-        value -= PENALTY_C1 * np.log1p(PENALTY_C2 * alpha**2)
-        return -float(value) if np.isfinite(value) else 1e300
-
-    if mode is None:
-        result = optimize.minimize(
-            _penalised_with_gradient,
-            np.array([xi0, np.log(omega0), alpha0]),
-            args=(sample,),
-            jac=True,
-            method="L-BFGS-B",
-            options={"ftol": 1e-13, "gtol": 1e-9, "maxiter": 500},
+    fitted = _single_row(fit_skew_normal_batch(sample[None, :], mode))
+    if fitted.boundary:
+        fitted = replace(
+            fitted,
+            notes=(
+                *fitted.notes,
+                "skew-normal: the sample skewness is at the edge of what the family allows; the penalised fit keeps the shape finite",
+            ),
         )
-    else:
-        result = optimize.minimize(
-            penalised,
-            np.array([np.log(omega0), alpha0]),
-            method="Nelder-Mead",
-            options={"xatol": 1e-9, "fatol": 1e-10, "maxiter": 4000},
-        )
-    xi, omega, alpha = unpack(result.x)
-    loglik = float(skewnormal_logpdf(sample, xi, omega, alpha).sum())
-    boundary = bool(start.boundary[0])
-    notes = (
-        (
-            "skew-normal: the sample skewness is at the edge of what the family allows; the penalised fit keeps the shape finite",
-        )
-        if boundary
-        else ()
+    return fitted
+
+
+def _single_row(batch: SkewNormalFit) -> SkewNormalFit:
+    return replace(
+        batch,
+        xi=float(batch.xi[0]),
+        omega=float(batch.omega[0]),
+        alpha=float(batch.alpha[0]),
+        loglik=float(batch.loglik[0]),
+        nobs=int(batch.nobs[0]),
+        boundary=bool(batch.boundary[0]),
+        mode_value=float(batch.mode_value[0]),
     )
-    return SkewNormalFit(
-        xi,
-        omega,
-        alpha,
-        loglik,
-        sample.size,
-        boundary,
-        notes=notes,
-        mode_value=xi + omega * float(_mode0_exact(alpha)),
-    )
-
-
-def _penalised_with_gradient(theta: np.ndarray, x: np.ndarray) -> tuple[float, np.ndarray]:
-    """Minus the penalised skew-normal log-likelihood and its gradient in (xi, log omega, alpha)."""
-    xi, log_omega, alpha = theta
-    omega = np.exp(log_omega)
-    z = (x - xi) / omega
-    t = alpha * z
-    log_cdf = special.log_ndtr(t)
-    # phi(t)/Phi(t) computed in logs so it stays finite far in the lower tail.
-    ratio = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - log_cdf)
-    value = np.sum(np.log(2) - log_omega - 0.5 * z**2 - 0.5 * np.log(2 * np.pi) + log_cdf)
-    value -= PENALTY_C1 * np.log1p(PENALTY_C2 * alpha**2)
-    d_xi = np.sum(z - alpha * ratio) / omega
-    d_log_omega = np.sum(z**2 - 1 - alpha * z * ratio)
-    d_alpha = np.sum(z * ratio) - PENALTY_C1 * 2 * PENALTY_C2 * alpha / (1 + PENALTY_C2 * alpha**2)
-    return -float(value), -np.array([d_xi, d_log_omega, d_alpha])
 
 
 def _mode0_exact(alpha: float) -> float:
@@ -601,7 +830,7 @@ def fit_empirical(samples: ArrayLike, mode: float | None = None) -> EmpiricalFit
     q02, q25, q75, q98 = _row_quantiles(x, n, (0.02, 0.25, 0.75, 0.98))
     spread_ = np.minimum(sd, (q75 - q25) / 1.349)
     spread_ = np.where(spread_ > 0, spread_, sd)
-    bandwidth = 0.9 * spread_ * np.maximum(n, 1) ** (-0.2)
+    bandwidth = np.maximum(0.9 * spread_ * np.maximum(n, 1) ** (-0.2), MIN_SCALE)
     steps = np.linspace(0, 1, 64)
     grid = q02[:, None] + (q98 - q02)[:, None] * steps[None, :]
     z = (grid[:, :, None] - x[:, None, :]) / bandwidth[:, None, None]
@@ -621,4 +850,4 @@ def fit_empirical(samples: ArrayLike, mode: float | None = None) -> EmpiricalFit
     if x.shape[0] == 1:  # in-sample log density of a single fit (includes each point's own kernel)
         single = EmpiricalFit(x[0], bandwidth[0], peak[0])
         loglik[0] = float(np.sum(single.logpdf(x[0][np.isfinite(x[0])])))
-    return EmpiricalFit(x, bandwidth, peak, loglik, n)
+    return EmpiricalFit(x, bandwidth, peak, loglik, n, notes=_constant_notes(x))

@@ -11,6 +11,7 @@ replayed (past overlays are not on record); the replay judges the model-based me
 from __future__ import annotations
 
 import dataclasses
+import warnings
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -18,10 +19,11 @@ from typing import Any
 import numpy as np
 from scipy import stats as st
 
-from riskreport import scores, stats
+from riskreport import periods, scores, stats
 from riskreport._typing import Family, Frequency
 from riskreport.config import Band
 from riskreport.distributions import FAMILIES, fit_batch
+from riskreport.errors import SmallSampleWarning
 from riskreport.panel import Panel
 
 MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common practice, no source)
@@ -276,6 +278,8 @@ def _test_entry(name: str, h: int, result: stats.TestResult) -> dict[str, Any]:
         "nobs": result.nobs,
         "null": result.null,
         "method": result.method,
+        "df": list(result.df),
+        "notes": list(result.notes),
     }
 
 
@@ -297,6 +301,7 @@ def summarise(
     brier_rows = []
     rps_rows = []
     tests = []
+    short: list[int] = []
     for r in mine:
         d = scores.brier(r.probabilities[:, 1], (r.category == 1).astype(float))
         brier_rows.append(
@@ -324,7 +329,19 @@ def summarise(
         if r.pit.size >= MIN_TEST_ROUNDS:
             if r.h == 0:
                 tests.append(_test_entry("berkowitz", r.h, stats.berkowitz(r.pit)))
-            tests.append(_test_entry("knuppel", r.h, stats.knuppel(r.pit, h=r.h + 1, moments=2)))
+            if stats.too_short(r.pit.size, r.h + 1) is None:
+                result = stats.knuppel(r.pit, h=r.h + 1, moments=2)
+                tests.append(_test_entry("knuppel", r.h, result))
+            else:
+                short.append(r.h)
+    if short:
+        warnings.warn(
+            f"The calibration test for overlapping PITs was not run at horizons "
+            f"{periods.ranges(short)}: fewer replayed rounds than twice the number of steps "
+            "ahead.",
+            SmallSampleWarning,
+            stacklevel=2,
+        )
     return {
         "distribution": family,
         "coverage": coverage,

@@ -151,8 +151,10 @@ def _single(batch: Any) -> Any:
 def fit_batch(family: Family, samples: ArrayLike, *, mode: float | None = None) -> Fit:
     """Fit every row of a 2-d array of samples at once (NaN = missing).
 
-    Closed forms and grid searches only (the skew-normal by the method of moments), so the
-    bootstrap and the backtest replay can refit thousands of samples quickly. The result's
+    Closed forms, grid searches and (for the skew-normal) damped Newton steps run on all
+    rows at once, so the bootstrap and the backtest replay can refit thousands of samples
+    quickly with the same estimators as :func:`fit` (the two-piece normal's grid profile
+    is refined further in a single fit). The result's
     parameters are arrays with one entry per row; ``cdf`` and ``logpdf`` broadcast over them.
     """
     if family == "normal":
@@ -174,7 +176,8 @@ def fit(family: Family, sample: ArrayLike, *, mode: float | None = None) -> Fit:
     family
         ``"normal"``, ``"two-piece-normal"``, ``"skew-normal"`` or ``"empirical"``.
     sample
-        Forecast errors (actual - forecast), at least two finite values with some spread.
+        Forecast errors (actual - forecast), at least two finite values. A constant sample
+        gets a negligible spread (``MIN_SCALE``) and a note saying so: degenerate, finite.
     mode
         None estimates the mode; a number fixes it there (``centre = "forecast"`` uses 0,
         so the point forecast is the mode).
@@ -189,9 +192,10 @@ def fit(family: Family, sample: ArrayLike, *, mode: float | None = None) -> Fit:
     -----
     normal: maximum likelihood (divisor n). two-piece-normal: maximum likelihood, John's
     closed form for the two scales given the mode, profile over the mode (grid, then a
-    bounded 1-d search), mode kept within the 10-90% range of the sample when the
-    likelihood peaks at its edge. skew-normal: maximum penalised likelihood (finite shape
-    when the plain MLE runs to the half-normal). empirical: Gaussian-kernel smoothed CDF,
+    bounded 1-d search), mode kept between the k-th smallest and k-th largest error,
+    k = max(5, ceil(n/10)), and near half-normal fits flagged. skew-normal: maximum
+    penalised likelihood (finite shape when the plain MLE runs to the half-normal), from
+    two starts. A constant sample gets a negligible spread and a note. empirical: Gaussian-kernel smoothed CDF,
     Silverman bandwidth, quantiles by inversion.
 
     Examples
@@ -205,8 +209,6 @@ def fit(family: Family, sample: ArrayLike, *, mode: float | None = None) -> Fit:
     x = np.asarray(sample, dtype=float)
     if x.ndim != 1 or x.size < 2 or not np.all(np.isfinite(x)):
         raise ValueError("sample: expected at least two finite values in a 1-d array")
-    if np.ptp(x) == 0:
-        raise ValueError("sample: all errors are equal, so no spread can be estimated")
     if family == "skew-normal":
         return fit_skew_normal(x, mode)
     if family == "two-piece-normal" and mode is None:

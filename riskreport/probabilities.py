@@ -60,7 +60,7 @@ def bootstrap_p_inside(
     """A moving-block bootstrap interval for P(inside).
 
     The errors (in origin order) are resampled in blocks of max(h + 1, n^(1/3)) so that
-    the overlap of multi-step errors is kept; each replicate is refitted (all at once, by
+    the overlap of multi-step errors is kept (at most n/2, so replicates differ); each replicate is refitted (all at once, by
     :func:`~riskreport.distributions.fit_batch`) and pushed through the same maps (monotone spread, point forecast, judgement) as the point estimate.
 
     Returns
@@ -69,7 +69,10 @@ def bootstrap_p_inside(
         The central ``level`` interval of the replicated P(inside).
     """
     n = errors.size
-    index = block_indices(n, max(h + 1, round(n ** (1 / 3))), replicates, rng)
+    # Blocks of at most half the sample: a block as long as the sample makes every
+    # replicate the sample itself and the interval a point (a thin horizon far ahead).
+    block = min(max(h + 1, round(n ** (1 / 3))), max(1, n // 2))
+    index = block_indices(n, block, replicates, rng)
     chain = rebase(dist, fit_batch(family, errors[index], mode=mode))
     p = chain.cdf(upper) - chain.cdf(lower)
     tail = (1 - level) / 2
@@ -101,7 +104,8 @@ def normal_scores_correlation(errors: np.ndarray) -> np.ndarray:
     for i in range(k):
         for j in range(i + 1, k):
             both = np.isfinite(scores[:, i]) & np.isfinite(scores[:, j])
-            if both.sum() >= 3:
+            # A horizon whose errors are all equal has no ranks to correlate: 0.
+            if both.sum() >= 3 and np.ptp(scores[both, i]) > 0 and np.ptp(scores[both, j]) > 0:
                 value = np.corrcoef(scores[both, i], scores[both, j])[0, 1]
                 corr[i, j] = corr[j, i] = value if np.isfinite(value) else 0.0
     values, vectors = np.linalg.eigh(corr)

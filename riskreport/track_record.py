@@ -9,12 +9,14 @@ the tests use h lags (``stats`` functions take steps = h + 1).
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
 
-from riskreport import benchmarks, stats
+from riskreport import benchmarks, periods, stats
 from riskreport.combination import Combination
+from riskreport.errors import SmallSampleWarning
 from riskreport.panel import Panel
 
 MIN_TEST_ROWS = 12  # fewer common rows than this: no test (common practice, no source)
@@ -122,8 +124,20 @@ def _common(*columns: np.ndarray) -> np.ndarray:
     return np.all(np.isfinite(np.column_stack(columns)), axis=1)
 
 
+def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int]) -> bool:
+    """Enough common rows for a test of ``steps``-step errors; records h when too few."""
+    rows = int(keep.sum())
+    if rows < minimum:
+        return False
+    if stats.too_short(rows, steps) is not None:
+        skipped.add(h)
+        return False
+    return True
+
+
 def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: int) -> list[TestRow]:
     rows: list[TestRow] = []
+    skipped: set[int] = set()
     for h in range(horizons + 1):
         steps = h + 1
         comb, naive = errors["combination"][:, h], errors["no-change"][:, h]
@@ -131,23 +145,31 @@ def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: in
             e = errors[model][:, h]
             for other, e_other in (("combination", comb), ("no-change", naive)):
                 keep = _common(e, e_other)
-                if keep.sum() >= MIN_TEST_ROWS:
+                if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
                     result = stats.diebold_mariano(e[keep], e_other[keep], h=steps)
                     rows.append(_row("diebold-mariano", (model, other), h, result))
             keep = _common(comb, e)
-            if keep.sum() >= MIN_TEST_ROWS:
+            if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
                 result = stats.encompassing(comb[keep], e[keep], h=steps)
                 rows.append(_row("encompassing", ("combination", model), h, result))
         keep = _common(comb, naive)
-        if keep.sum() >= MIN_TEST_ROWS:
+        if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
             result = stats.diebold_mariano(comb[keep], naive[keep], h=steps)
             rows.append(_row("diebold-mariano", ("combination", "no-change"), h, result))
         if len(current[h]) >= 2:
             matrix = np.column_stack([errors[m][:, h] for m in current[h]])
             keep = _common(matrix)
-            if keep.sum() >= max(MIN_TEST_ROWS, len(current[h]) + 2):
+            if _enough(keep, steps, max(MIN_TEST_ROWS, len(current[h]) + 2), h, skipped):
                 result = stats.mariano_preve(matrix[keep], h=steps)
                 rows.append(_row("mariano-preve", tuple(current[h]), h, result))
+    if skipped:
+        warnings.warn(
+            f"Accuracy tests were not run at horizons {periods.ranges(sorted(skipped))}: "
+            "fewer past rounds in common than twice the number of steps ahead, too few to "
+            "estimate the long-run variance of overlapping multi-step errors.",
+            SmallSampleWarning,
+            stacklevel=3,
+        )
     return rows
 
 

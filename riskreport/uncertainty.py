@@ -72,7 +72,8 @@ def _borrow(columns: list[np.ndarray], h: int, minimum: int) -> tuple[np.ndarray
     pooled, used = [own], []
     for distance in range(1, len(columns)):
         for j in (h - distance, h + distance):
-            if 0 <= j < len(columns) and columns[j].size >= 2:
+            # A neighbour whose errors are all 0 has no spread to rescale: skipped.
+            if 0 <= j < len(columns) and columns[j].size >= 2 and np.any(columns[j] != 0):
                 other = columns[j]
                 pooled.append(other * rms / float(np.sqrt(np.mean(other**2))))
                 used.append(j)
@@ -206,9 +207,11 @@ def build(
             SmallSampleWarning,
             stacklevel=2,
         )
-    edge = [h for h, f in enumerate(fits) if getattr(f, "notes", ())]
-    if edge:
-        note = next(n for f in fits for n in getattr(f, "notes", ()))
+    by_note: dict[str, list[int]] = {}
+    for h, f in enumerate(fits):
+        for note in getattr(f, "notes", ()):
+            by_note.setdefault(note, []).append(h)
+    for note, edge in by_note.items():  # each distinct note once, with its horizons
         warnings.warn(
             f"{note[0].upper()}{note[1:]} (horizons {', '.join(map(str, edge))}).",
             BoundaryFitWarning,

@@ -116,6 +116,10 @@ def test_us_cpi_replay_matches_an_independent_recomputation(tmp_path: Path) -> N
     u = np.sqrt(12) * (pits_arr - 0.5)
     d = np.column_stack([u, u**2 - 1])
     omega = np.cov(d.T, bias=True)
-    assert knuppel["statistic"] == pytest.approx(
-        d.shape[0] * d.mean(0) @ np.linalg.solve(omega, d.mean(0)), rel=1e-9
+    wald = d.shape[0] * d.mean(0) @ np.linalg.solve(omega, d.mean(0))
+    # One step ahead: Hotelling's F = (T - q)/(q T) W ~ F(q, T - q) (Anderson 2003, Thm 5.2.2).
+    t = d.shape[0]
+    assert knuppel["statistic"] == pytest.approx((t - 2) / (2 * t) * wald, rel=1e-9)
+    assert knuppel["pvalue"] == pytest.approx(
+        stats.f.sf((t - 2) / (2 * t) * wald, 2, t - 2), rel=1e-9
     )

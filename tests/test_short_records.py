@@ -1,13 +1,107 @@
-"""Short track records: the brief is built and says what could not be checked."""
+"""Track records that real institutions have: short histories, gaps, identical forecasts.
+
+The long-run variance of h-step errors uses h - 1 autocovariances, and gamma_k needs
+k < T (statsmodels.tsa.stattools.acovf only returns lags below the sample size); with
+fewer rows than that the tests used to crash the whole brief.
+"""
 
 from __future__ import annotations
 
+import json
 from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
+import pytest
 
-from tests.conftest import Result, constant_forecast_world
+import riskreport
+from riskreport import probabilities
+from riskreport.report import context, tables
+from tests.conftest import Case, Result, constant_forecast_world
+
+
+def test_short_history_skips_long_horizon_tests_with_a_note(tmp_path: Path) -> None:
+    # 40 months of history and 20 horizons: at h = 20 only 19 rounds have an outcome, fewer
+    # than the 20 lags the 21-step test needs. It crashed (exit 1); now it is skipped and
+    # the brief says so.
+    errors = np.random.default_rng(5).normal(0, 0.5, 40)
+    config = constant_forecast_world(tmp_path, errors, horizons=20)
+    a = riskreport.assess(config)
+    assert any("Accuracy tests were not run" in w for w in a.warnings)
+    tested = {t.h for t in a.tests}
+    assert 0 in tested
+    assert all(t.nobs >= 2 * (t.h + 1) for t in a.tests)
+
+
+def test_gap_in_the_actuals_builds(tmp_path: Path) -> None:
+    # Three years of outcomes missing in the middle of a 70-month record: at h = 20 only 13
+    # rounds have an outcome, fewer than the test's 20 lags (it crashed; now skipped).
+    errors = np.random.default_rng(6).normal(0, 0.5, 70)
+    config = constant_forecast_world(tmp_path, errors, horizons=24)
+    actuals = (tmp_path / "a.csv").read_text().splitlines()
+    kept = actuals[:31] + actuals[67:]
+    (tmp_path / "a.csv").write_text("\n".join(kept) + "\n")
+    a = riskreport.assess(config)
+    assert len(a.horizons) == 25
+    assert any("Accuracy tests were not run" in w for w in a.warnings)
+    assert all(t.nobs >= 2 * (t.h + 1) for t in a.tests)
+
+
+def test_bootstrap_interval_is_not_a_point_for_a_thin_far_horizon() -> None:
+    # 20 errors at h = 24: blocks of h + 1 = 25 rows were cut to the whole sample, so every
+    # replicate was the sample itself and the interval had zero width.
+    from riskreport import distributions
+
+    errors = np.random.default_rng(7).normal(0, 1, 20)
+    fit = distributions.fit("normal", errors)
+    lo, hi = probabilities.bootstrap_p_inside(
+        errors,
+        fit,
+        -1.0,
+        1.0,
+        h=24,
+        family="normal",
+        mode=None,
+        replicates=200,
+        rng=np.random.default_rng(0),
+    )
+    assert hi - lo > 0.01
+    p = float(fit.cdf(1.0) - fit.cdf(-1.0))
+    assert lo <= p <= hi or p == pytest.approx(lo, abs=0.05)
+
+
+def test_identical_forecasts_are_reported_as_undefined(case: Case, tmp_path: Path) -> None:
+    # Three models with identical forecasts: each equals the equal-weight combination, so
+    # every loss differential against it is 0 at every round. DM is 0/0 (Diebold & Mariano
+    # 1995): the brief used to print p = 1 and blame a negative long-run variance.
+    values = {(r[0], r[1]): r[3] for r in case.forecasts[1:] if r[2] == "a"}
+    case.forecasts = [case.forecasts[0]] + [
+        [r[0], r[1], r[2], values[(r[0], r[1])]] for r in case.forecasts[1:]
+    ]
+    a = riskreport.assess(case.write())
+    against = [t for t in a.tests if t.name == "diebold-mariano" and t.models[1] == "combination"]
+    assert against
+    assert all(np.isnan(t.pvalue) for t in against)
+    assert all(np.isnan(t.pvalue) for t in a.tests if t.name == "mariano-preve")
+    text = " ".join(context._tests_text(a, (0, 1, 2, 3)))
+    assert "could not be computed" in text
+    assert "came out negative" not in text
+    data = json.loads(a.to_json())
+    assert all(t["pvalue"] is None for t in data["tests"] if t["models"][1] == "combination")
+    assert any("undefined" in line for line in tables.track_record_text(a))
+
+
+def test_borrowing_skips_a_neighbour_with_no_spread() -> None:
+    # A thin horizon borrows its neighbours' errors rescaled by their root mean square; a
+    # neighbour whose errors are all 0 gave 0/0 = NaN errors to the fit.
+    from riskreport.uncertainty import _borrow
+
+    columns = [np.array([0.3, -0.2, 0.1]), np.zeros(6), np.array([0.5, -0.4, 0.2, -0.1, 0.3])]
+    pooled, used = _borrow(columns, 0, 8)
+    assert np.all(np.isfinite(pooled))
+    assert used == [2]
+    rms = np.sqrt(np.mean(columns[0] ** 2))
+    assert np.sqrt(np.mean(pooled[3:] ** 2)) == pytest.approx(rms)
 
 
 def test_too_short_a_record_to_replay_is_said_not_hidden(

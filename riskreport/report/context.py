@@ -6,6 +6,7 @@ The templates only loop over these values and print them.
 from __future__ import annotations
 
 import dataclasses
+import math
 from dataclasses import dataclass
 from typing import Any
 
@@ -16,6 +17,19 @@ from riskreport.report import adjustment_words
 from riskreport.report import formatting as fmt
 
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
+
+
+TESTS_METHOD = (
+    "Two forecasts: Diebold-Mariano and encompassing tests with the Harvey-Leybourne-Newbold "
+    "correction, Student t; for an h-step horizon the long-run variance uses h-1 lags "
+    "(rectangular window, Bartlett when that is negative). Several forecasts (Mariano-Preve) "
+    "and the calibration test of overlapping PITs (Knueppel): Hotelling F one step ahead; "
+    "further ahead, a weighted-periodogram variance with a fixed-smoothing F, because the "
+    "textbook chi-square versions reject a true null two to five times too often in samples "
+    "like ours (in simulations the calibration test still rejects too often far ahead in "
+    "short samples). Tests are skipped when there are fewer past rounds than twice the steps "
+    "ahead; a test with no variation to test has no p-value."
+)
 
 
 def summary_horizons(a: Assessment) -> tuple[int, ...]:
@@ -767,6 +781,13 @@ def _tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             "variance came out negative, as it can for overlapping multi-step errors; those "
             "tests use the Bartlett kernel instead (Harvey, Leybourne and Whitehouse 2017)."
         )
+    undefined = [t for t in a.tests if not math.isfinite(t.pvalue)]
+    if undefined:
+        lines.append(
+            f"{len(undefined)} of {len(a.tests)} tests could not be computed and have no "
+            "p-value: the forecasts compared had the same loss at every past round (for "
+            "example, identical forecasts), so there is no variation to test."
+        )
     n = sorted({t.nobs for t in dm})
     if n:
         lines.append(
@@ -950,6 +971,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
                 "Path probabilities",
                 f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}",
             ),
+            KeyValue("Accuracy tests", TESTS_METHOD),
             KeyValue("Verbal scale", scale_of(a).name),
         ),
         inputs=tuple(

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
 from riskreport.report.context import summary_horizons
@@ -41,9 +43,14 @@ def track_record_text(a: Assessment) -> list[str]:
         if t.name == "diebold-mariano" and t.models[1] == "combination"
     }
     rows = [
-        [m, *(fmt.number(pvalues[(m, h)], 3) if (m, h) in pvalues else "-" for h in shown)]
+        [m, *(_pvalue(pvalues[(m, h)]) if (m, h) in pvalues else "-" for h in shown)]
         for m in models
         if any((m, h) in pvalues for h in shown)
     ]
     lines += _table(["model", *(f"h={h}" for h in shown)], rows)
     return lines
+
+
+def _pvalue(value: float) -> str:
+    """A p-value to 3 decimals; "undefined" for a test that could not be computed."""
+    return fmt.number(value, 3) if math.isfinite(value) else "undefined"

@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 import statsmodels.api as sm
 from scipy import stats as st
+from statsmodels.stats.multivariate import test_mvmean as hotelling_test
 from statsmodels.stats.sandwich_covariance import S_hac_simple, weights_uniform
 
 from riskreport import stats
@@ -137,45 +138,65 @@ def test_dm_reports_the_fallback() -> None:
     assert result.statistic == pytest.approx(0.4551859451 * stats.hln_factor(12, 2), abs=1e-9)
 
 
-def test_mariano_preve_oracle() -> None:
-    # checks.md 4: T = 30, h = 2, k = 3, squared loss: S = 2.1024207387, p = 0.3495144514.
-    errors = np.array(
-        [
-            [-0.43, 0.76, -0.32],
-            [-0.14, -0.04, 0.8],
-            [0.71, -0.57, 0.68],
-            [-1.48, 1.83, -1.36],
-            [0.98, 1.33, 1.52],
-            [0.22, -2.02, -1.07],
-            [-0.78, 0.83, -0.45],
-            [-1.29, 0.61, -1.27],
-            [0.51, 1.26, 0.46],
-            [1.05, -0.28, 1.56],
-            [1.51, 2.14, 1.92],
-            [1.39, -0.63, 1.2],
-            [0.62, 1.53, 0.48],
-            [0.43, 0.45, 0.51],
-            [1.07, 2.32, 0.27],
-            [-0.5, -0.73, -1.33],
-            [-0.4, 0.82, 0.13],
-            [0.36, 1.13, 0.08],
-            [-0.3, -0.52, -0.75],
-            [0.54, 0.23, 0.54],
-            [-0.06, -0.6, -0.32],
-            [0.53, 0.78, 0.63],
-            [0.41, 0.87, -0.26],
-            [0.52, -0.21, 0.38],
-            [-1.33, -0.04, -1.83],
-            [-1.47, -0.96, -0.07],
-            [1.0, -0.22, 1.84],
-            [0.72, -2.25, -0.41],
-            [-0.01, -1.43, 0.15],
-            [0.93, -0.52, 0.66],
-        ]
-    )
-    losses = errors**2
+# checks.md 4: T = 30, h = 2, k = 3 errors (one row per period).
+MP_ERRORS = np.array(
+    [
+        [-0.43, 0.76, -0.32],
+        [-0.14, -0.04, 0.8],
+        [0.71, -0.57, 0.68],
+        [-1.48, 1.83, -1.36],
+        [0.98, 1.33, 1.52],
+        [0.22, -2.02, -1.07],
+        [-0.78, 0.83, -0.45],
+        [-1.29, 0.61, -1.27],
+        [0.51, 1.26, 0.46],
+        [1.05, -0.28, 1.56],
+        [1.51, 2.14, 1.92],
+        [1.39, -0.63, 1.2],
+        [0.62, 1.53, 0.48],
+        [0.43, 0.45, 0.51],
+        [1.07, 2.32, 0.27],
+        [-0.5, -0.73, -1.33],
+        [-0.4, 0.82, 0.13],
+        [0.36, 1.13, 0.08],
+        [-0.3, -0.52, -0.75],
+        [0.54, 0.23, 0.54],
+        [-0.06, -0.6, -0.32],
+        [0.53, 0.78, 0.63],
+        [0.41, 0.87, -0.26],
+        [0.52, -0.21, 0.38],
+        [-1.33, -0.04, -1.83],
+        [-1.47, -0.96, -0.07],
+        [1.0, -0.22, 1.84],
+        [0.72, -2.25, -0.41],
+        [-0.01, -1.43, 0.15],
+        [0.93, -0.52, 0.66],
+    ]
+)
+
+
+def _periodogram_f(d: np.ndarray, m: int) -> tuple[float, float]:
+    """Fixed-smoothing F by an independent route: numpy's FFT cross-periodogram.
+
+    Omega = (2 pi / m) sum_{j=1}^m Re I(lambda_j), I(l) = w(l) w(l)^* with w(l) = (2 pi
+    T)^(-1/2) sum_t d_t exp(-i l t) (Daniell weighted periodogram); F = (2m - q + 1)/(2m q)
+    T d-bar' Omega^-1 d-bar ~ F(q, 2m - q + 1) (Sun 2013, Econometrics Journal 16(1):1-26;
+    Coroneo & Iacone 2020, J. Applied Econometrics 35(4):391-409).
+    """
+    t, q = d.shape
+    w = np.fft.fft(d, axis=0)[1 : m + 1] / np.sqrt(2 * np.pi * t)
+    omega = 2 * np.pi / m * np.real(np.einsum("ja,jb->ab", w, np.conj(w)))
+    wald = t * d.mean(0) @ np.linalg.solve(omega, d.mean(0))
+    f = (2 * m - q + 1) / (2 * m * q) * wald
+    return f, float(st.f.sf(f, q, 2 * m - q + 1))
+
+
+def test_mariano_preve_rectangular_omega_of_the_oracle_is_indefinite() -> None:
+    # checks.md 4: successive contrasts, rectangular Omega with denominators T and h-1 lags;
+    # that Omega has eigenvalues -0.0348 and 3.152, so its S = 2.1024 is not a statistic
+    # (the earlier oracle built on it is withdrawn). The test must not use it.
+    losses = MP_ERRORS**2
     d = losses[:, :-1] - losses[:, 1:]
-    # checks.md 4: successive contrasts, rectangular Omega with denominators T and h-1 lags.
     assert d.mean(0) == pytest.approx((-0.57430667, 0.37575333), abs=1e-8)
     omega = stats.long_run_covariance(d, 1)
     assert omega == pytest.approx(
@@ -184,35 +205,124 @@ def test_mariano_preve_oracle() -> None:
     # Cross-check with statsmodels primitives (checks.md 4).
     sm_omega = S_hac_simple(d - d.mean(0), nlags=1, weights_func=weights_uniform) / 30
     assert omega == pytest.approx(sm_omega, abs=1e-12)
-    s_rect = 30 * d.mean(0) @ np.linalg.solve(omega, d.mean(0))
-    assert s_rect == pytest.approx(2.1024207387, abs=1e-9)
-    # That Omega is not positive definite (its determinant is negative), so the test uses
-    # the Bartlett kernel instead, as for a non-positive DM variance, and says so.
-    assert np.linalg.det(omega) < 0
-    result = stats.mariano_preve(errors, h=2)
-    assert any("Bartlett" in note for note in result.notes)
-    assert result.statistic > 0
-    assert result.df == (2,)
-    # With h = 1 no lags enter, Omega is positive definite and no fallback is needed.
-    h1 = stats.mariano_preve(errors, h=1)
-    assert h1.notes == ()
-    omega1 = stats.long_run_covariance(d, 0)
-    assert h1.statistic == pytest.approx(
-        30 * d.mean(0) @ np.linalg.solve(omega1, d.mean(0)), abs=1e-9
-    )
+    assert np.linalg.eigvalsh(omega)[0] == pytest.approx(-0.0348, abs=1e-4)
+
+
+def test_mariano_preve_h2_is_the_fixed_smoothing_f() -> None:
+    # h > 1: weighted-periodogram Omega with m = floor(30^(1/3)) = 3 frequencies and the
+    # fixed-smoothing F(2, 2m - 1) (Sun 2013; Coroneo & Iacone 2020), checked against the
+    # FFT route above and scipy.stats.f.
+    losses = MP_ERRORS**2
+    d = losses[:, :-1] - losses[:, 1:]
+    result = stats.mariano_preve(MP_ERRORS, h=2)
+    f, p = _periodogram_f(d, 3)
+    assert result.statistic == pytest.approx(f, abs=1e-9)
+    assert result.pvalue == pytest.approx(p, abs=1e-12)
+    assert result.df == (2, 5)
+    assert "periodogram" in result.method
+    assert result.notes == ()
     # Invariant to the order of the models (Mariano & Preve 2012, abstract).
-    assert stats.mariano_preve(errors[:, [2, 0, 1]], h=1).statistic == pytest.approx(
-        h1.statistic, abs=1e-9
+    assert stats.mariano_preve(MP_ERRORS[:, [2, 0, 1]], h=2).statistic == pytest.approx(
+        result.statistic, abs=1e-9
     )
 
 
-def test_mariano_preve_reduces_to_dm_squared(rng: np.random.Generator) -> None:
+def test_mariano_preve_h1_is_hotelling() -> None:
+    # h = 1: the one-sample Hotelling T^2 test of zero mean differentials, F(q, T - q):
+    # statsmodels.stats.multivariate.test_mvmean (Anderson 2003, Thm 5.2.2).
+    losses = MP_ERRORS**2
+    d = losses[:, :-1] - losses[:, 1:]
+    result = stats.mariano_preve(MP_ERRORS, h=1)
+    hotelling = hotelling_test(d, mean_null=0)
+    assert result.statistic == pytest.approx(float(hotelling.statistic), abs=1e-9)
+    assert result.pvalue == pytest.approx(float(hotelling.pvalue), abs=1e-12)
+    assert result.df == (2, 28)
+    assert stats.mariano_preve(MP_ERRORS[:, [2, 0, 1]], h=1).statistic == pytest.approx(
+        result.statistic, abs=1e-9
+    )
+
+
+def test_mariano_preve_reduces_to_mdm_squared(rng: np.random.Generator) -> None:
+    # k = 2, h = 1: Hotelling F(1, T - 1) = t(T - 1)^2, the square of HLN's MDM (HLN 1997).
     a, b = rng.normal(size=50), rng.normal(size=50) * 1.1
-    t = 50
-    dm = stats.diebold_mariano(a, b, h=1).statistic / stats.hln_factor(t, 1)
-    assert stats.mariano_preve(np.column_stack([a, b]), h=1).statistic == pytest.approx(
-        dm**2, abs=1e-9
+    mdm = stats.diebold_mariano(a, b, h=1)
+    mp = stats.mariano_preve(np.column_stack([a, b]), h=1)
+    assert mp.statistic == pytest.approx(mdm.statistic**2, abs=1e-9)
+    assert mp.pvalue == pytest.approx(mdm.pvalue, abs=1e-9)
+
+
+def test_knuppel_against_hotelling_and_the_periodogram(rng: np.random.Generator) -> None:
+    # checks.md 8.3 PITs; h = 1: Hotelling on (u, u^2 - 1) (statsmodels test_mvmean);
+    # h = 3: the fixed-smoothing F by the FFT route.
+    pit = np.array(
+        [
+            0.12,
+            0.55,
+            0.81,
+            0.34,
+            0.67,
+            0.91,
+            0.45,
+            0.23,
+            0.78,
+            0.60,
+            0.05,
+            0.39,
+            0.72,
+            0.88,
+            0.51,
+            0.29,
+            0.63,
+            0.97,
+            0.41,
+            0.18,
+        ]
     )
+    u = np.sqrt(12) * (pit - 0.5)
+    d = np.column_stack([u, u**2 - 1])
+    one = stats.knuppel(pit, h=1, moments=2)
+    hotelling = hotelling_test(d, mean_null=0)
+    assert one.statistic == pytest.approx(float(hotelling.statistic), abs=1e-9)
+    assert one.pvalue == pytest.approx(float(hotelling.pvalue), abs=1e-12)
+    # checks.md 8.3: iid centred alpha = 0.861693 for moments 1-2; Hotelling's F is
+    # (T - q)/(q T) of it.
+    assert one.statistic == pytest.approx(0.861693 * 18 / 40, abs=1e-6)
+    three = stats.knuppel(pit, h=3, moments=2)
+    f, p = _periodogram_f(d, 2)
+    assert (three.statistic, three.pvalue) == pytest.approx((f, p), abs=1e-9)
+    assert three.df == (2, 3)
+
+
+def test_identical_forecasts_give_an_undefined_test_not_p_one() -> None:
+    # Two identical forecasts: the loss differential is 0 at every period, its variance is
+    # 0 and the DM statistic 0/0 is undefined (Diebold & Mariano 1995, the statistic
+    # d-bar / sqrt(V)); it was reported as p = 1 with a "negative variance" note.
+    e = E1.copy()
+    for h in (1, 3):
+        result = stats.diebold_mariano(e, e.copy(), h=h)
+        assert np.isnan(result.pvalue)
+        assert np.isnan(result.statistic)
+        assert result.notes == (stats.NO_VARIATION,)
+        assert not any("Bartlett" in n for n in result.notes)
+    # The same for the encompassing tests (was statistic 0, p = 0.5).
+    enc = stats.encompassing(e, e.copy(), h=2)
+    assert np.isnan(enc.pvalue)
+    assert enc.notes == (stats.NO_VARIATION,)
+    mp = stats.mariano_preve(np.column_stack([E1, E2, E2]), h=1)
+    assert np.isnan(mp.pvalue)
+    assert mp.notes == (stats.SINGULAR,)
+
+
+def test_lags_beyond_the_sample_are_refused_clearly() -> None:
+    # 20 lags on 12 rows: gamma_k for k >= T has no pairs (statsmodels acovf returns only
+    # nlag < T). Before: a numpy shape error from deep inside; now a clear ValueError, and
+    # too_short tells callers to skip the test.
+    a, b = E1[:12], E2[:12]
+    with pytest.raises(ValueError, match="lags of the long-run variance"):
+        stats.diebold_mariano(a, b, h=21)
+    assert stats.too_short(12, 21) is not None
+    assert stats.too_short(12, 6) is None
+    assert stats.too_short(12, 7) is not None
 
 
 def test_encompassing_oracles() -> None:
@@ -229,13 +339,24 @@ def test_encompassing_oracles() -> None:
 
 
 def test_multiple_encompassing_oracle() -> None:
-    # checks.md 5: Wald W = 16.90149223; Hotelling F version 7.68249647, p(F(2,10)) =
-    # 0.00952415 (the Hotelling conversion is recalled there [M], as it is in our docstring).
+    # checks.md 5: Wald W = 16.90149223; with the divisor-T Omega the exact Hotelling
+    # conversion is (T - q)/(q T) W = 10/24 W = 7.04228843 ~ F(2, 10) (Harvey & Newbold
+    # 2000; Anderson 2003, Thm 5.2.2). The earlier (T - q)/(q (T - 1)) gave 7.68249647.
     e1, e2, e3 = Y - F1, Y - F2, Y - F3
     r = stats.encompassing_multiple(e1, np.column_stack([e2, e3]), h=1)
-    assert r.statistic == pytest.approx(7.68249647, abs=1e-7)
-    assert r.pvalue == pytest.approx(0.00952415, abs=1e-7)
+    assert r.statistic == pytest.approx(7.04228843, abs=1e-7)
+    assert r.statistic == pytest.approx(10 / 24 * 16.90149223, abs=1e-7)
     assert r.df == (2, 10)
+    # Independent routes: statsmodels' one-sample Hotelling test of the differentials
+    # d_t = e1 (e1 - e_j), and scipy's F distribution.
+    d = np.column_stack([e1 * (e1 - e2), e1 * (e1 - e3)])
+    hotelling = hotelling_test(d, mean_null=0)
+    assert r.statistic == pytest.approx(float(hotelling.statistic), abs=1e-9)
+    assert r.pvalue == pytest.approx(float(hotelling.pvalue), abs=1e-12)
+    assert r.pvalue == pytest.approx(float(st.f.sf(7.04228843, 2, 10)), abs=1e-8)
+    # q = 1: the square of the MDM-style statistic without the h terms (checks.md 5).
+    single = stats.encompassing_multiple(e1, e2, h=1)
+    assert single.statistic == pytest.approx(stats.encompassing(e1, e2, h=1).statistic ** 2)
 
 
 def test_bad_input_is_refused() -> None:

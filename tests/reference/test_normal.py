@@ -73,5 +73,5 @@ def test_scaling_about_the_mode_against_scipy() -> None:
 def test_fit_rejects_degenerate_samples() -> None:
     with pytest.raises(ValueError, match="at least two"):
         distributions.fit("normal", [1.0])
-    with pytest.raises(ValueError, match="all errors are equal"):
-        distributions.fit("normal", [0.5, 0.5, 0.5])
+    # A constant sample is degenerate but fitted (tests/reference/test_families.py).
+    assert distributions.fit("normal", [0.5, 0.5, 0.5]).notes

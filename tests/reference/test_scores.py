@@ -141,8 +141,18 @@ def test_berkowitz_oracle() -> None:
 
 
 def test_knuppel_oracles() -> None:
-    # checks.md 8.3: iid centred, moments 1-2: 0.861693; 1-4: 1.152559; Bartlett L = 2,
-    # centred, moments 1-4: 2.388942.
-    assert rstats.knuppel(PIT, h=1, moments=2).statistic == pytest.approx(0.861693, abs=1e-6)
-    assert rstats.knuppel(PIT, h=1, moments=4).statistic == pytest.approx(1.152559, abs=1e-6)
-    assert rstats.knuppel(PIT, h=3, moments=4).statistic == pytest.approx(2.388942, abs=1e-6)
+    # checks.md 8.3: iid centred alpha, moments 1-2: 0.861693; 1-4: 1.152559. One step
+    # ahead the test reports Hotelling's F = (T - q)/(q T) alpha ~ F(q, T - q) (Anderson
+    # 2003, Thm 5.2.2), T = 20.
+    two = rstats.knuppel(PIT, h=1, moments=2)
+    assert two.statistic == pytest.approx(0.861693 * 18 / 40, abs=1e-6)
+    assert two.df == (2, 18)
+    four = rstats.knuppel(PIT, h=1, moments=4)
+    assert four.statistic == pytest.approx(1.152559 * 16 / 80, abs=1e-6)
+    # Bartlett L = 2, centred, moments 1-4: alpha = 2.388942 (the kernel is no longer the
+    # test's, but the long-run covariance helper still computes it).
+    u = np.sqrt(12) * (np.asarray(PIT) - 0.5)
+    d = np.column_stack([u, u**2 - 1, u**3, u**4 - 9 / 5])
+    omega = rstats.long_run_covariance(d, 2, kernel="bartlett")
+    alpha = 20 * d.mean(0) @ np.linalg.solve(omega, d.mean(0))
+    assert alpha == pytest.approx(2.388942, abs=1e-6)
