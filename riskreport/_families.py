@@ -467,7 +467,9 @@ def _sn_terms(
     z = np.where(finite, (np.where(finite, x, 0.0) - xi) / omega, 0.0)
     t = alpha * z
     log_cdf = special.log_ndtr(t)
-    r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - log_cdf)  # phi/Phi, stable in the tail
+    # phi(t)/Phi(t) = sqrt(2/pi) / erfcx(-t/sqrt(2)), stable for every t (the difference of
+    # two huge logs overflowed for far-off trial steps).
+    r = SQRT_2_PI / special.erfcx(-t / np.sqrt(2))
     n = finite.sum(axis=1)
     a = alpha[:, 0]
     penalty = PENALTY_C1 * np.log1p(PENALTY_C2 * a**2)
@@ -527,7 +529,8 @@ def _sn_newton(x: np.ndarray, theta: np.ndarray, iterations: int = 60) -> tuple[
             step = grad[rows] / scale
         step[:, 1] = np.clip(step[:, 1], -2.0, 2.0)  # omega changes at most e^2-fold a step
         trial = theta[rows] + step
-        new_value, new_grad, new_hess = _sn_terms(x[rows], trial, True)
+        with np.errstate(over="ignore", invalid="ignore"):  # a wild trial is rejected below
+            new_value, new_grad, new_hess = _sn_terms(x[rows], trial, True)
         better = np.isfinite(new_value) & (new_value >= value[rows])
         good = rows[better]
         theta[good] = trial[better]
