@@ -12,7 +12,9 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+from riskreport.density import DensityCurve
 from riskreport.overlay import AppliedJudgement
+from riskreport.thresholds import ThresholdResult
 from riskreport.track_record import AccuracyRow, TestRow
 
 
@@ -112,6 +114,8 @@ class Assessment:
     inputs: tuple[InputRecord, ...]
     software: dict[str, str]
     warnings: tuple[str, ...]
+    thresholds: tuple[ThresholdResult, ...] = ()
+    density: tuple[DensityCurve, ...] = ()
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after the overlay unless ``model_based``)."""

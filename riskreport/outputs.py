@@ -71,6 +71,23 @@ def _horizon_rows(rows: list[dict[str, object]]) -> list[dict[str, object]]:
     return flat
 
 
+def threshold_rows(assessment: Assessment) -> list[dict[str, object]]:
+    """One row per threshold and period: the ``thresholds`` table (CSV and workbook)."""
+    return [
+        {
+            "threshold": t.threshold,
+            "period": at.period,
+            "h": at.h,
+            "p_below": at.p_below,
+            "p_above": at.p_above,
+            "p_below_at_least_once": path.p_below_at_least_once,
+            "p_above_at_least_once": path.p_above_at_least_once,
+        }
+        for t in assessment.thresholds
+        for at, path in zip(t.horizons, t.path, strict=True)
+    ]
+
+
 def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[str, bytes]:
     """Every output file of a brief, by path relative to the output directory."""
     chosen = set(formats)
@@ -108,8 +125,14 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         files[f"tables/scenarios-{as_of}.csv"] = _csv(
             {"scenario": sc["name"], **row} for sc in data["scenarios"] for row in sc["horizons"]
         )
+        if assessment.thresholds:
+            files[f"tables/thresholds-{as_of}.csv"] = _csv(threshold_rows(assessment))
         if data["change"]:
             files[f"tables/change-{as_of}.csv"] = _csv(data["change"]["horizons"])
+    if "xlsx" in chosen:
+        from riskreport.report import workbook
+
+        files[f"workbook-{as_of}.xlsx"] = workbook.workbook(assessment)
     if chosen & {"html", "pdf"}:
         from riskreport.report import render as render_module
 
@@ -186,7 +209,7 @@ def render(
     out_dir
         The output directory (created if needed).
     formats
-        Any of ``"pdf"``, ``"html"``, ``"json"``, ``"csv"``.
+        Any of ``"pdf"``, ``"html"``, ``"json"``, ``"csv"``, ``"xlsx"``.
     force
         Replace existing files for this as_of that differ.
 

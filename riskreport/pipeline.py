@@ -21,7 +21,9 @@ from riskreport import calibration, overlay, periods, probabilities, selection, 
 from riskreport import change as change_module
 from riskreport import combination as combination_module
 from riskreport import config as config_module
+from riskreport import density as density_module
 from riskreport import panel as panel_module
+from riskreport import thresholds as thresholds_module
 from riskreport._typing import Family
 from riskreport.assessment import (
     Assessment,
@@ -425,6 +427,13 @@ def _assess(cfg: Config) -> Assessment:
         inputs=_input_records(cfg, fc, act, given),
         software=_software(),
         warnings=(),
+        thresholds=thresholds_module.evaluate(
+            cfg.thresholds, final, draws, [r.period for r in adjusted]
+        ),
+        density=tuple(
+            density_module.curve(final[h], margins.outcome[h], adjusted[h].period, h)
+            for h in (cfg.density_horizons or (cfg.policy_horizon,))
+        ),
     )
 
 

@@ -46,6 +46,8 @@ def test_all_outputs_exist(demo_build: Path) -> None:
         f"assessment-{AS_OF}.json",
         f"tables/horizons-{AS_OF}.csv",
         f"charts/outlook-{AS_OF}.svg",
+        f"tables/thresholds-{AS_OF}.csv",
+        f"workbook-{AS_OF}.xlsx",
         "runs.jsonl",
     ):
         assert (out / name).is_file(), name
@@ -82,6 +84,9 @@ def test_json_contract_keys(demo_build: Path) -> None:
     assert {"model", "h", "n", "mae", "rmse", "mean_error"} <= set(data["accuracy"][0])
     assert data["combination"]["method"] == "equal"
     assert data["change"] is None
+    # [target] thresholds = [0.0, 5.0] in the demo config
+    assert [t["threshold"] for t in data["thresholds"]] == [0.0, 5.0]
+    assert len(data["thresholds"][0]["horizons"]) == len(data["thresholds"][0]["path"]) == 25
 
 
 def test_pdf_carries_the_headline_numbers_from_the_json(demo_build: Path) -> None:

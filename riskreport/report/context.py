@@ -11,6 +11,7 @@ from typing import Any
 from riskreport import verbal
 from riskreport.assessment import Assessment, HorizonResult
 from riskreport.report import formatting as fmt
+from riskreport.report import threshold_text
 
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
 
@@ -170,6 +171,10 @@ class BriefContext:
     samples: tuple[KeyValue, ...]
     warnings: tuple[str, ...]
     software: str
+    threshold_line: str = ""
+    threshold_rows: tuple[threshold_text.ThresholdRow, ...] = ()
+    threshold_text: str = threshold_text.APPENDIX_TEXT
+    density_charts: tuple[str, ...] = ()
 
 
 def band_label(band: tuple[float, float]) -> str:
@@ -828,4 +833,7 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         samples=(KeyValue("Past errors per horizon", _span(samples)),),
         warnings=a.warnings,
         software=", ".join(f"{k} {v}" for k, v in a.software.items()),
+        threshold_line=threshold_text.page_one_line(a),
+        threshold_rows=threshold_text.appendix_rows(a, summary_h),
+        density_charts=tuple(name for name in charts if name.startswith("density-")),
     )
