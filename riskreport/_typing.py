@@ -24,7 +24,7 @@ CombinationMethod = Literal[
     "shrink",
     "given",
 ]
-OutputFormat = Literal["pdf", "html", "json", "csv", "xlsx"]
+OutputFormat = Literal["pdf", "html", "json", "csv", "xlsx", "png", "slides"]
 
 FREQUENCIES: tuple[Frequency, ...] = get_args(Frequency)
 BASES: tuple[Basis, ...] = get_args(Basis)

@@ -71,6 +71,11 @@ def _horizon_rows(rows: list[dict[str, object]]) -> list[dict[str, object]]:
     return flat
 
 
+def _digits(value: float) -> float:
+    """12 significant digits, as in the JSON."""
+    return float(f"{value:.12g}")
+
+
 def threshold_rows(assessment: Assessment) -> list[dict[str, object]]:
     """One row per threshold and period: the ``thresholds`` table (CSV and workbook)."""
     return [
@@ -78,10 +83,10 @@ def threshold_rows(assessment: Assessment) -> list[dict[str, object]]:
             "threshold": t.threshold,
             "period": at.period,
             "h": at.h,
-            "p_below": at.p_below,
-            "p_above": at.p_above,
-            "p_below_at_least_once": path.p_below_at_least_once,
-            "p_above_at_least_once": path.p_above_at_least_once,
+            "p_below": _digits(at.p_below),
+            "p_above": _digits(at.p_above),
+            "p_below_at_least_once": _digits(path.p_below_at_least_once),
+            "p_above_at_least_once": _digits(path.p_above_at_least_once),
         }
         for t in assessment.thresholds
         for at, path in zip(t.horizons, t.path, strict=True)
@@ -133,6 +138,17 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         from riskreport.report import workbook
 
         files[f"workbook-{as_of}.xlsx"] = workbook.workbook(assessment)
+    if chosen & {"png", "slides"}:
+        from riskreport.report import slides
+
+        made = [("charts", slides.pictures(assessment))] if "png" in chosen else []
+        if "slides" in chosen:
+            made.append(("slides", slides.slides(assessment)))
+            files[f"slides/quantiles-{as_of}.csv"] = slides.quantile_table(assessment)
+        for folder, pictures in made:
+            for picture in pictures:
+                files[f"{folder}/{picture.name}-{as_of}.png"] = picture.png
+                files[f"{folder}/{picture.name}-{as_of}.txt"] = (picture.alt + "\n").encode("utf-8")
     if chosen & {"html", "pdf"}:
         from riskreport.report import render as render_module
 
@@ -209,7 +225,8 @@ def render(
     out_dir
         The output directory (created if needed).
     formats
-        Any of ``"pdf"``, ``"html"``, ``"json"``, ``"csv"``, ``"xlsx"``.
+        Any of ``"pdf"``, ``"html"``, ``"json"``, ``"csv"``, ``"xlsx"``, ``"png"``,
+        ``"slides"``.
     force
         Replace existing files for this as_of that differ.
 

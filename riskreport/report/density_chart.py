@@ -44,7 +44,7 @@ def draw(a: Assessment, c: DensityCurve, width_mm: float = 84, height_mm: float 
         fig = figure(width_mm, height_mm)
         ax = fig.add_subplot()
         top = float(max(f.max(), g.max())) * 1.25
-        ax.axvspan(lower, upper, facecolor="none", edgecolor=BAND_EDGE, hatch="////", lw=0)
+        ax.axvspan(lower, upper, facecolor="none", edgecolor=GRID, hatch="////", lw=0)
         ax.axvline(lower, color=BAND_EDGE, lw=0.6)
         ax.axvline(upper, color=BAND_EDGE, lw=0.6)
         inside_mask = (x >= lower) & (x <= upper)
@@ -67,6 +67,7 @@ def draw(a: Assessment, c: DensityCurve, width_mm: float = 84, height_mm: float 
                 va="top",
                 fontsize=7.5,
                 color=OUTCOME_STYLE[key]["color"],
+                bbox={"facecolor": "white", "edgecolor": "none", "pad": 1},
             )
         ax.set_ylim(0, top)
         ax.set_xlim(float(x[0]), float(x[-1]))
