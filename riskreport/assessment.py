@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from riskreport.density import DensityCurve
+from riskreport.history import RoundPoint
 from riskreport.overlay import AppliedJudgement
 from riskreport.thresholds import ThresholdResult
 from riskreport.track_record import AccuracyRow, TestRow
@@ -116,6 +117,7 @@ class Assessment:
     warnings: tuple[str, ...]
     thresholds: tuple[ThresholdResult, ...] = ()
     density: tuple[DensityCurve, ...] = ()
+    round_history: tuple[RoundPoint, ...] = ()
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after the overlay unless ``model_based``)."""

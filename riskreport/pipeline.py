@@ -22,6 +22,7 @@ from riskreport import change as change_module
 from riskreport import combination as combination_module
 from riskreport import config as config_module
 from riskreport import density as density_module
+from riskreport import history as history_module
 from riskreport import panel as panel_module
 from riskreport import thresholds as thresholds_module
 from riskreport._typing import Family
@@ -318,7 +319,17 @@ def assess_config(
         change = change_module.compare(
             earlier, [dataclasses.asdict(r) for r in assessment.horizons]
         )
-    return dataclasses.replace(assessment, warnings=tuple(dict.fromkeys(notes)), change=change)
+    policy = assessment.policy
+    rounds = history_module.points(
+        previous.parent if previous is not None else search or cfg.output_directory,
+        assessment.as_of,
+        policy.period,
+        policy.h,
+        policy.p_inside,
+    )
+    return dataclasses.replace(
+        assessment, warnings=tuple(dict.fromkeys(notes)), change=change, round_history=rounds
+    )
 
 
 def _assess(cfg: Config) -> Assessment:

@@ -11,7 +11,7 @@ from typing import Any
 from riskreport import verbal
 from riskreport.assessment import Assessment, HorizonResult
 from riskreport.report import formatting as fmt
-from riskreport.report import threshold_text
+from riskreport.report import round_history, threshold_text
 
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
 
@@ -175,6 +175,8 @@ class BriefContext:
     threshold_rows: tuple[threshold_text.ThresholdRow, ...] = ()
     threshold_text: str = threshold_text.APPENDIX_TEXT
     density_charts: tuple[str, ...] = ()
+    round_rows: tuple[tuple[str, str, str], ...] = ()
+    round_text: str = ""
 
 
 def band_label(band: tuple[float, float]) -> str:
@@ -836,4 +838,6 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         threshold_line=threshold_text.page_one_line(a),
         threshold_rows=threshold_text.appendix_rows(a, summary_h),
         density_charts=tuple(name for name in charts if name.startswith("density-")),
+        round_rows=round_history.rows(a) if round_history.shown(a) else (),
+        round_text=round_history.text(a) if round_history.shown(a) else "",
     )

@@ -43,7 +43,7 @@ def draw(a: Assessment, c: DensityCurve, width_mm: float = 84, height_mm: float 
     with matplotlib.rc_context(_RC):
         fig = figure(width_mm, height_mm)
         ax = fig.add_subplot()
-        top = float(max(f.max(), g.max())) * 1.25
+        top = float(max(f.max(), g.max())) * 1.45
         ax.axvspan(lower, upper, facecolor="none", edgecolor=GRID, hatch="////", lw=0)
         ax.axvline(lower, color=BAND_EDGE, lw=0.6)
         ax.axvline(upper, color=BAND_EDGE, lw=0.6)
@@ -52,15 +52,16 @@ def draw(a: Assessment, c: DensityCurve, width_mm: float = 84, height_mm: float 
         ax.plot(x, f, color=INK, lw=1.2, label="after judgement" if judged else "outcome density")
         if judged:
             ax.plot(x, g, color=BAND_EDGE, lw=1.0, ls=(0, (4, 2)), label="model-based")
-        for text, xpos, ha, key in (
-            (f"below {below}", lower, "right", "below"),
-            (f"inside {inside}", (lower + upper) / 2, "center", "inside"),
-            (f"above {above}", upper, "left", "above"),
+        # inside on the top row, below and above one row lower, so narrow bands stay legible
+        for text, xpos, ha, key, row in (
+            (f"below {below}", lower, "right", "below", 0.86),
+            (f"inside {inside}", (lower + upper) / 2, "center", "inside", 0.98),
+            (f"above {above}", upper, "left", "above", 0.86),
         ):
             offset = {"right": -3, "center": 0, "left": 3}[ha]
             ax.annotate(
                 text,
-                (xpos, top * 0.97),
+                (xpos, top * row),
                 xytext=(offset, 0),
                 textcoords="offset points",
                 ha=ha,

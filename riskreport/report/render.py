@@ -143,6 +143,10 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], d
                 density_chart.caption(a, curve),
             )
         )
+    from riskreport.report import round_history
+
+    if round_history.shown(a):
+        made.append((round_history.chart(a), round_history.alt_text(a), round_history.CAPTION))
     if a.change and a.change["horizons"]:
         made.append(
             (

@@ -16,7 +16,6 @@ from dataclasses import dataclass
 
 import matplotlib
 from matplotlib.figure import Figure
-from PIL import Image
 from PIL.PngImagePlugin import PngInfo
 
 from riskreport.assessment import Assessment
@@ -39,16 +38,20 @@ class Picture:
 
 def _png(fig: Figure, *, dpi: float, recorded_dpi: int, title: str, alt: str) -> bytes:
     """PNG bytes with no clock in them, the given recorded resolution and the alt text."""
-    buffer = io.BytesIO()
-    with matplotlib.rc_context(charts._RC):
-        fig.savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
-    image = Image.open(io.BytesIO(buffer.getvalue()))
     info = PngInfo()
     info.add_text("Title", title)
     info.add_itxt("Description", alt)
-    out = io.BytesIO()
-    image.save(out, format="PNG", dpi=(recorded_dpi, recorded_dpi), pnginfo=info)
-    return out.getvalue()
+    buffer = io.BytesIO()
+    with matplotlib.rc_context(charts._RC):
+        # pil_kwargs: one encoding, with our pHYs resolution and text chunks (and no
+        # "Software" chunk, which would carry the matplotlib version)
+        fig.savefig(
+            buffer,
+            format="png",
+            dpi=dpi,
+            pil_kwargs={"pnginfo": info, "dpi": (recorded_dpi, recorded_dpi), "compress_level": 3},
+        )
+    return buffer.getvalue()
 
 
 def _charts(a: Assessment) -> list[tuple[str, Callable[[float, float], Figure], str]]:
