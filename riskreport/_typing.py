@@ -25,6 +25,7 @@ CombinationMethod = Literal[
     "given",
 ]
 OutputFormat = Literal["pdf", "html", "json", "csv", "xlsx", "png", "slides"]
+ScoreAgainst = Literal["latest", "first-release"]
 
 FREQUENCIES: tuple[Frequency, ...] = get_args(Frequency)
 BASES: tuple[Basis, ...] = get_args(Basis)
@@ -33,3 +34,4 @@ DISTRIBUTION_CHOICES: tuple[DistributionChoice, ...] = get_args(DistributionChoi
 COMBINATION_METHODS: tuple[CombinationMethod, ...] = get_args(CombinationMethod)
 OUTPUT_FORMATS: tuple[OutputFormat, ...] = get_args(OutputFormat)
 FAMILIES: tuple[Family, ...] = get_args(Family)
+SCORE_AGAINST: tuple[ScoreAgainst, ...] = get_args(ScoreAgainst)

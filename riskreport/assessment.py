@@ -118,6 +118,7 @@ class Assessment:
     thresholds: tuple[ThresholdResult, ...] = ()
     density: tuple[DensityCurve, ...] = ()
     round_history: tuple[RoundPoint, ...] = ()
+    score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after the overlay unless ``model_based``)."""

@@ -20,12 +20,14 @@ from riskreport._typing import (
     DISTRIBUTION_CHOICES,
     FREQUENCIES,
     OUTPUT_FORMATS,
+    SCORE_AGAINST,
     Basis,
     Centre,
     CombinationMethod,
     DistributionChoice,
     Frequency,
     OutputFormat,
+    ScoreAgainst,
 )
 from riskreport.errors import InputError
 
@@ -103,6 +105,7 @@ class Config:
     formats: tuple[OutputFormat, ...]
     thresholds: tuple[float, ...] = ()
     density_horizons: tuple[int, ...] | None = None  # None: the policy horizon
+    score_against: ScoreAgainst = "latest"  # with a vintage column in the actuals
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
@@ -134,7 +137,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "verbal_scale",
         "density_horizons",
     },
-    "inputs": {"forecasts", "actuals", "error_quantiles"},
+    "inputs": {"forecasts", "actuals", "error_quantiles", "score_against"},
     "target": {"midpoint", "tolerance", "lower", "upper", "basis", "schedule", "thresholds"},
     "combination": {"method", "window"},
     "uncertainty": {
@@ -459,4 +462,5 @@ def load(path: str | Path) -> Config:
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
         thresholds=_thresholds(target),
         density_horizons=_density_horizons(brief, horizons),
+        score_against=cast(ScoreAgainst, inputs.choice("score_against", SCORE_AGAINST, "latest")),
     )

@@ -334,7 +334,7 @@ def assess_config(
 
 def _assess(cfg: Config) -> Assessment:
     fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
-    act = read_actuals(cfg.actuals, cfg.frequency)
+    act = read_actuals(cfg.actuals, cfg.frequency, as_of=cfg.as_of, score_against=cfg.score_against)
     given = read_error_quantiles(cfg.error_quantiles) if cfg.error_quantiles else None
     panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
     status = _model_status(fc, cfg)
@@ -445,6 +445,7 @@ def _assess(cfg: Config) -> Assessment:
             density_module.curve(final[h], margins.outcome[h], adjusted[h].period, h)
             for h in (cfg.density_horizons or (cfg.policy_horizon,))
         ),
+        score_against=cfg.score_against if act.vintages else None,
     )
 
 

@@ -13,6 +13,12 @@ from riskreport.assessment import Assessment, HorizonResult
 from riskreport.report import formatting as fmt
 from riskreport.report import round_history, threshold_text
 
+VINTAGE_TEXT = {
+    "first-release": "the first release of each outcome published by the as_of date "
+    "(past errors are measured as they looked when first known)",
+    "latest": "the latest release of each outcome published by the as_of date "
+    "(revisions known by then are included)",
+}
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
 
 
@@ -821,6 +827,16 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
                 f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}",
             ),
             KeyValue("Verbal scale", scale_of(a).name),
+            *(
+                (
+                    KeyValue(
+                        "Outcomes scored against",
+                        VINTAGE_TEXT[a.score_against],
+                    ),
+                )
+                if a.score_against
+                else ()
+            ),
         ),
         inputs=tuple(
             (
