@@ -27,6 +27,7 @@ SHEETS = [
     "weights",
     "accuracy",
     "calibration",
+    "rounds",
     "notes",
 ]
 

@@ -276,6 +276,14 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             [(r.model, r.h, r.n, r.mae, r.rmse, r.mean_error) for r in a.accuracy],
         ),
         _calibration(a),
+        table(
+            "rounds",
+            ("as_of", "period", "h", "p_inside", "current"),
+            [
+                (r.as_of, r.period, r.h, r.p_inside, "yes" if r.current else "")
+                for r in a.round_history
+            ],
+        ),
     ]
     return tuple(out)
 
