@@ -27,7 +27,8 @@ CombinationMethod = Literal[
     "shrink",
     "given",
 ]
-OutputFormat = Literal["pdf", "html", "json", "csv"]
+OutputFormat = Literal["pdf", "html", "json", "csv", "xlsx", "png", "slides"]
+ScoreAgainst = Literal["latest", "first-release"]
 
 FREQUENCIES: tuple[Frequency, ...] = get_args(Frequency)
 BASES: tuple[Basis, ...] = get_args(Basis)
@@ -38,3 +39,4 @@ OUTPUT_FORMATS: tuple[OutputFormat, ...] = get_args(OutputFormat)
 FAMILIES: tuple[Family, ...] = get_args(Family)
 SPREAD_CHOICES: tuple[SpreadChoice, ...] = get_args(SpreadChoice)
 RECALIBRATION_METHODS: tuple[RecalibrationMethod, ...] = get_args(RecalibrationMethod)
+SCORE_AGAINST: tuple[ScoreAgainst, ...] = get_args(ScoreAgainst)

@@ -13,7 +13,10 @@ from dataclasses import dataclass
 from typing import Any
 
 from riskreport.adjustments import Adjustments
+from riskreport.density import DensityCurve
+from riskreport.history import RoundPoint
 from riskreport.overlay import AppliedJudgement
+from riskreport.thresholds import ThresholdResult
 from riskreport.track_record import AccuracyRow, TestRow
 
 
@@ -150,6 +153,10 @@ class Assessment:
     software: dict[str, str]
     warnings: tuple[str, ...]
     adjustments: Adjustments | None = None
+    thresholds: tuple[ThresholdResult, ...] = ()
+    density: tuple[DensityCurve, ...] = ()
+    round_history: tuple[RoundPoint, ...] = ()
+    score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after the overlay unless ``model_based``)."""

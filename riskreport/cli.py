@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import contextlib
+import dataclasses
 import datetime as dt
 import errno
 import hashlib
@@ -93,6 +94,12 @@ def _parser() -> argparse.ArgumentParser:
         "--out", type=Path, help="output folder (default: each config's [output] directory)"
     )
     batch.add_argument("--force", action="store_true", help="replace existing briefs")
+
+    compare = sub.add_parser(
+        "compare", parents=[common], help="the change in P(inside) between any two rounds"
+    )
+    compare.add_argument("old", type=Path, metavar="OLD.json")
+    compare.add_argument("new", type=Path, metavar="NEW.json")
 
     check = sub.add_parser("check", parents=[common], help="validate inputs and config only")
     check.add_argument("config", type=Path)
@@ -291,6 +298,19 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
     }
 
 
+def _compare(old: Path, new: Path) -> dict[str, Any]:
+    from riskreport import compare
+
+    result = compare.compare_files(old, new)
+    return {
+        "status": "ok",
+        "old_as_of": result.old_as_of,
+        "new_as_of": result.new_as_of,
+        "horizons": [dataclasses.asdict(r) for r in result.rows],
+        "summary": compare.text(result),
+    }
+
+
 def _periods_between(text: str) -> list[str]:
     """The periods FROM..TO (inclusive), both written like the config's as_of."""
     from riskreport import periods
@@ -376,6 +396,8 @@ def _run(args: argparse.Namespace) -> dict[str, Any]:
         # Two rounds, so the demo brief shows what changed since the previous one.
         _build(demo_config(), args.out, DEMO_PREVIOUS_ROUND, args.force)
         return _build(demo_config(), args.out, None, args.force)
+    if args.command == "compare":
+        return _compare(args.old, args.new)
     if args.command == "build":
         return _build(args.config, args.out, args.as_of, args.force, args.previous)
     return _check(args.config, args.as_of)
@@ -408,7 +430,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     summary["exit_code"] = code
     if args.json:
         print(json.dumps(summary, ensure_ascii=False))
-    elif code == EXIT_OK and args.command in ("check", "backtest") and not args.quiet:
+    elif code == EXIT_OK and args.command in ("check", "backtest", "compare") and not args.quiet:
         print("\n".join(summary["summary"]))
     return code
 

@@ -21,6 +21,7 @@ from riskreport._typing import (
     FREQUENCIES,
     OUTPUT_FORMATS,
     RECALIBRATION_METHODS,
+    SCORE_AGAINST,
     SPREAD_CHOICES,
     Basis,
     Centre,
@@ -29,6 +30,7 @@ from riskreport._typing import (
     Frequency,
     OutputFormat,
     RecalibrationMethod,
+    ScoreAgainst,
     SpreadChoice,
 )
 from riskreport.combination import SHRINKAGE, SHRINKAGE_BOUNDS
@@ -120,6 +122,9 @@ class Config:
     spread: SpreadChoice = "constant"
     recalibrate: bool = False
     recalibration: RecalibrationMethod = "tracking"
+    thresholds: tuple[float, ...] = ()
+    density_horizons: tuple[int, ...] | None = None  # None: the policy horizon
+    score_against: ScoreAgainst = "latest"  # with a vintage column in the actuals
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
@@ -153,9 +158,10 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "horizons",
         "policy_horizon",
         "verbal_scale",
+        "density_horizons",
     },
-    "inputs": {"forecasts", "actuals", "error_quantiles", "max_abs_value"},
-    "target": {"midpoint", "tolerance", "lower", "upper", "basis", "schedule"},
+    "inputs": {"forecasts", "actuals", "error_quantiles", "max_abs_value", "score_against"},
+    "target": {"midpoint", "tolerance", "lower", "upper", "basis", "schedule", "thresholds"},
     "combination": {"method", "window", "shrinkage"},
     "uncertainty": {
         "distribution",
@@ -265,6 +271,44 @@ class _Reader:
 
 
 _REQUIRED = object()
+
+
+def _thresholds(reader: _Reader) -> tuple[float, ...]:
+    """``[target] thresholds``: distinct finite rates in percent, at most a few."""
+    from riskreport.thresholds import LIMIT, MAX_THRESHOLDS
+
+    raw = reader._get("thresholds", list, "a list of numbers", [])
+    values = []
+    for item in raw:
+        if isinstance(item, bool) or not isinstance(item, (int, float)):
+            raise reader.error("thresholds", f"expected a list of numbers, got {item!r}")
+        if not math.isfinite(item) or abs(item) > LIMIT:
+            raise reader.error(
+                "thresholds", f"expected numbers between -{LIMIT:g} and {LIMIT:g}, got {item!r}"
+            )
+        values.append(float(item))
+    if len(set(values)) != len(values):
+        raise reader.error("thresholds", f"expected distinct numbers, got {raw!r}")
+    if len(values) > MAX_THRESHOLDS:
+        raise reader.error(
+            "thresholds", f"expected at most {MAX_THRESHOLDS} thresholds, got {len(values)}"
+        )
+    return tuple(values)
+
+
+def _density_horizons(reader: _Reader, horizons: int) -> tuple[int, ...] | None:
+    """``[brief] density_horizons``: distinct reported horizons (0..horizons), at most 4."""
+    raw = reader._get("density_horizons", list, "a list of horizons", None)
+    if raw is None:
+        return None
+    if not raw or len(raw) > 4:
+        raise reader.error("density_horizons", f"expected 1 to 4 horizons, got {len(raw)}")
+    for item in raw:
+        if isinstance(item, bool) or not isinstance(item, int) or not 0 <= item <= horizons:
+            raise reader.error(
+                "density_horizons", f"expected whole numbers from 0 to {horizons}, got {item!r}"
+            )
+    return tuple(dict.fromkeys(int(item) for item in raw))
 
 
 def _table(path: Path, data: dict[str, Any], name: str, required: bool = True) -> dict[str, Any]:
@@ -481,6 +525,9 @@ def load(path: str | Path) -> Config:
             RecalibrationMethod,
             uncertainty.choice("recalibration", RECALIBRATION_METHODS, "tracking"),
         ),
+        thresholds=_thresholds(target),
+        density_horizons=_density_horizons(brief, horizons),
+        score_against=cast(ScoreAgainst, inputs.choice("score_against", SCORE_AGAINST, "latest")),
     )
 
 

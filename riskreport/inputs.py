@@ -17,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from riskreport import periods
-from riskreport._typing import Frequency
+from riskreport._typing import Frequency, ScoreAgainst
 from riskreport.errors import InputError
 
 # Plausibility bounds (common practice, no source): inflation rates in percent beyond
@@ -56,6 +56,7 @@ class Actuals:
     file: Path
     period: np.ndarray
     value: np.ndarray
+    vintages: bool = False  # the file had a vintage column (one release kept per period)
 
 
 def _cell_text(value: object) -> str:
@@ -387,21 +388,84 @@ def read_forecasts(
     )
 
 
-def read_actuals(path: Path, frequency: Frequency, max_abs_value: float = MAX_ABS_VALUE) -> Actuals:
-    """Read and validate the outcomes table (``period, value``).
+def read_actuals(
+    path: Path,
+    frequency: Frequency,
+    max_abs_value: float = MAX_ABS_VALUE,
+    *,
+    as_of: int | None = None,
+    score_against: ScoreAgainst = "latest",
+) -> Actuals:
+    """Read and validate the outcomes table (``period, value`` and optionally ``vintage``).
+
+    With a ``vintage`` column (the period in which a value was published), a period may
+    have several rows; only releases published by ``as_of`` are known, and of those the
+    first release or the latest one is kept (``score_against``).
 
     Raises
     ------
     InputError
         Missing column, unparseable period, a year outside 1800-2200, mixed frequencies,
-        non-finite or implausible value (``|value| > max_abs_value``) or a duplicate period.
+        non-finite or implausible value (``|value| > max_abs_value``), a duplicate period (or
+        (period, vintage)), or a vintage before its period.
     """
-    frame = read_table(path, ("period", "value"))
+    frame = read_table(path, ("period", "value"), ("vintage",))
     period = _periods(frame, "period", frequency, path)
     value = _values(frame, "value", path, max_abs_value)
+    if "vintage" in frame.columns:
+        return _one_release(frame, period, value, path, frequency, as_of, score_against)
     _duplicates(frame, pd.DataFrame({"period": period}), "period", path, "period")
     order = np.argsort(period, kind="stable")
     return Actuals(file=path, period=period[order], value=value[order])
+
+
+def _one_release(
+    frame: pd.DataFrame,
+    period: np.ndarray,
+    value: np.ndarray,
+    path: Path,
+    frequency: Frequency,
+    as_of: int | None,
+    score_against: ScoreAgainst,
+) -> Actuals:
+    """One value per period from a table of releases (see :func:`read_actuals`)."""
+    vintage = _periods(frame, "vintage", frequency, path)
+    if (bad := _first(vintage < period)) is not None:
+        raise _error(
+            frame,
+            path,
+            f"expected a vintage on or after its period {frame['period'].iloc[bad].strip()!r}, "
+            f"got {frame['vintage'].iloc[bad].strip()!r}",
+            bad,
+            "vintage",
+        )
+    _duplicates(
+        frame,
+        pd.DataFrame({"period": period, "vintage": vintage}),
+        "(period, vintage)",
+        path,
+        "vintage",
+    )
+    known = vintage <= as_of if as_of is not None else np.ones(period.size, dtype=bool)
+    table = pd.DataFrame(
+        {"period": period[known], "vintage": vintage[known], "value": value[known]}
+    )
+    table = table.sort_values(["period", "vintage"], kind="stable")
+    chosen = table.drop_duplicates(
+        "period", keep="first" if score_against == "first-release" else "last"
+    )
+    if chosen.empty:
+        raise InputError(
+            "no value was published by as_of (every vintage is later)",
+            file=path,
+            sheet=frame.attrs.get("sheet"),
+        )
+    return Actuals(
+        file=path,
+        period=chosen["period"].to_numpy(dtype=np.int64),
+        value=chosen["value"].to_numpy(dtype=float),
+        vintages=True,
+    )
 
 
 @dataclass(frozen=True)

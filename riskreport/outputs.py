@@ -68,6 +68,28 @@ def _horizon_rows(rows: list[dict[str, object]]) -> list[dict[str, object]]:
     return flat
 
 
+def _digits(value: float) -> float:
+    """12 significant digits, as in the JSON."""
+    return float(f"{value:.12g}")
+
+
+def threshold_rows(assessment: Assessment) -> list[dict[str, object]]:
+    """One row per threshold and period: the ``thresholds`` table (CSV and workbook)."""
+    return [
+        {
+            "threshold": t.threshold,
+            "period": at.period,
+            "h": at.h,
+            "p_below": _digits(at.p_below),
+            "p_above": _digits(at.p_above),
+            "p_below_at_least_once": _digits(path.p_below_at_least_once),
+            "p_above_at_least_once": _digits(path.p_above_at_least_once),
+        }
+        for t in assessment.thresholds
+        for at, path in zip(t.horizons, t.path, strict=True)
+    ]
+
+
 def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[str, bytes]:
     """Every output file of a brief, by path relative to the output directory."""
     chosen = set(formats)
@@ -105,8 +127,25 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         files[f"tables/scenarios-{as_of}.csv"] = _csv(
             {"scenario": sc["name"], **row} for sc in data["scenarios"] for row in sc["horizons"]
         )
+        if assessment.thresholds:
+            files[f"tables/thresholds-{as_of}.csv"] = _csv(threshold_rows(assessment))
         if data["change"]:
             files[f"tables/change-{as_of}.csv"] = _csv(data["change"]["horizons"])
+    if "xlsx" in chosen:
+        from riskreport.report import workbook
+
+        files[f"workbook-{as_of}.xlsx"] = workbook.workbook(assessment)
+    if chosen & {"png", "slides"}:
+        from riskreport.report import slides
+
+        made = [("charts", slides.pictures(assessment))] if "png" in chosen else []
+        if "slides" in chosen:
+            made.append(("slides", slides.slides(assessment)))
+            files[f"slides/quantiles-{as_of}.csv"] = slides.quantile_table(assessment)
+        for folder, pictures in made:
+            for picture in pictures:
+                files[f"{folder}/{picture.name}-{as_of}.png"] = picture.png
+                files[f"{folder}/{picture.name}-{as_of}.txt"] = (picture.alt + "\n").encode("utf-8")
     if chosen & {"html", "pdf"}:
         from riskreport.report import render as render_module
 
@@ -154,7 +193,8 @@ def render(
     out_dir
         The output directory (created if needed).
     formats
-        Any of ``"pdf"``, ``"html"``, ``"json"``, ``"csv"``.
+        Any of ``"pdf"``, ``"html"``, ``"json"``, ``"csv"``, ``"xlsx"``, ``"png"``,
+        ``"slides"``.
     force
         Replace existing files for this as_of that differ.
 

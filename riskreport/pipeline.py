@@ -29,7 +29,10 @@ from riskreport import (
 from riskreport import change as change_module
 from riskreport import combination as combination_module
 from riskreport import config as config_module
+from riskreport import density as density_module
+from riskreport import history as history_module
 from riskreport import panel as panel_module
+from riskreport import thresholds as thresholds_module
 from riskreport.assessment import (
     Assessment,
     BasisResult,
@@ -478,7 +481,17 @@ def assess_config(
         change = change_module.compare(
             earlier, [dataclasses.asdict(r) for r in assessment.horizons]
         )
-    return dataclasses.replace(assessment, warnings=tuple(dict.fromkeys(notes)), change=change)
+    policy = assessment.policy
+    rounds = history_module.points(
+        previous.parent if previous is not None else search or cfg.output_directory,
+        assessment.as_of,
+        policy.period,
+        policy.h,
+        policy.p_inside,
+    )
+    return dataclasses.replace(
+        assessment, warnings=tuple(dict.fromkeys(notes)), change=change, round_history=rounds
+    )
 
 
 def _horizon_list(horizons: list[int]) -> str:
@@ -515,7 +528,13 @@ def _warn_range(method: str, combo: combination_module.Combination) -> None:
 
 def _assess(cfg: Config) -> Assessment:
     fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of, cfg.max_abs_value)
-    act = read_actuals(cfg.actuals, cfg.frequency, cfg.max_abs_value)
+    act = read_actuals(
+        cfg.actuals,
+        cfg.frequency,
+        cfg.max_abs_value,
+        as_of=cfg.as_of,
+        score_against=cfg.score_against,
+    )
     given = (
         read_error_quantiles(cfg.error_quantiles, cfg.max_abs_value)
         if cfg.error_quantiles
@@ -640,6 +659,14 @@ def _assess(cfg: Config) -> Assessment:
         software=_software(),
         warnings=(),
         adjustments=_adjustments(cfg, replayed, errors, margins, recalibrated, panel, given),
+        thresholds=thresholds_module.evaluate(
+            cfg.thresholds, final, draws, [r.period for r in adjusted]
+        ),
+        density=tuple(
+            density_module.curve(final[h], margins.outcome[h], adjusted[h].period, h)
+            for h in (cfg.density_horizons or (cfg.policy_horizon,))
+        ),
+        score_against=cfg.score_against if act.vintages else None,
     )
 
 

@@ -46,6 +46,12 @@ def test_all_outputs_exist(demo_build: Path) -> None:
         f"assessment-{AS_OF}.json",
         f"tables/horizons-{AS_OF}.csv",
         f"charts/outlook-{AS_OF}.svg",
+        f"tables/thresholds-{AS_OF}.csv",
+        f"workbook-{AS_OF}.xlsx",
+        f"charts/density-h18-{AS_OF}.png",
+        f"slides/outlook-{AS_OF}.png",
+        f"slides/outlook-{AS_OF}.txt",
+        f"slides/quantiles-{AS_OF}.csv",
         "runs.jsonl",
     ):
         assert (out / name).is_file(), name
@@ -82,6 +88,11 @@ def test_json_contract_keys(demo_build: Path) -> None:
     assert {"model", "h", "n", "mae", "rmse", "mean_error"} <= set(data["accuracy"][0])
     assert data["combination"]["method"] == "equal"
     assert data["change"] is None
+    # [target] thresholds = [0.0, 5.0] in the demo config
+    assert [t["threshold"] for t in data["thresholds"]] == [0.0, 5.0]
+    assert len(data["thresholds"][0]["horizons"]) == len(data["thresholds"][0]["path"]) == 25
+    assert [d["h"] for d in data["density"]] == [6, 18]  # [brief] density_horizons
+    assert data["round_history"][-1]["current"] is True
 
 
 def test_pdf_carries_the_headline_numbers_from_the_json(demo_build: Path) -> None:

@@ -90,6 +90,13 @@ def _year_ticks(ax: Axes, first: int, last: int, frequency: str) -> None:
 def outlook(assessment: Assessment, width_mm: float = 170, height_mm: float = 66) -> Chart:
     """History, the target band, the centre path and graded probability bands."""
     with matplotlib.rc_context(_RC):
+        fig = outlook_figure(assessment, width_mm, height_mm)
+        return Chart("outlook", _svg(fig), width_mm, height_mm)
+
+
+def outlook_figure(assessment: Assessment, width_mm: float = 170, height_mm: float = 66) -> Figure:
+    """The outlook chart's Figure (for SVG in the brief and PNG on slides)."""
+    with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         ax = fig.add_subplot()
         rows = assessment.horizons
@@ -174,7 +181,7 @@ def outlook(assessment: Assessment, width_mm: float = 170, height_mm: float = 66
             fontsize=7,
             ncol=3,
         )
-        return Chart("outlook", _svg(fig), width_mm, height_mm)
+        return fig
 
 
 def spread_labels(positions: list[float], gap: float) -> list[float]:
@@ -213,6 +220,15 @@ def band_probabilities(
 ) -> Chart:
     """Probability of landing below, inside and above the band, by horizon."""
     with matplotlib.rc_context(_RC):
+        fig = band_probabilities_figure(assessment, width_mm, height_mm)
+        return Chart("band-probabilities", _svg(fig), width_mm, height_mm)
+
+
+def band_probabilities_figure(
+    assessment: Assessment, width_mm: float = 170, height_mm: float = 46
+) -> Figure:
+    """The probability-by-horizon chart's Figure."""
+    with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         ax = fig.add_subplot()
         rows: tuple[HorizonResult, ...] = assessment.horizons
@@ -250,7 +266,7 @@ def band_probabilities(
         ax.set_xlabel("periods ahead (h)")
         ax.grid(axis="y", color=GRID, lw=0.4)
         ax.spines[["top", "right"]].set_visible(False)
-        return Chart("band-probabilities", _svg(fig), width_mm, height_mm)
+        return fig
 
 
 def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: float = 40) -> Chart:

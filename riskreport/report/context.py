@@ -13,9 +13,15 @@ from typing import Any
 from riskreport import periods, verbal
 from riskreport.assessment import Assessment, HorizonResult
 from riskreport.calibration import MIN_TEST_ROUNDS
-from riskreport.report import adjustment_words
+from riskreport.report import adjustment_words, round_history, threshold_text
 from riskreport.report import formatting as fmt
 
+VINTAGE_TEXT = {
+    "first-release": "the first release of each outcome published by the as_of date "
+    "(past errors are measured as they looked when first known)",
+    "latest": "the latest release of each outcome published by the as_of date "
+    "(revisions known by then are included)",
+}
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
 
 
@@ -193,6 +199,12 @@ class BriefContext:
     adjustment_text: tuple[str, ...] = ()
     sensitivity_rows: tuple[adjustment_words.SensitivityLine, ...] = ()
     sensitivity_caption: str = ""
+    threshold_line: str = ""
+    threshold_rows: tuple[threshold_text.ThresholdRow, ...] = ()
+    threshold_text: str = threshold_text.APPENDIX_TEXT
+    density_charts: tuple[str, ...] = ()
+    round_rows: tuple[tuple[str, str, str], ...] = ()
+    round_text: str = ""
 
 
 def band_label(band: tuple[float, float]) -> str:
@@ -973,6 +985,16 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
             ),
             KeyValue("Accuracy tests", TESTS_METHOD),
             KeyValue("Verbal scale", scale_of(a).name),
+            *(
+                (
+                    KeyValue(
+                        "Outcomes scored against",
+                        VINTAGE_TEXT[a.score_against],
+                    ),
+                )
+                if a.score_against
+                else ()
+            ),
         ),
         inputs=tuple(
             (
@@ -996,4 +1018,9 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         adjustment_text=adjustment_words.adjustment_text(a),
         sensitivity_rows=adjustment_words.sensitivity_lines(a),
         sensitivity_caption=adjustment_words.sensitivity_caption(a),
+        threshold_line=threshold_text.page_one_line(a),
+        threshold_rows=threshold_text.appendix_rows(a, summary_h),
+        density_charts=tuple(name for name in charts if name.startswith("density-")),
+        round_rows=round_history.rows(a) if round_history.shown(a) else (),
+        round_text=round_history.text(a) if round_history.shown(a) else "",
     )

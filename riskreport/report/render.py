@@ -133,6 +133,20 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], d
             "the 90% bootstrap interval for inside.",
         ),
     ]
+    from riskreport.report import density_chart
+
+    for curve in a.density:
+        made.append(
+            (
+                density_chart.density(a, curve),
+                density_chart.alt_text(a, curve),
+                density_chart.caption(a, curve),
+            )
+        )
+    from riskreport.report import round_history
+
+    if round_history.shown(a):
+        made.append((round_history.chart(a), round_history.alt_text(a), round_history.CAPTION))
     if a.change and a.change["horizons"]:
         made.append(
             (

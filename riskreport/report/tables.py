@@ -19,6 +19,11 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
     return [line(header), "  ".join("-" * w for w in widths), *(line(r) for r in rows)]
 
 
+def table(header: list[str], rows: list[list[str]]) -> list[str]:
+    """A plain-text table: first column left-aligned, the others right-aligned."""
+    return _table(header, rows)
+
+
 def track_record_text(a: Assessment) -> list[str]:
     """RMSE by forecaster and DM p-values against the combination, at the summary horizons."""
     shown = summary_horizons(a)

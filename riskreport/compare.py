@@ -1,0 +1,126 @@
+"""``riskreport compare OLD.json NEW.json``: the change in P(inside) between any two rounds.
+
+The split into centre, spread and band is :func:`riskreport.change.compare`, the same as
+the brief's "since the last brief"; here the two rounds need not be consecutive.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from riskreport import change
+from riskreport.errors import InputError
+from riskreport.report import formatting as fmt
+
+ROW_KEYS = ("period", "p_inside", "centre", "band")
+
+
+@dataclass(frozen=True)
+class ChangeRow:
+    """The change in P(inside) for one target period present in both rounds."""
+
+    period: str
+    p_inside_before: float
+    p_inside_now: float
+    due_to_centre: float
+    due_to_spread: float
+    due_to_band: float
+
+
+@dataclass(frozen=True)
+class Comparison:
+    """Two rounds compared by target period."""
+
+    old_as_of: str
+    new_as_of: str
+    rows: tuple[ChangeRow, ...]
+
+
+def _read(path: Path) -> dict[str, Any]:
+    """An assessment JSON with the horizon fields the split needs; else an input error."""
+    if not path.is_file():
+        raise InputError("file not found; expected an assessment JSON", file=path)
+    data = change.load(path)
+    rows = data["horizons"]
+    if not isinstance(rows, list) or not rows:
+        raise InputError("expected a non-empty 'horizons' list", file=path, column="horizons")
+    for i, row in enumerate(rows, start=1):
+        missing = [k for k in ROW_KEYS if not isinstance(row, dict) or k not in row]
+        if missing or not (row.get("percentiles") or row.get("quantiles")):
+            what = missing[0] if missing else "percentiles"
+            raise InputError(
+                f"expected '{what}' in every horizon of an assessment JSON",
+                file=path,
+                row=i,
+                column=f"horizons.{what}",
+            )
+    return data
+
+
+def compare_files(old: Path, new: Path) -> Comparison:
+    """Compare two assessment JSON files.
+
+    Parameters
+    ----------
+    old, new
+        ``assessment-<as_of>.json`` files of two rounds (any order of as_of is accepted).
+
+    Returns
+    -------
+    Comparison
+        One row per target period present in both.
+
+    Raises
+    ------
+    InputError
+        A file is missing, not JSON, or not an assessment.
+    """
+    before, now = _read(old), _read(new)
+    try:
+        record = change.compare(before, now["horizons"])
+    except (KeyError, TypeError, ValueError) as exc:
+        raise InputError(f"cannot compare the two rounds ({exc})", file=new) from None
+    return Comparison(
+        old_as_of=str(before["as_of"]),
+        new_as_of=str(now["as_of"]),
+        rows=tuple(
+            ChangeRow(
+                period=r["period"],
+                p_inside_before=r["p_inside_before"],
+                p_inside_now=r["p_inside_now"],
+                due_to_centre=r["due_to_centre"],
+                due_to_spread=r["due_to_spread"],
+                due_to_band=r["due_to_band"],
+            )
+            for r in record["horizons"]
+        ),
+    )
+
+
+def text(c: Comparison) -> list[str]:
+    """The comparison as a terminal table (percentages and percentage points)."""
+    from riskreport.report.tables import table
+
+    lines = [
+        f"Change in the probability of inside, {c.old_as_of} -> {c.new_as_of}, by target period",
+        "(centre + spread + band = change; parts in percentage points)",
+        "",
+    ]
+    if not c.rows:
+        return [*lines, "No target period is in both rounds."]
+    rows = [
+        [
+            r.period,
+            fmt.single_percent(r.p_inside_before),
+            fmt.single_percent(r.p_inside_now),
+            fmt.points(r.p_inside_now - r.p_inside_before),
+            fmt.points(r.due_to_centre),
+            fmt.points(r.due_to_spread),
+            fmt.points(r.due_to_band),
+        ]
+        for r in c.rows
+    ]
+    header = ["period", "before", "now", "change", "centre", "spread", "band"]
+    return lines + table(header, rows)

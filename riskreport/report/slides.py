@@ -1,0 +1,127 @@
+"""Charts as PNG files: at their size in the brief (``png``) and at a 16:9 slide size
+(``slides``), each with its alt text in the PNG metadata and in a sidecar text file, plus a
+tidy quantile table (period, quantile, value) that any plotting tool can redraw.
+
+A slide is 13.33 x 7.5 in at 200 dpi (2667 x 1500 pixels). The chart is drawn at half that
+size and rendered at twice the resolution, so its 8 pt text reads at 16 pt on the slide;
+the PNG then records 200 dpi, so it prints at the full slide size.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import matplotlib
+from matplotlib.figure import Figure
+from PIL.PngImagePlugin import PngInfo
+
+from riskreport.assessment import Assessment
+from riskreport.report import charts, density_chart, render
+
+SLIDE_INCHES = (13.33, 7.5)
+SLIDE_DPI = 200
+BRIEF_DPI = 200
+ENLARGE = 2  # slide charts are drawn at 1/ENLARGE of the slide and rendered ENLARGE x finer
+
+
+@dataclass(frozen=True)
+class Picture:
+    """One chart as PNG bytes, with the alt text it carries."""
+
+    name: str
+    png: bytes
+    alt: str
+
+
+def _png(fig: Figure, *, dpi: float, recorded_dpi: int, title: str, alt: str) -> bytes:
+    """PNG bytes with no clock in them, the given recorded resolution and the alt text."""
+    info = PngInfo()
+    info.add_text("Title", title)
+    info.add_itxt("Description", alt)
+    buffer = io.BytesIO()
+    with matplotlib.rc_context(charts._RC):
+        # pil_kwargs: one encoding, with our pHYs resolution and text chunks (and no
+        # "Software" chunk, which would carry the matplotlib version)
+        fig.savefig(
+            buffer,
+            format="png",
+            dpi=dpi,
+            pil_kwargs={"pnginfo": info, "dpi": (recorded_dpi, recorded_dpi), "compress_level": 3},
+        )
+    return buffer.getvalue()
+
+
+def _charts(a: Assessment) -> list[tuple[str, Callable[[float, float], Figure], str]]:
+    """(name, draw at a size in mm, alt text) of the slide charts."""
+    made: list[tuple[str, Callable[[float, float], Figure], str]] = [
+        ("outlook", lambda w, h: charts.outlook_figure(a, w, h), render._alt_outlook(a)),
+        (
+            "band-probabilities",
+            lambda w, h: charts.band_probabilities_figure(a, w, h),
+            render._alt_probabilities(a),
+        ),
+    ]
+    for c in a.density:
+        made.append(
+            (
+                f"density-h{c.h}",
+                lambda w, h, c=c: density_chart.draw(a, c, w, h),  # type: ignore[misc]
+                density_chart.alt_text(a, c),
+            )
+        )
+    return made
+
+
+def slides(a: Assessment) -> tuple[Picture, ...]:
+    """The outlook, probability and density charts at slide size (16:9, 200 dpi)."""
+    width_mm = SLIDE_INCHES[0] * 25.4 / ENLARGE
+    height_mm = SLIDE_INCHES[1] * 25.4 / ENLARGE
+    return tuple(
+        Picture(
+            name,
+            _png(
+                draw(width_mm, height_mm),
+                dpi=SLIDE_DPI * ENLARGE,
+                recorded_dpi=SLIDE_DPI,
+                title=f"{a.title}, {a.as_of}: {name}",
+                alt=alt,
+            ),
+            alt,
+        )
+        for name, draw, alt in _charts(a)
+    )
+
+
+BRIEF_SIZES_MM = {"outlook": (170.0, 66.0), "band-probabilities": (170.0, 46.0)}
+
+
+def pictures(a: Assessment) -> tuple[Picture, ...]:
+    """The same charts at their size in the brief, at print resolution."""
+    return tuple(
+        Picture(
+            name,
+            _png(
+                draw(*BRIEF_SIZES_MM.get(name, (84.0, 52.0))),
+                dpi=BRIEF_DPI,
+                recorded_dpi=BRIEF_DPI,
+                title=f"{a.title}, {a.as_of}: {name}",
+                alt=alt,
+            ),
+            alt,
+        )
+        for name, draw, alt in _charts(a)
+    )
+
+
+def quantile_table(a: Assessment) -> bytes:
+    """Tidy CSV, one row per (period, quantile): the fan chart's numbers, after judgement."""
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(["period", "h", "quantile", "value"])
+    for r in a.horizons:
+        for q, v in r.quantiles.items():
+            writer.writerow([r.period, r.h, q, f"{v:.12g}"])  # as in the JSON
+    return buffer.getvalue().encode("utf-8")

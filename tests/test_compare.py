@@ -1,0 +1,76 @@
+"""``riskreport compare OLD.json NEW.json``."""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Callable
+from pathlib import Path
+
+import pytest
+
+from tests.conftest import Case, Result
+
+
+@pytest.fixture
+def rounds(case: Case, run: Callable[..., Result], tmp_path: Path) -> Path:
+    out = tmp_path / "o"
+    config = case.write()
+    for as_of in ("2024-09", "2024-12"):
+        assert run("build", config, "--out", out, "--as-of", as_of, "-q").code == 0
+    return out
+
+
+def test_compare_matches_the_briefs_own_change_record(
+    rounds: Path, run: Callable[..., Result]
+) -> None:
+    # The brief of 2024-12 compared itself with 2024-09 (the latest earlier one in the
+    # folder); compare must give the same split, and the parts must add up to the change
+    # (Shapley efficiency: Shapley 1953, the values sum to the total).
+    old, new = rounds / "assessment-2024-09.json", rounds / "assessment-2024-12.json"
+    result = run("compare", old, new, "--json")
+    assert result.code == 0, result.stderr
+    summary = json.loads(result.stdout)
+    own = json.loads(new.read_text())["change"]
+    assert own["previous_as_of"] == "2024-09"
+    assert [r["period"] for r in summary["horizons"]] == [r["period"] for r in own["horizons"]]
+    for mine, theirs in zip(summary["horizons"], own["horizons"], strict=True):
+        for key in ("due_to_centre", "due_to_spread", "due_to_band", "p_inside_before"):
+            assert mine[key] == pytest.approx(theirs[key], abs=1e-9)
+        parts = mine["due_to_centre"] + mine["due_to_spread"] + mine["due_to_band"]
+        assert parts == pytest.approx(mine["p_inside_now"] - mine["p_inside_before"], abs=1e-9)
+    text = run("compare", old, new)
+    assert text.code == 0
+    assert "2024-09 -> 2024-12" in text.stdout
+    assert summary["horizons"][0]["period"] in text.stdout
+
+
+def test_a_round_compared_with_itself_has_no_change(
+    rounds: Path, run: Callable[..., Result]
+) -> None:
+    new = rounds / "assessment-2024-12.json"
+    summary = json.loads(run("compare", new, new, "--json").stdout)
+    assert summary["horizons"]
+    for r in summary["horizons"]:
+        assert r["due_to_centre"] == r["due_to_spread"] == r["due_to_band"] == 0.0
+
+
+@pytest.mark.parametrize(
+    ("content", "expected"),
+    [
+        (None, "file not found"),
+        ("not json", "cannot read"),
+        ('{"as_of": "2024-09"}', "cannot read"),
+        ('{"as_of": "2024-09", "horizons": [{"period": "2024-10"}]}', "row 1"),
+    ],
+)
+def test_bad_file_exits_2_with_one_line(
+    rounds: Path, run: Callable[..., Result], tmp_path: Path, content: str | None, expected: str
+) -> None:
+    bad = tmp_path / "bad.json"
+    if content is not None:
+        bad.write_text(content)
+    result = run("compare", bad, rounds / "assessment-2024-12.json")
+    assert result.code == 2
+    assert expected in result.stderr
+    assert "bad.json" in result.stderr
+    assert len(result.stderr.strip().splitlines()) == 1
