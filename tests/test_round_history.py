@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import history
+from riskreport import folder, history
 from tests.conftest import Case, Result
 
 
@@ -51,13 +51,21 @@ def test_history_reads_each_earlier_round_that_reached_the_period(
 
 
 def test_earlier_rounds_walks_back_and_stops(tmp_path: Path) -> None:
+    # Rounds are trusted only when written as a unit with their manifest.
     for m in range(1, 10):
-        (tmp_path / f"assessment-2025-0{m}.json").write_text("{}")
+        as_of = f"2025-0{m}"
+        folder.write_round(tmp_path, {f"assessment-{as_of}.json": b"{}"}, as_of=as_of)
+    (tmp_path / "assessment-2025-05.json").write_text('{"altered": true}')  # not trusted now
     found = history.earlier_rounds(tmp_path, "2025-09", rounds=3)
     assert [p.name for p in found] == [
         "assessment-2025-08.json",
         "assessment-2025-07.json",
         "assessment-2025-06.json",
+    ]
+    assert [p.name for p in history.earlier_rounds(tmp_path, "2025-07", rounds=3)] == [
+        "assessment-2025-06.json",
+        "assessment-2025-04.json",
+        "assessment-2025-03.json",
     ]
     assert history.earlier_rounds(tmp_path, "2025-01") == []
 
