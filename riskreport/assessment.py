@@ -14,7 +14,7 @@ from typing import Any
 
 from riskreport.adjustments import Adjustments
 from riskreport.density import DensityCurve
-from riskreport.history import RoundPoint
+from riskreport.history import RoundPoint, YearPoint
 from riskreport.overlay import AppliedJudgement
 from riskreport.thresholds import ThresholdResult
 from riskreport.track_record import AccuracyRow, TestRow
@@ -156,6 +156,7 @@ class Assessment:
     thresholds: tuple[ThresholdResult, ...] = ()
     density: tuple[DensityCurve, ...] = ()
     round_history: tuple[RoundPoint, ...] = ()
+    year_history: tuple[YearPoint, ...] = ()
     score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:

@@ -1,4 +1,5 @@
-"""Round history: how P(inside) for one target period moved across the last briefs.
+"""Round history: how P(inside) for one target period, and for the current calendar year,
+moved across the last briefs.
 
 Every ``assessment-<as_of>.json`` in the output folder is the record of a round. The reader
 walks back from the current round through :func:`riskreport.change.find_previous` (the same
@@ -67,3 +68,37 @@ def points(
                     pass
                 break
     return (*reversed(earlier), RoundPoint(as_of, period, h, p_inside, True))
+
+
+@dataclass(frozen=True)
+class YearPoint:
+    """P(inside) for one calendar year's measure (average or year end) as one round stated it."""
+
+    as_of: str
+    year: int
+    basis: str
+    p_inside: float
+    current: bool
+
+
+def year_points(
+    directory: Path | None, as_of: str, year: int, basis: str, p_inside: float
+) -> tuple[YearPoint, ...]:
+    """The calendar year's P(inside) on ``basis`` in the earlier rounds (from their
+    ``annual`` records), then now; unreadable files and rounds without the year are skipped."""
+    earlier = []
+    for path in earlier_rounds(directory, as_of) if directory is not None else []:
+        try:
+            data = change.load(path)
+        except InputError:
+            continue
+        for row in data.get("annual") or []:
+            if isinstance(row, dict) and row.get("year") == year and row.get("basis") == basis:
+                try:
+                    earlier.append(
+                        YearPoint(str(data["as_of"]), year, basis, float(row["p_inside"]), False)
+                    )
+                except (KeyError, TypeError, ValueError):
+                    pass
+                break
+    return (*reversed(earlier), YearPoint(as_of, year, basis, p_inside, True))

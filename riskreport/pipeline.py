@@ -490,7 +490,28 @@ def assess_config(
         policy.p_inside,
     )
     return dataclasses.replace(
-        assessment, warnings=tuple(dict.fromkeys(notes)), change=change, round_history=rounds
+        assessment,
+        warnings=tuple(dict.fromkeys(notes)),
+        change=change,
+        round_history=rounds,
+        year_history=_year_history(
+            cfg, assessment, previous.parent if previous is not None else search
+        ),
+    )
+
+
+def _year_history(
+    cfg: Config, assessment: Assessment, directory: Path | None
+) -> tuple[history_module.YearPoint, ...]:
+    """P(inside) for the current calendar year (on the target's annual measure; the average
+    when the target is per period) across the rounds in the output folder."""
+    year = periods.year_of(cfg.as_of, cfg.frequency)
+    basis = "year-end" if cfg.basis == "year-end" else "calendar-year-average"
+    now = next((r for r in assessment.annual if r["year"] == year and r["basis"] == basis), None)
+    if now is None:
+        return ()
+    return history_module.year_points(
+        directory or cfg.output_directory, assessment.as_of, year, basis, float(now["p_inside"])
     )
 
 

@@ -75,3 +75,39 @@ def test_no_folder_gives_only_the_current_round(tmp_path: Path, folder: str | No
     directory = None if folder is None else tmp_path / folder
     (point,) = history.points(directory, "2025-01", "2026-07", 18, 0.4)
     assert point.current
+
+
+def test_current_calendar_year_across_rounds(
+    case: Case, run: Callable[..., Result], tmp_path: Path
+) -> None:
+    # Oracle: each round's own `annual` record for the as_of year, read from its JSON.
+    out = tmp_path / "o"
+    case.config = case.config.replace('["json", "csv"]', '["json", "html"]')
+    config = case.write()
+    for as_of in ("2024-11", "2024-12"):
+        assert run("build", config, "--out", out, "--as-of", as_of, "-q").code == 0
+    stated = {}
+    for as_of in ("2024-11", "2024-12"):
+        data = json.loads((out / f"assessment-{as_of}.json").read_text())
+        row = next(
+            r for r in data["annual"] if r["year"] == 2024 and r["basis"] == "calendar-year-average"
+        )
+        stated[as_of] = row["p_inside"]
+    now = json.loads((out / "assessment-2024-12.json").read_text())
+    assert now["year_history"] == [
+        {
+            "as_of": "2024-11",
+            "year": 2024,
+            "basis": "calendar-year-average",
+            "p_inside": stated["2024-11"],
+            "current": False,
+        },
+        {
+            "as_of": "2024-12",
+            "year": 2024,
+            "basis": "calendar-year-average",
+            "p_inside": stated["2024-12"],
+            "current": True,
+        },
+    ]
+    assert "For 2024 as a whole (average)" in (out / "brief-2024-12.html").read_text()

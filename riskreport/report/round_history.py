@@ -26,14 +26,24 @@ def rows(a: Assessment) -> tuple[tuple[str, str, str], ...]:
 
 
 def text(a: Assessment) -> str:
-    """One sentence: from the first round shown to this one."""
+    """From the first round shown to this one: the policy-horizon period, then the current
+    calendar year when earlier briefs stated it."""
     first, last = a.round_history[0], a.round_history[-1]
-    return (
+    sentence = (
         f"The probability of inflation inside the band in {last.period} (the policy horizon) "
         f"as each brief in the output folder stated it: {fmt.single_percent(first.p_inside)} "
         f"in the brief of {first.as_of}, {fmt.single_percent(last.p_inside)} now "
         f"({fmt.points(last.p_inside - first.p_inside)})."
     )
+    if len(a.year_history) >= 2:
+        y0, y1 = a.year_history[0], a.year_history[-1]
+        measure = "year-end rate" if y1.basis == "year-end" else "average"
+        sentence += (
+            f" For {y1.year} as a whole ({measure}): {fmt.single_percent(y0.p_inside)} in the "
+            f"brief of {y0.as_of}, {fmt.single_percent(y1.p_inside)} now "
+            f"({fmt.points(y1.p_inside - y0.p_inside)})."
+        )
+    return sentence
 
 
 def chart(a: Assessment, width_mm: float = 84, height_mm: float = 40) -> Chart:
