@@ -118,14 +118,23 @@ class RecalibrationRow:
 
 
 def recalibrate(
-    cfg: Config, result: Replays, outcome: tuple[Distribution, ...]
+    cfg: Config,
+    result: Replays,
+    outcome: tuple[Distribution, ...],
+    *,
+    given: frozenset[int] = frozenset(),
 ) -> tuple[tuple[Distribution, ...], tuple[RecalibrationRow, ...]]:
     """Today's distributions through each horizon's map (fitted on every PIT of the raw
-    graded sequence), with the raw and recalibrated band probabilities."""
+    graded sequence), with the raw and recalibrated band probabilities.
+
+    Horizons in ``given`` (an ``error_quantiles`` distribution) are used exactly as given:
+    the replay graded the learned method there, not the given distribution, so its map
+    says nothing about it.
+    """
     raw_label = prequential.SELECTED if len(result.candidates) > 1 else result.candidates[0].label
     dists, rows = [], []
     for h, dist in enumerate(outcome):
-        run = result.runs.get((raw_label, h))
+        run = None if h in given else result.runs.get((raw_label, h))
         new: Distribution = dist
         a = b = float("nan")
         levels: tuple[float, ...] = ()

@@ -52,6 +52,9 @@ class Distribution(Protocol):
     def rvs(self, n: int, rng: np.random.Generator) -> np.ndarray: ...
 
 
+GIVEN_FAMILY = "given-quantiles"  # the family name of a given error distribution
+
+
 @dataclass(frozen=True)
 class GivenQuantiles:
     """A distribution given by a few quantiles (the ``error_quantiles`` input).
@@ -64,7 +67,7 @@ class GivenQuantiles:
 
     levels: tuple[float, ...]
     values: tuple[float, ...]
-    family: str = "given-quantiles"
+    family: str = GIVEN_FAMILY
     notes: tuple[str, ...] = ()
 
     def _z(self) -> tuple[np.ndarray, np.ndarray]:

@@ -44,7 +44,7 @@ from riskreport.assessment import (
     WeightRow,
 )
 from riskreport.config import Config
-from riskreport.distributions import Distribution
+from riskreport.distributions import GIVEN_FAMILY, Distribution
 from riskreport.errors import (
     CombinationFallbackWarning,
     CombinationRangeWarning,
@@ -169,7 +169,7 @@ def _horizon_results(
         band = cfg.band_for(ordinal)
         probs = probabilities.band_probabilities(dist, band.lower, band.upper)
         family = margins.families[h]
-        if family == "given-quantiles":
+        if family == GIVEN_FAMILY:
             interval = (probs.p_inside, probs.p_inside)
         else:
             interval = probabilities.bootstrap_p_inside(
@@ -200,7 +200,7 @@ def _horizon_results(
                     for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
                 },
                 distribution=family,
-                n_errors=None if family == "given-quantiles" else margins.own[h],
+                n_errors=None if family == GIVEN_FAMILY else margins.own[h],
                 spread=float(np.std(dist.ppf(probabilities.SPREAD_GRID))),
                 percentiles=tuple(
                     float(v) for v in dist.ppf(np.array(change_module.PERCENTILES) / 100)
@@ -612,7 +612,14 @@ def _assess(cfg: Config) -> Assessment:
     )
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
     if cfg.recalibrate:
-        outcome, recalibrated = adjustments_module.recalibrate(cfg, replayed, margins.outcome)
+        outcome, recalibrated = adjustments_module.recalibrate(
+            cfg,
+            replayed,
+            margins.outcome,
+            given=frozenset(
+                h for h, family in enumerate(margins.families) if family == GIVEN_FAMILY
+            ),
+        )
         margins = dataclasses.replace(margins, outcome=outcome)
     ordinals = [cfg.as_of + h for h in range(cfg.horizons + 1)]
     final, applied = overlay.apply(

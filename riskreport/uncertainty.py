@@ -17,7 +17,7 @@ import numpy as np
 from riskreport import distributions, dynamics, periods, selection
 from riskreport._typing import Family
 from riskreport.config import Config
-from riskreport.distributions import Distribution
+from riskreport.distributions import GIVEN_FAMILY, Distribution
 from riskreport.errors import BoundaryFitWarning, InputError, SmallSampleWarning
 from riskreport.inputs import ErrorQuantiles
 from riskreport.track_record import window_mask
@@ -174,7 +174,7 @@ def build(
             fits.append(distributions.GivenQuantiles(levels, values))
             samples.append(columns[h])
             own.append(0)  # the given distribution rests on no past errors of the track record
-            families.append("given-quantiles")
+            families.append(GIVEN_FAMILY)
             sources.append("given error quantiles")
             continue
         sample, used = _borrow(columns, h, cfg.min_errors)

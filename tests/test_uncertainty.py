@@ -193,3 +193,24 @@ def test_given_error_quantiles_are_used_exactly_as_given(case: Case) -> None:
     facts = {k.label: k.value for k in c.method + c.samples}
     assert facts["Given error distribution"].startswith("h = 2")
     assert "given at h = 2" in facts["Past errors per horizon"]
+
+
+@pytest.mark.parametrize("method", ["tracking", "beta"])
+def test_recalibration_leaves_a_given_distribution_as_given(case: Case, method: str) -> None:
+    # Regression: with recalibrate = true the replay's map (learned on the learned method's
+    # PITs) was also applied at a horizon whose distribution the user gave; a given
+    # distribution is used exactly as given (its quantiles reproduce the file).
+    levels = (0.05, 0.1, 0.25, 0.5, 0.75, 0.9, 0.95)
+    values = (-0.38, -0.3, -0.17, -0.08, 0.0, 0.07, 0.1)
+    rows = ["horizon,quantile,value"] + [f"2,{q},{v}" for q, v in zip(levels, values, strict=True)]
+    (case.folder / "eq.csv").write_text("\n".join(rows) + "\n")
+    case.config = case.config.replace(
+        'actuals = "actuals.csv"', 'actuals = "actuals.csv"\nerror_quantiles = "eq.csv"'
+    ).replace("window = 0", f'window = 0\nrecalibrate = true\nrecalibration = "{method}"')
+    a = riskreport.assess(case.write())
+    r = a.horizons[2]
+    got = [r.quantiles[f"{q:g}"] - r.point_forecast for q in levels]
+    assert got == pytest.approx(values, abs=1e-9)
+    assert a.adjustments is not None
+    row = next(x for x in a.adjustments.recalibration if x.h == 2)
+    assert row.p_inside == row.p_inside_raw
