@@ -428,10 +428,19 @@ def main(argv: Sequence[str] | None = None) -> int:
         )
         summary, code = {"status": "error", "error": f"{type(exc).__name__}: {exc}"}, EXIT_INTERNAL
     summary["exit_code"] = code
-    if args.json:
-        print(json.dumps(summary, ensure_ascii=False))
-    elif code == EXIT_OK and args.command in ("check", "backtest", "compare") and not args.quiet:
-        print("\n".join(summary["summary"]))
+    try:
+        if args.json:
+            print(json.dumps(summary, ensure_ascii=False))
+        elif (
+            code == EXIT_OK and args.command in ("check", "backtest", "compare") and not args.quiet
+        ):
+            print("\n".join(summary["summary"]))
+        sys.stdout.flush()
+    except BrokenPipeError:
+        # The reader went away (e.g. `| head`): not an error of ours. Point stdout at devnull
+        # so the interpreter's final flush does not raise again (Python docs, "Note on
+        # SIGPIPE" in the signal module).
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
     return code
 
 

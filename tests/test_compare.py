@@ -74,3 +74,25 @@ def test_bad_file_exits_2_with_one_line(
     assert expected in result.stderr
     assert "bad.json" in result.stderr
     assert len(result.stderr.strip().splitlines()) == 1
+
+
+def test_a_reader_that_goes_away_is_not_a_crash(rounds: Path) -> None:
+    # `riskreport compare ... | head -1`: the reader closes the pipe early. Closing our read
+    # end before the child writes makes its write fail with EPIPE every time (POSIX write(2):
+    # a pipe with no reader), so this is not a timing race.
+    import subprocess
+    import sys
+
+    old, new = rounds / "assessment-2024-09.json", rounds / "assessment-2024-12.json"
+    child = subprocess.Popen(
+        [sys.executable, "-m", "riskreport", "compare", str(old), str(new)],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+    )
+    assert child.stdout is not None
+    assert child.stderr is not None
+    child.stdout.close()
+    stderr = child.stderr.read().decode()
+    assert child.wait(timeout=120) == 0
+    assert "Traceback" not in stderr
+    assert "BrokenPipe" not in stderr
