@@ -20,7 +20,7 @@ from matplotlib.figure import Figure
 from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.assessment import Assessment, HorizonResult
-from riskreport.report.context import summary_horizons
+from riskreport.report.sections.common import summary_horizons
 
 MM = 1 / 25.4  # inches per millimetre: figures are sized to their box in the page CSS
 
