@@ -467,7 +467,10 @@ def _sn_terms(
     z = np.where(finite, (np.where(finite, x, 0.0) - xi) / omega, 0.0)
     t = alpha * z
     log_cdf = special.log_ndtr(t)
-    r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - log_cdf)  # phi/Phi, stable in the tail
+    # phi/Phi, stable in the tail. It overflows only where log_cdf is -inf (a Newton trial
+    # with an absurd alpha z): that row's value is then -inf and the trial is rejected.
+    with np.errstate(over="ignore"):
+        r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - log_cdf)
     n = finite.sum(axis=1)
     a = alpha[:, 0]
     penalty = PENALTY_C1 * np.log1p(PENALTY_C2 * a**2)
