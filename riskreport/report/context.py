@@ -53,7 +53,13 @@ class BriefContext:
     track_text: str
     cautions: tuple[str, ...]
     band_text: str
-    scale_text: str
+    scale_key: str
+    labels: common.TableLabels
+    summary_note: str
+    appendix_note: str
+    judgement_title: str
+    accuracy_caption: str
+    weight_caption: str
     charts: dict[str, ChartBlock]
     outlook_text: tuple[str, ...]
     overlay_entries: tuple[judgement.OverlayEntry, ...]
@@ -118,7 +124,19 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         track_text=summary.track_text(a),
         cautions=summary.CAUTIONS,
         band_text=common.BAND_TEXT,
-        scale_text=common.scale_text(a),
+        scale_key=summary.scale_key(a),
+        labels=common.table_labels(a),
+        summary_note=(
+            f"Centre: the most likely value, {summary.centre_label(a)}; the models' own "
+            f"forecast is in the appendix. {common.INTERVAL_TEXT} {common.SHORT_BAND_TEXT}"
+        ),
+        appendix_note=(
+            "Models' forecast: the combined forecast of the models. "
+            f"Centre: the most likely value, {summary.centre_label(a)}. {common.INTERVAL_TEXT}"
+        ),
+        judgement_title=judgement.title(a),
+        accuracy_caption=track_record.accuracy_caption(a),
+        weight_caption=track_record.WEIGHTS_TABLE_CAPTION,
         charts=charts,
         outlook_text=outlook.outlook_text(a),
         overlay_entries=entries,

@@ -8,7 +8,7 @@ from typing import Any
 from riskreport.assessment import Assessment
 from riskreport.calibration import MIN_TEST_ROUNDS
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import FAMILY_NAMES, SIGNIFICANCE, join_h
+from riskreport.report.sections.common import FAMILY_NAMES, SIGNIFICANCE, join_h, units
 
 
 def coverage(a: Assessment, h: int, nominal: float) -> dict[str, Any] | None:
@@ -36,22 +36,22 @@ def _coverage_lines(a: Assessment, shown: tuple[int, ...]) -> list[str]:
     lines = []
     if narrow:
         lines.append(
-            f"The 90% ranges held the outcome clearly less often than 90% at {join_h(narrow)}: "
+            f"The 90% ranges held the outcome clearly less often than 90% at {join_h(a, narrow)}: "
             "past uncertainty at those horizons was larger than the fitted distributions said."
         )
     if wide:
         lines.append(
-            f"The 90% ranges held the outcome more often than 90% at {join_h(wide)}: "
+            f"The 90% ranges held the outcome more often than 90% at {join_h(a, wide)}: "
             "the fitted distributions there were wider than past errors needed."
         )
     fine = [h for h in checked if h not in narrow and h not in wide]
     if fine:
         lines.append(
-            f"The 90% ranges held the outcome about as often as they should at {join_h(fine)}."
+            f"The 90% ranges held the outcome about as often as they should at {join_h(a, fine)}."
         )
     unchecked = [h for h in shown if h not in checked]
     if unchecked:
-        lines.append(f"Too few past rounds to check the ranges at {join_h(unchecked)}.")
+        lines.append(f"Too few past rounds to check the ranges at {join_h(a, unchecked)}.")
     return lines
 
 
@@ -75,7 +75,7 @@ def calibration(
         if half and ninety:
             rows.append(
                 CoverageRow(
-                    f"h = {h}",
+                    str(h),
                     fmt.single_percent(half["observed"]),
                     fmt.single_percent(ninety["observed"]),
                     str(ninety["n"]),
@@ -93,7 +93,7 @@ def calibration(
         verdict = "rejects" if berk["pvalue"] < SIGNIFICANCE else "does not reject"
         lines.append(
             f"For the nowcast, the Berkowitz test {verdict} well-calibrated, independent PITs "
-            f"(p = {fmt.number(berk['pvalue'], 3)})."
+            f"({fmt.p_value(berk['pvalue'])})."
         )
     run = [h for h in shown if ("knuppel", h) in tests]
     rejected = [h for h in run if tests[("knuppel", h)]["pvalue"] < SIGNIFICANCE]
@@ -101,9 +101,9 @@ def calibration(
         lines.append(
             "A raw-moment test that allows for the overlap of multi-step errors (Knueppel 2015) "
             + (
-                f"rejects calibration at {join_h(rejected)}."
+                f"rejects calibration at {join_h(a, rejected)}."
                 if rejected
-                else f"does not reject calibration at {join_h(run)}."
+                else f"does not reject calibration at {join_h(a, run)}."
             )
         )
     else:
@@ -118,7 +118,7 @@ def calibration(
         lines.append(
             "Against a benchmark that always says the historical shares of below, inside and "
             "above, the ranked probability score is "
-            + (f"better at {join_h(better)}" if better else f"no better at {join_h(scored)}")
+            + (f"better at {join_h(a, better)}" if better else f"no better at {join_h(a, scored)}")
             + "."
         )
     return tuple(lines), tuple(rows)
@@ -131,7 +131,7 @@ PIT_CAPTION = (
 )
 RELIABILITY_CAPTION = (
     "Said versus happened: the probability of being inside the band, against how "
-    "often it was (labels: rounds)."
+    "often it was (labels: cases, one per past round and horizon)."
 )
 
 
@@ -142,7 +142,7 @@ def pit_alt(a: Assessment) -> str:
         counts = g["counts"]
         n = sum(counts)
         parts.append(
-            f"h {g['h_from']} to {g['h_to']}: {fmt.single_percent(counts[0] / n)} in the lowest tenth and "
+            f"{g['h_from']} to {g['h_to']} {units(a)} ahead: {fmt.single_percent(counts[0] / n)} in the lowest tenth and "
             f"{fmt.single_percent(counts[-1] / n)} in the highest (10% each if calibrated)"
         )
     return (

@@ -81,13 +81,42 @@ def scale_of(a: Assessment) -> verbal.Scale:
     return verbal.SCALES[a.uncertainty["verbal_scale"]]
 
 
+def shown_probability(whole: str) -> float:
+    """The probability a printed percentage stands for: "41%" -> 0.41, "<1%" -> 0.0."""
+    return float(whole.strip("<>%")) / 100
+
+
+def word(a: Assessment, whole: str) -> str:
+    """The scale's word for a printed percentage, on the same side of 50% as the number."""
+    return verbal.sided_term(shown_probability(whole), scale_of(a))
+
+
 def phrase(a: Assessment, whole: str) -> str:
     """The scale's word with the printed number beside it, e.g. "likely (72%)".
 
-    The word is chosen for the printed (rounded) number, so word and number agree.
+    The word is chosen for the printed (rounded) number, so word and number agree, and it is
+    never on the other side of 50% from the number (see :func:`riskreport.verbal.sided_term`).
     """
-    shown = float(whole.strip("<>%")) / 100
-    return f"{verbal.term(shown, scale_of(a))} ({whole})"
+    return f"{word(a, whole)} ({whole})"
+
+
+def inside_split(a: Assessment, texts: tuple[str, str, str], band: str = "the band") -> str:
+    """ "less likely than not to be inside: 41% inside, 59% outside (35% above, 24% below)".
+
+    The word, then inside and outside with the side that is more likely named first among
+    above and below.
+    """
+    below, inside, above = texts
+    outside = fmt.percent_text(100 - round(100 * shown_probability(inside)))
+    if inside == ">99%":
+        outside = "<1%"
+    sides = (f"{above} above", f"{below} below")
+    if shown_probability(below) > shown_probability(above):
+        sides = sides[::-1]
+    return (
+        f"{word(a, inside)} to be inside {band}: {inside} inside, {outside} outside "
+        f"({sides[0]}, {sides[1]})"
+    )
 
 
 SIGNIFICANCE = 0.05  # conventional test level (common practice, no source)
@@ -98,8 +127,11 @@ def span(values: list[int]) -> str:
     return str(min(values)) if min(values) == max(values) else f"{min(values)} to {max(values)}"
 
 
-def join_h(hs: list[int]) -> str:
-    return "h = " + ", ".join(str(h) for h in hs)
+def join_h(a: Assessment, hs: list[int]) -> str:
+    """ "3, 6 and 12 months ahead"."""
+    words = [str(h) for h in hs]
+    listed = words[0] if len(words) == 1 else ", ".join(words[:-1]) + " and " + words[-1]
+    return f"{listed} {units(a) if hs != [1] else units(a)[:-1]} ahead"
 
 
 FAMILY_NAMES = {
@@ -121,6 +153,52 @@ BAND_TEXT = (
 )
 
 
-def scale_text(a: Assessment) -> str:
-    """The sentence naming the verbal scale and its source."""
-    return f"Words for probabilities follow the {scale_of(a).name} ({scale_of(a).source})."
+@dataclass(frozen=True)
+class TableLabels:
+    """Column headings of the probability tables."""
+
+    period: str
+    ahead: str
+    band: str
+    forecast: str
+    centre: str
+    below: str
+    inside: str
+    above: str
+    interval: str
+
+
+def table_labels(a: Assessment) -> TableLabels:
+    """The headings, in the brief's frequency."""
+    return TableLabels(
+        period="Period",
+        ahead="Months ahead" if a.frequency == "monthly" else "Quarters ahead",
+        band="Band",
+        forecast="Models' forecast",
+        centre="Centre",
+        below="Below",
+        inside="Inside",
+        above="Above",
+        interval="Inside: plausible range",
+    )
+
+
+def units(a: Assessment) -> str:
+    """ "months" or "quarters"."""
+    return "months" if a.frequency == "monthly" else "quarters"
+
+
+INTERVAL_TEXT = (
+    "Plausible range: where the probability of inside lies in 90% of resamples of the past errors."
+)
+SHORT_BAND_TEXT = (
+    "Both band edges count as inside; <1% and >99% are printed instead of 0% and 100%, "
+    "never a certainty."
+)
+
+
+def ahead_header(a: Assessment, h: int) -> str:
+    """A table heading for one horizon: "now", "3 months", "1 quarter"."""
+    if h == 0:
+        return "now"
+    return f"{h} {units(a) if h != 1 else units(a)[:-1]}"

@@ -59,8 +59,9 @@ def overlay(a: Assessment) -> tuple[tuple[OverlayEntry, ...], tuple[OverlayRow, 
     text = (
         "The overlay maps the model-based distribution of each period it covers: the shift "
         "moves the centre, the scale multiplies the spread, and the skew adds to the mean "
-        "minus the mode (positive tilts the risks upwards). Both sets of probabilities are "
-        "shown; the model-based ones are what the track record alone implies."
+        "minus the mode (positive tilts the risks upwards), the published method of Britton, "
+        "Fisher and Whitley (1998) and Wallis (2004). Both sets of probabilities are shown; "
+        "the model-based ones are what the track record alone implies."
     )
     return entries, tuple(rows), text
 
@@ -110,3 +111,10 @@ def scenario_rows(a: Assessment) -> tuple[ScenarioRow, ...]:
             )
         )
     return tuple(rows)
+
+
+def title(a: Assessment) -> str:
+    """The section's heading: it names only what the brief has."""
+    if a.judgement and a.scenarios:
+        return "Staff judgement and scenarios"
+    return "Staff judgement" if a.judgement else "Scenarios"

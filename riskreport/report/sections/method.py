@@ -10,11 +10,11 @@ from riskreport import periods
 from riskreport.adjustments import Adjustments
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import FAMILY_NAMES, KeyValue, scale_of, span
+from riskreport.report.sections.common import FAMILY_NAMES, KeyValue, scale_of, span, units
 
 TESTS_METHOD = (
     "Two forecasts: Diebold-Mariano and encompassing tests with the Harvey-Leybourne-Newbold "
-    "correction, Student t; for an h-step horizon the long-run variance uses h-1 lags "
+    "correction, Student t; for a forecast n periods ahead the long-run variance uses n\u22121 lags "
     "(rectangular window, Bartlett when that is negative). Several forecasts (Mariano-Preve) "
     "and the calibration test of overlapping PITs (Knueppel): Hotelling F one step ahead; "
     "further ahead, a weighted-periodogram variance with a fixed-smoothing F, because the "
@@ -67,6 +67,34 @@ def distribution_text(a: Assessment) -> str:
     return text + "."
 
 
+OVERLAY_SOURCES = (
+    "Britton, Fisher and Whitley (1998), The Inflation Report projections: understanding "
+    "the fan chart, Bank of England Quarterly Bulletin 38(1); Wallis (2004), An assessment "
+    "of Bank of England and National Institute inflation forecast uncertainties, National "
+    "Institute Economic Review 189"
+)
+
+
+def judgement_text(a: Assessment) -> str:
+    """The method line on staff judgement, with the overlay's published sources."""
+    if not a.judgement:
+        return "None applied in this brief: the probabilities are model-based."
+    return (
+        "An overlay on the model-based distribution: a shift of the centre, a scale of the "
+        "spread and a skew (mean minus mode) of a two-piece normal, as in " + OVERLAY_SOURCES
+    )
+
+
+def verbal_text(a: Assessment) -> str:
+    """The verbal scale, its source, and our rule for the middle term."""
+    scale = scale_of(a)
+    return (
+        f"{scale.name} ({scale.source}); a term whose range straddles 50% is used only at "
+        "exactly 50%, otherwise \u201cmore likely than not\u201d (an additional IPCC AR5 term) "
+        "or \u201cless likely than not\u201d (our complement of it)"
+    )
+
+
 @dataclass(frozen=True)
 class InputRow:
     """One input file as the method page lists it."""
@@ -116,7 +144,7 @@ def sample_facts(a: Assessment) -> tuple[KeyValue, ...]:
         KeyValue(
             "Past errors per horizon",
             (span(samples) if samples else "none")
-            + (f"; given at h = {periods.ranges(given)}" if given else ""),
+            + (f"; given at {periods.ranges(given)} {units(a)} ahead" if given else ""),
         ),
     )
 
@@ -154,7 +182,7 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
             (
                 KeyValue(
                     "Given error distribution",
-                    f"h = {periods.ranges(given)}: the error_quantiles file, used exactly "
+                    f"{periods.ranges(given)} {units(a)} ahead: the error_quantiles file, used exactly "
                     "as given (not widened, no past errors, no sampling interval)",
                 ),
             )
@@ -162,15 +190,17 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
             else ()
         ),
         KeyValue(
-            "Interval for inside",
-            f"{int(100 * u['interval_level'])}% moving-block bootstrap, {u['bootstrap_replicates']} replicates",
+            "Plausible range of inside",
+            f"{int(100 * u['interval_level'])}% of {u['bootstrap_replicates']} moving-block "
+            "bootstrap resamples of the past errors",
         ),
         KeyValue(
             "Path probabilities",
             f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}",
         ),
         KeyValue("Accuracy tests", TESTS_METHOD),
-        KeyValue("Verbal scale", scale_of(a).name),
+        KeyValue("Verbal scale", verbal_text(a)),
+        KeyValue("Staff judgement", judgement_text(a)),
     )
 
 
@@ -237,7 +267,7 @@ def sensitivity_lines(a: Assessment) -> tuple[SensitivityLine, ...]:
 def sensitivity_caption(a: Assessment) -> str:
     """The panel's caption."""
     return (
-        f"Chance of being inside the band in {a.policy.period} (h = {a.policy_horizon}) under "
+        f"Chance of being inside the band in {a.policy.period} ({a.policy_horizon} {units(a)} ahead) under "
         "each method, before any judgement, with that method's past record at this horizon "
         "(mean log score: higher is better; how often its 90% range held the outcome)"
     )

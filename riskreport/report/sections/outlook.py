@@ -7,7 +7,13 @@ from typing import Any
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import band_label, phrase, probability_row, summary_horizons
+from riskreport.report.sections.common import (
+    band_label,
+    phrase,
+    probability_row,
+    summary_horizons,
+    units,
+)
 
 
 @dataclass(frozen=True)
@@ -95,11 +101,15 @@ def outlook_text(a: Assessment) -> tuple[str, ...]:
 
 OUTLOOK_CAPTION = (
     "Outlook: outcomes, the target band (hatched), the centre path (dotted) and the "
-    "50/80/90% probability bands, after staff judgement."
+    "50/80/90% probability bands, after staff judgement. Each period's bands are estimated "
+    "from that period's own past errors and are not smoothed across periods, so their edges "
+    "and the centre path are uneven: a notch of a tenth or two of a point between "
+    "neighbouring periods is sampling noise, not a forecast."
 )
 PROBABILITIES_CAPTION = (
-    "Probability of inflation below, inside and above the band by horizon; shading is "
-    "the 90% bootstrap interval for inside."
+    "Probability of inflation below, inside and above the band by how far ahead; the "
+    "shading is the plausible range of the probability of inside (90% of resamples of the "
+    "past errors)."
 )
 
 
@@ -121,8 +131,8 @@ def probabilities_alt(a: Assessment) -> str:
     first, policy = a.horizons[0], a.policy
     return (
         f"Line chart of the probability of inflation below, inside and above the band by "
-        f"horizon. Inside falls from {fmt.single_percent(first.p_inside)} at h = 0 to "
-        f"{fmt.single_percent(policy.p_inside)} at the policy horizon (h = {policy.h}); above "
+        f"{units(a)[:-1]} ahead. Inside falls from {fmt.single_percent(first.p_inside)} now to "
+        f"{fmt.single_percent(policy.p_inside)} at the policy horizon ({policy.h} {units(a)} ahead); above "
         f"is {fmt.single_percent(policy.p_above)} and below {fmt.single_percent(policy.p_below)} "
         "there. The numbers are in the appendix table."
     )

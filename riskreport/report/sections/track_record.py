@@ -7,7 +7,14 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import SIGNIFICANCE, join_h, span, summary_horizons
+from riskreport.report.sections.common import (
+    SIGNIFICANCE,
+    ahead_header,
+    join_h,
+    span,
+    summary_horizons,
+    units,
+)
 
 
 @dataclass(frozen=True)
@@ -32,15 +39,15 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
         lines.append(AccuracyLine(name, cells, name == "combination"))
     current = {m.model for m in a.models if m.in_current_round}
     left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
-    best: dict[str, list[str]] = {}
+    best: dict[str, list[int]] = {}
     for h in shown:
         candidates = [by_key[(n, h)] for n in names if (n, h) in by_key and n in current]
         if candidates:
             winner = min(candidates, key=lambda r: r.rmse)
-            best.setdefault(winner.model, []).append(str(h))
-    leaders = "; ".join(f"{model} (h = {', '.join(hs)})" for model, hs in best.items())
+            best.setdefault(winner.model, []).append(h)
+    leaders = "; ".join(f"{model} ({join_h(a, hs)})" for model, hs in best.items())
     text = (
-        "Root mean square error (pp) over the error window; each forecaster is scored on the "
+        "Root mean square error in percentage points (pp) over the error window; each forecaster is scored on the "
         "rounds in that window where it gave a forecast. Lowest among the models in the "
         f"current round: {leaders}. "
         "Significance is discussed below."
@@ -50,7 +57,7 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
             f" Not in the current round, and scored on a shorter, older sample, so not "
             f"comparable: {', '.join(left_out)}."
         )
-    return tuple(f"h = {h}" for h in shown), tuple(lines), text
+    return tuple(ahead_header(a, h) for h in shown), tuple(lines), text
 
 
 def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
@@ -71,21 +78,21 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             "level (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
         )
     else:
-        parts = [f"{m} ({join_h(hs)})" for m, hs in worse.items()]
+        parts = [f"{m} ({join_h(a, hs)})" for m, hs in worse.items()]
         if parts:
             lines.append(
                 f"The combination is significantly more accurate than {'; '.join(parts)} at "
                 f"the {level} level (Diebold-Mariano, HLN correction)."
             )
-        parts = [f"{m} ({join_h(hs)})" for m, hs in better.items()]
+        parts = [f"{m} ({join_h(a, hs)})" for m, hs in better.items()]
         if parts:
             lines.append(f"Significantly more accurate than the combination: {'; '.join(parts)}.")
     naive = [t for t in dm if t.models == ("combination", "no-change")]
     beats = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
     loses = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
     text = "Against the no-change forecast, the combination is significantly better at "
-    text += join_h(beats) if beats else "none of these horizons"
-    text += f" and significantly worse at {join_h(loses)}." if loses else "."
+    text += join_h(a, beats) if beats else "none of these horizons"
+    text += f" and significantly worse at {join_h(a, loses)}." if loses else "."
     lines.append(text)
     joint = [t for t in a.tests if t.name == "mariano-preve" and t.h in shown]
     rejected = [t.h for t in joint if t.pvalue < SIGNIFICANCE]
@@ -93,7 +100,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         lines.append(
             "Taking all current models together (Mariano-Preve test), equal accuracy is "
             + (
-                f"rejected at {join_h(rejected)}"
+                f"rejected at {join_h(a, rejected)}"
                 if rejected
                 else "not rejected at any of these horizons"
             )
@@ -106,7 +113,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     if adds:
         lines.append(
             "Models that would still add information to the combination (encompassing test, "
-            f"HLN 1998): {'; '.join(f'{m} ({join_h(hs)})' for m, hs in adds.items())}."
+            f"HLN 1998): {'; '.join(f'{m} ({join_h(a, hs)})' for m, hs in adds.items())}."
         )
     else:
         lines.append("The combination encompasses every model at these horizons (HLN 1998 test).")
@@ -155,12 +162,30 @@ def weights(
         )
     if method in ("median", "trimmed"):
         text += " The weights show which models set the combined value in the current round."
-    return tuple(f"h = {h}" for h in shown), lines, text
+    values = {round(w["weight"], 6) for w in a.combination["weights"]}
+    if len(values) == 1:
+        # Equal weights: one sentence, no table of identical numbers.
+        text = (
+            f"Method: {method}. Each of the {len(table)} models in the current round has the "
+            f"same weight ({fmt.number(values.pop(), 2)}) at every horizon."
+        )
+        lines = ()
+    return tuple(ahead_header(a, h) for h in shown), lines, text
+
+
+WEIGHTS_TABLE_CAPTION = "Weight of each model by how far ahead"
+
+
+def accuracy_caption(a: Assessment) -> str:
+    """Caption of the accuracy table."""
+    return f"Root mean square error of each forecaster, percentage points, by {units(a)} ahead"
 
 
 def weights_caption(a: Assessment) -> str:
     """Caption of the weights chart."""
-    return f"Combination weights of the current round by horizon ({a.combination['method']})."
+    return (
+        f"Combination weights of the current round by {units(a)} ahead ({a.combination['method']})."
+    )
 
 
 def weights_alt(a: Assessment) -> str:
