@@ -350,7 +350,7 @@ def summarise(
         "rps": {
             "by_horizon": rps_rows,
             "categories": ["below", "inside", "above"],
-            "convention": "unnormalised sum over categories (scoringrules rps_score)",
+            "convention": "sum over the three categories of the squared differences of cumulative probabilities, not divided by the number of categories minus one",
         },
         "tests": tests,
         "scores": [

@@ -102,3 +102,49 @@ def term(p: float, scale: Scale = IPCC_AR5) -> str:
     return min(
         containing, key=lambda t: (round(t.high - t.low, 9), t.word != "about as likely as not")
     ).word
+
+
+MORE_LIKELY = (
+    "more likely than not"  # IPCC AR5 additional term, >50-100% (Mastrandrea et al. 2010, Table 1)
+)
+LESS_LIKELY = "less likely than not"  # its complement, below 50% (our wording)
+
+
+def sided_term(p: float, scale: Scale = IPCC_AR5) -> str:
+    """The term for ``p``, never on the other side of 50% from ``p``.
+
+    A term whose range straddles 50% ("about as likely as not", "roughly even chance")
+    reads as an even chance; for any ``p`` other than exactly 50% it is replaced by
+    "more likely than not" or "less likely than not", so the word says which side is more
+    likely. Terms wholly above or below 50% are kept.
+
+    Examples
+    --------
+    >>> sided_term(0.41)
+    'less likely than not'
+    >>> sided_term(0.72)
+    'likely'
+    >>> sided_term(0.5)
+    'about as likely as not'
+    """
+    word = term(p, scale)
+    chosen = next(t for t in scale.terms if t.word == word)
+    if chosen.low < 0.5 < chosen.high and p != 0.5:
+        return MORE_LIKELY if p > 0.5 else LESS_LIKELY
+    return word
+
+
+def side(word: str, scale: Scale = IPCC_AR5) -> int:
+    """Which side of 50% a term stands for: +1 above, -1 below, 0 straddling.
+
+    Examples
+    --------
+    >>> side("unlikely"), side("likely"), side("about as likely as not")
+    (-1, 1, 0)
+    """
+    if word == MORE_LIKELY:
+        return 1
+    if word == LESS_LIKELY:
+        return -1
+    t = next(t for t in scale.terms if t.word == word)
+    return 1 if t.low >= 0.5 else -1 if t.high <= 0.5 else 0

@@ -101,14 +101,15 @@ def test_pdf_carries_the_headline_numbers_from_the_json(demo_build: Path) -> Non
     policy = next(r for r in data["horizons"] if r["h"] == data["policy_horizon"])
     text = " ".join(_pdf_text(out / f"brief-{AS_OF}.pdf").split())
     sentence = re.search(
-        r"At the policy horizon \((\S+), (\d+) months ahead\)(.*?)below it (\d+)%", text
+        r"At the policy horizon \((\S+), (\d+) months ahead\) inflation is .*? to be inside "
+        r"the \S+ target band: (\d+)% inside, (\d+)% outside \((\d+)% above, (\d+)% below\)",
+        text,
     )
     assert sentence is not None, text[:600]
     assert sentence.group(1) == policy["period"]
-    inside = int(re.search(r"\((\d+)%\) to be inside", sentence.group(0)).group(1))
-    above = int(re.search(r"above the band is (\d+)%", sentence.group(0)).group(1))
-    below = int(sentence.group(4))
+    inside, outside, above, below = (int(sentence.group(k)) for k in (3, 4, 5, 6))
     assert inside + above + below == 100
+    assert outside == above + below
     for printed, p in (
         (inside, policy["p_inside"]),
         (above, policy["p_above"]),
@@ -265,8 +266,8 @@ def test_summary_fits_on_the_first_page(demo_build: Path) -> None:
     assert "Below, inside and above the band" in first
     assert "Since the last brief" in first
     assert "does not replace, the judgement of the policy committee" in first  # cautions box
-    assert "2 Outlook" not in first
-    assert "2 Outlook" in " ".join(reader.pages[1].extract_text().split())
+    assert "Outlook The shaded areas" not in first
+    assert "Outlook The shaded areas" in " ".join(reader.pages[1].extract_text().split())
 
 
 def test_track_record_sentence_gets_the_sign_of_the_bias_right(demo_build: Path) -> None:
@@ -280,7 +281,7 @@ def test_track_record_sentence_gets_the_sign_of_the_bias_right(demo_build: Path)
     )
     text = " ".join(_pdf_text(out / f"brief-{AS_OF}.pdf").split())
     expected = "above" if row["mean_error"] > 0 else "below"
-    assert f"outcomes came in {expected} the forecast" in text
+    assert re.search(rf"with outcomes [0-9.]+ pp {expected} it on average", text)
 
 
 def test_judgement_message_names_its_largest_effect(demo_build: Path) -> None:
@@ -293,3 +294,59 @@ def test_judgement_message_names_its_largest_effect(demo_build: Path) -> None:
     text = " ".join(_pdf_text(_out(demo_build) / f"brief-{AS_OF}.pdf").split())
     assert f"moves the probability of being inside most in {biggest}" in text
     assert "It does not cover the policy horizon." in text  # the demo's judgement ends 2027-12
+
+
+def _whole(p: float) -> int:
+    return int(np.floor(100 * p + 0.5))  # round half up, as printed
+
+
+def test_page_one_quotes_the_reliability_bin_nearest_the_headline(demo_build: Path) -> None:
+    # The track record on page 1 must speak of statements like today's: the bin of the
+    # reliability table (JSON) whose stated probability is nearest the headline P(inside).
+    out = _out(demo_build)
+    data = json.loads((out / f"assessment-{AS_OF}.json").read_text("utf-8"))
+    bins = data["calibration"]["brier"]["reliability"]
+    today = data["headline"]["p_inside"]
+    nearest = min(bins, key=lambda r: abs(r["forecast_mean"] - today))
+    near_70 = min(bins, key=lambda r: abs(r["forecast_mean"] - 0.7))
+    assert nearest is not near_70  # the demo tells the two apart, so this test can fail
+    first = " ".join(PdfReader(out / f"brief-{AS_OF}.pdf").pages[0].extract_text().split())
+    said, happened = _whole(nearest["forecast_mean"]), _whole(nearest["observed_frequency"])
+    assert f"statements like today's ({said}% inside) came true {happened}% of the time" in first
+    # Direction in plain words, and the 90% range at the policy horizon.
+    sentence = first[first.index("statements like today's") :]
+    if happened > said + 5:
+        assert "more often than stated" in sentence or "times as often as stated" in sentence
+    elif happened < said - 5:
+        assert "less often than stated" in sentence
+    else:
+        assert "about as often as stated" in sentence
+    cover = next(
+        c
+        for c in data["calibration"]["coverage"]
+        if c["h"] == data["policy_horizon"] and c["nominal"] == 0.9
+    )
+    assert f"the 90% ranges held the outcome {_whole(cover['observed'])}% of the time" in first
+
+
+def test_no_verbal_phrase_contradicts_its_number(demo_build: Path) -> None:
+    # Every "word (NN%)" and "word to be inside ...: NN% inside" the brief prints must say
+    # the side of 50% its number is on (IPCC AR5 terms, Mastrandrea et al. 2010, Table 1).
+    from riskreport import verbal
+
+    html = (_out(demo_build) / f"brief-{AS_OF}.html").read_text("utf-8")
+    text = " ".join(re.sub(r"<[^>]+>", " ", html).split())
+    words = sorted(
+        {t.word for s in verbal.SCALES.values() for t in s.terms}
+        | {verbal.MORE_LIKELY, verbal.LESS_LIKELY},
+        key=len,
+        reverse=True,
+    )
+    pattern = "|".join(re.escape(w) for w in words)
+    found = re.findall(rf"\b({pattern}) \(([<>]?)(\d+)%\)", text)
+    found += re.findall(rf"\b({pattern}) to be inside [^:]*: ([<>]?)(\d+)% inside", text)
+    assert len(found) >= 3
+    scale = verbal.SCALES["ipcc-ar5"]
+    for word, _, number in found:
+        p = int(number)
+        assert verbal.side(word, scale) == (0 if p == 50 else 1 if p > 50 else -1), (word, p)

@@ -229,6 +229,7 @@ def test_model_names_with_mathtext_characters_in_chart_legend() -> None:
             ]
         },
         horizons=[SimpleNamespace(h=h) for h in hs],
+        frequency="monthly",
     )
     chart = charts.weights(assessment)  # type: ignore[arg-type]
     # Text is drawn as glyph paths named by font and glyph index: a literal "$" and a

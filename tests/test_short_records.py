@@ -16,7 +16,8 @@ import pytest
 
 import riskreport
 from riskreport import probabilities
-from riskreport.report import context, tables
+from riskreport.report import tables
+from riskreport.report.sections import track_record
 from tests.conftest import Case, Result, constant_forecast_world
 
 
@@ -83,7 +84,7 @@ def test_identical_forecasts_are_reported_as_undefined(case: Case, tmp_path: Pat
     assert against
     assert all(np.isnan(t.pvalue) for t in against)
     assert all(np.isnan(t.pvalue) for t in a.tests if t.name == "mariano-preve")
-    text = " ".join(context._tests_text(a, (0, 1, 2, 3)))
+    text = " ".join(track_record.tests_text(a, (0, 1, 2, 3)))
     assert "could not be computed" in text
     assert "came out negative" not in text
     data = json.loads(a.to_json())

@@ -191,8 +191,8 @@ def test_given_error_quantiles_are_used_exactly_as_given(case: Case) -> None:
 
     c = context.build(a, {}, "run")
     facts = {k.label: k.value for k in c.method + c.samples}
-    assert facts["Given error distribution"].startswith("h = 2")
-    assert "given at h = 2" in facts["Past errors per horizon"]
+    assert facts["Given error distribution"].startswith("2 months ahead")
+    assert "given at 2 months ahead" in facts["Past errors per horizon"]
 
 
 @pytest.mark.parametrize("method", ["tracking", "beta"])

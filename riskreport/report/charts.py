@@ -2,7 +2,9 @@
 
 Our palette: an umber ramp for the probability bands (light to dark with probability, so it
 reads in greyscale), a hatched grey target band, and for the three outcomes three hues that
-stay apart for the common colour-vision deficiencies, each also with its own line style and
+stay apart for the common colour-vision deficiencies (a slate blue below, the umber inside,
+a sea green above; tests/reference/test_palette.py measures the pair under simulated
+deuteranopia and protanopia and in greyscale), each also with its own line style and
 marker, labelled directly on the chart.
 """
 
@@ -20,7 +22,7 @@ from matplotlib.figure import Figure
 from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.assessment import Assessment, HorizonResult
-from riskreport.report.context import summary_horizons
+from riskreport.report.sections.common import summary_horizons
 
 MM = 1 / 25.4  # inches per millimetre: figures are sized to their box in the page CSS
 
@@ -28,10 +30,12 @@ INK = "#26231f"
 GRID = "#d9d4cc"
 BAND_EDGE = "#6f6a63"
 FAN = {"90%": "#efe4cc", "80%": "#dcc49a", "50%": "#b98d4f"}
+BELOW = "#2f6497"
+ABOVE = "#3f8f6b"
 OUTCOME_STYLE: dict[str, dict[str, Any]] = {
-    "below": {"color": "#2f6497", "linestyle": (0, (5, 2)), "marker": "v"},
+    "below": {"color": BELOW, "linestyle": (0, (5, 2)), "marker": "v"},
     "inside": {"color": "#7a4e12", "linestyle": "-", "marker": "o"},
-    "above": {"color": "#9b2f63", "linestyle": (0, (6, 2, 1, 2)), "marker": "^"},
+    "above": {"color": ABOVE, "linestyle": (0, (6, 2, 1, 2)), "marker": "^"},
 }
 
 # Any: matplotlib's stubs type rcParams keys as one large Literal.
@@ -158,11 +162,11 @@ def outlook_figure(assessment: Assessment, width_mm: float = 170, height_mm: flo
             fontsize=7,
         )
         ax.annotate(
-            "target band",
-            (first + 2, uppers[0]),
+            "target band",  # at the end of the history, clear of the "outcomes" label
+            (x[0] - 2, uppers[0]),
             xytext=(0, 3),
             textcoords="offset points",
-            ha="left",
+            ha="right",
             va="bottom",
             color=BAND_EDGE,
             fontsize=7,
@@ -199,6 +203,21 @@ def spread_labels(positions: list[float], gap: float) -> list[float]:
     return result
 
 
+def _units(assessment: Assessment) -> str:
+    return "months" if assessment.frequency == "monthly" else "quarters"
+
+
+def _ahead_ticks(ax: Axes, assessment: Assessment) -> None:
+    """Ticks in periods ahead with the target period under each, about six of them."""
+    rows = assessment.horizons
+    step = max(1, int(np.ceil(len(rows) / 6)))
+    if assessment.frequency == "monthly" and len(rows) > 8:
+        step = 6 if len(rows) > 13 else 3
+    chosen = [r for r in rows if r.h % step == 0]
+    ax.set_xticks([r.h for r in chosen], [f"{r.h}\n{r.period}" for r in chosen])
+    ax.set_xlabel(f"{_units(assessment)} ahead (and the target period)")
+
+
 def _outcome_lines(ax: Axes, x: list[int], series: dict[str, list[float]]) -> None:
     ends = spread_labels([100 * values[-1] for values in series.values()], gap=10.0)
     for (key, values), end in zip(series.items(), ends, strict=True):
@@ -212,6 +231,7 @@ def _outcome_lines(ax: Axes, x: list[int], series: dict[str, list[float]]) -> No
             va="center",
             color=style["color"],
             fontsize=8,
+            annotation_clip=False,
         )
 
 
@@ -239,7 +259,7 @@ def band_probabilities_figure(
             [100 * r.p_inside_interval[1] for r in rows],
             color=FAN["90%"],
             lw=0,
-            label="90% interval for inside",
+            label="plausible range of inside",
         )
         _outcome_lines(
             ax,
@@ -261,9 +281,9 @@ def band_probabilities_figure(
             color=BAND_EDGE,
         )
         ax.set_ylim(0, 100)
-        ax.set_xlim(x[0], x[-1] + 2.5)
+        ax.set_xlim(x[0], x[-1])  # the axis ends at the last horizon; labels sit beyond it
         ax.set_ylabel("probability, %")
-        ax.set_xlabel("periods ahead (h)")
+        _ahead_ticks(ax, assessment)
         ax.grid(axis="y", color=GRID, lw=0.4)
         ax.spines[["top", "right"]].set_visible(False)
         return fig
@@ -291,9 +311,9 @@ def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: flo
             )
             ax.axhline(1.0, color=INK, lw=0.8, ls=(0, (3, 2)))
             ax.set_title(
-                f"h = {group['h_from']}\u2013{group['h_to']}"
+                f"{group['h_from']}\u2013{group['h_to']} {_units(assessment)} ahead"
                 if group["h_from"] != group["h_to"]
-                else f"h = {group['h_from']}",
+                else f"{group['h_from']} {_units(assessment)} ahead",
                 fontsize=7.5,
             )
             ax.set_xticks([0, 0.5, 1], ["0", "0.5", "1"])
@@ -310,27 +330,36 @@ def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float =
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         ax = fig.add_subplot()
-        ax.plot([0, 100], [0, 100], color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)))
+        ax.plot(
+            [0, 100], [0, 100], color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)), label="said = happened"
+        )
         x = [100 * r["forecast_mean"] for r in table]
         y = [100 * r["observed_frequency"] for r in table]
-        ax.plot(x, y, color=OUTCOME_STYLE["inside"]["color"], marker="o", markersize=3.5, lw=1.2)
+        ax.plot(
+            x,
+            y,
+            color=OUTCOME_STYLE["inside"]["color"],
+            marker="o",
+            markersize=3.5,
+            lw=1.2,
+            label="past statements",
+        )
         for xi, yi, r in zip(x, y, table, strict=True):
+            # Each count on the side of its point away from the diagonal, so it never sits
+            # on the said = happened line.
+            above = yi >= xi
             ax.annotate(
                 str(r["n"]),
                 (xi, yi),
-                xytext=(3, -8),
+                xytext=(-3, 4) if above else (3, -4),
                 textcoords="offset points",
-                fontsize=5.5,
+                ha="right" if above else "left",
+                va="bottom" if above else "top",
+                fontsize=6,
                 color=BAND_EDGE,
             )
-        ax.annotate(
-            "said = happened",
-            (95, 95),
-            xytext=(0, -16),
-            textcoords="offset points",
-            fontsize=6.5,
-            color=BAND_EDGE,
-            ha="right",
+        ax.legend(
+            fontsize=6.5, frameon=False, ncol=2, loc="upper center", bbox_to_anchor=(0.5, -0.22)
         )
         ax.set_xlim(0, 100)
         ax.set_ylim(0, 100)
@@ -343,12 +372,12 @@ def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float =
 
 PART_STYLE: dict[str, dict[str, Any]] = {
     "centre": {"color": "#7a4e12", "hatch": ""},
-    "spread and shape": {"color": "#2f6497", "hatch": "////"},
+    "spread and shape": {"color": ABOVE, "hatch": "////"},
     "band": {"color": "#a8a29a", "hatch": ".."},
 }
 
 
-def change_parts(assessment: Assessment, width_mm: float = 84, height_mm: float = 30) -> Chart:
+def change_parts(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Chart:
     """Change in P(inside) since the previous brief, split into its three parts, by period."""
     change = assessment.change or {"horizons": []}
     wanted = set(summary_horizons(assessment))
@@ -358,17 +387,20 @@ def change_parts(assessment: Assessment, width_mm: float = 84, height_mm: float 
         fig = _figure(width_mm, height_mm)
         ax = fig.add_subplot()
         x = np.arange(len(rows))
-        keys = (
+        keys: tuple[tuple[str, str], ...] = (
             ("centre", "due_to_centre"),
             ("spread and shape", "due_to_spread"),
             ("band", "due_to_band"),
         )
+        # A part that is zero everywhere gets no bars, so it gets no legend entry either.
+        keys = tuple(k for k in keys if any(abs(r[k[1]]) >= 0.005 for r in rows)) or keys[:1]
+        width = 0.78 / len(keys)
         for i, (label, key) in enumerate(keys):
             style = PART_STYLE[label]
             ax.bar(
-                x + (i - 1) * 0.26,
+                x + (i - (len(keys) - 1) / 2) * width,
                 [100 * r[key] for r in rows],
-                width=0.26,
+                width=width,
                 color=style["color"],
                 hatch=style["hatch"],
                 edgecolor=INK,
@@ -378,12 +410,12 @@ def change_parts(assessment: Assessment, width_mm: float = 84, height_mm: float 
         total = [100 * (r["p_inside_now"] - r["p_inside_before"]) for r in rows]
         ax.plot(x, total, linestyle="none", marker="D", markersize=3, color=INK, label="total")
         ax.axhline(0, color=INK, lw=0.6)
-        ax.set_xticks(x, [r["period"] for r in rows], fontsize=6.5)
-        ax.set_ylabel("pp", fontsize=7)
-        ax.tick_params(axis="y", labelsize=6.5)
+        ax.set_xticks(x, [r["period"] for r in rows])
+        ax.set_ylabel("change in inside,\npercentage points")
+        ax.grid(axis="y", color=GRID, lw=0.4)
         ax.spines[["top", "right"]].set_visible(False)
         ax.legend(
-            fontsize=6, frameon=False, ncol=4, loc="upper center", bbox_to_anchor=(0.5, -0.18)
+            fontsize=7.5, frameon=False, ncol=4, loc="upper center", bbox_to_anchor=(0.5, -0.14)
         )
         return Chart("change", _svg(fig), width_mm, height_mm)
 
@@ -391,11 +423,11 @@ def change_parts(assessment: Assessment, width_mm: float = 84, height_mm: float 
 MODEL_SHADES = (
     "#7a4e12",
     "#2f6497",
-    "#9b2f63",
+    "#3f8f6b",
     "#b98d4f",
     "#6f6a63",
     "#8fb3d9",
-    "#d9b8c9",
+    "#a9cfbf",
     "#26231f",
 )
 MODEL_HATCHES = ("", "////", "\\\\", "..", "xx", "--", "++", "oo")
@@ -429,7 +461,7 @@ def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48
             up += np.where(values >= 0, values, 0)
             down += np.where(values < 0, values, 0)
         ax.axhline(0, color=INK, lw=0.6)
-        ax.set_xlabel("periods ahead (h)")
+        ax.set_xlabel(f"{_units(assessment)} ahead")
         ax.set_ylabel("weight")
         ax.spines[["top", "right"]].set_visible(False)
         ax.legend(

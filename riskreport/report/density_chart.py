@@ -14,7 +14,7 @@ from riskreport.report import formatting as fmt
 from riskreport.report.charts import _RC, BAND_EDGE, FAN, GRID, INK, OUTCOME_STYLE, Chart
 from riskreport.report.charts import _figure as figure
 from riskreport.report.charts import _svg as svg
-from riskreport.report.context import band_label
+from riskreport.report.sections.common import band_label
 
 
 def _row(a: Assessment, h: int) -> HorizonResult:

@@ -106,3 +106,16 @@ def points(value: float) -> str:
     if rounded == 0:
         return "0 pp"
     return f"+{rounded} pp" if rounded > 0 else f"{MINUS}{abs(rounded)} pp"
+
+
+def p_value(p: float) -> str:
+    """A p-value for print: "p = 0.012", and "p < 0.001" rather than "p = 0.000".
+
+    Examples
+    --------
+    >>> p_value(0.0004), p_value(0.0123)
+    ('p < 0.001', 'p = 0.012')
+    """
+    if p < 0.0005:
+        return "p < 0.001"
+    return f"p = {number(p, 3)}"

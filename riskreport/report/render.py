@@ -16,7 +16,8 @@ from riskreport import periods
 from riskreport.assessment import Assessment
 from riskreport.report import charts as charts_module
 from riskreport.report import context as context_module
-from riskreport.report import formatting as fmt
+from riskreport.report.sections import calibration, outlook, summary, track_record
+from riskreport.report.sections.common import ChartBlock
 
 TEMPLATE = "brief.html"
 STYLESHEET = "brief.css"
@@ -40,97 +41,17 @@ def _uri(svg: str) -> str:
     return "data:image/svg+xml;base64," + base64.b64encode(svg.encode("utf-8")).decode("ascii")
 
 
-def _alt_outlook(a: Assessment) -> str:
-    first, last, policy = a.horizons[0], a.horizons[-1], a.policy
-    return (
-        f"Line chart of inflation outcomes up to {a.history[-1].period if a.history else a.as_of} "
-        f"and the forecast from {first.period} to {last.period}, over the target band "
-        f"{context_module.band_label(policy.band)}. The centre path runs from "
-        f"{fmt.number(first.centre)}% to {fmt.number(last.centre)}%; at the policy horizon "
-        f"({policy.period}) the 90% band spans {fmt.number(policy.quantiles['0.05'])}% to "
-        f"{fmt.number(policy.quantiles['0.95'])}%. The numbers are in the appendix table."
-    )
+def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
+    """The charts as blocks for the template, and their SVG text by name.
 
-
-def _alt_probabilities(a: Assessment) -> str:
-    first, policy = a.horizons[0], a.policy
-    return (
-        f"Line chart of the probability of inflation below, inside and above the band by "
-        f"horizon. Inside falls from {fmt.single_percent(first.p_inside)} at h = 0 to "
-        f"{fmt.single_percent(policy.p_inside)} at the policy horizon (h = {policy.h}); above "
-        f"is {fmt.single_percent(policy.p_above)} and below {fmt.single_percent(policy.p_below)} "
-        "there. The numbers are in the appendix table."
-    )
-
-
-def _alt_change(a: Assessment) -> str:
-    assert a.change is not None
-    parts = [
-        f"{r['period']}: {fmt.points(r['p_inside_now'] - r['p_inside_before'])} "
-        f"(centre {fmt.points(r['due_to_centre'])}, spread {fmt.points(r['due_to_spread'])}, band {fmt.points(r['due_to_band'])})"
-        for r in a.change["horizons"]
-    ]
-    return (
-        f"Bar chart of the change in the probability of being inside since {a.change['previous_as_of']}: "
-        + "; ".join(parts)
-        + "."
-    )
-
-
-def _alt_weights(a: Assessment) -> str:
-    by_model: dict[str, list[float]] = {}
-    for w in a.combination["weights"]:
-        by_model.setdefault(w["model"], []).append(w["weight"])
-    parts = [
-        f"{m} from {fmt.number(min(ws), 2)} to {fmt.number(max(ws), 2)}"
-        for m, ws in by_model.items()
-    ]
-    return (
-        "Stacked bar chart of the combination weights by horizon: "
-        + "; ".join(parts)
-        + ". The weights table is beside it."
-    )
-
-
-def _alt_pit(a: Assessment) -> str:
-    parts = []
-    for g in a.calibration["pit"]:
-        counts = g["counts"]
-        n = sum(counts)
-        parts.append(
-            f"h {g['h_from']} to {g['h_to']}: {fmt.single_percent(counts[0] / n)} in the lowest tenth and "
-            f"{fmt.single_percent(counts[-1] / n)} in the highest (10% each if calibrated)"
-        )
-    return (
-        "Histograms of the probability integral transforms of past outcomes. "
-        + "; ".join(parts)
-        + "."
-    )
-
-
-def _alt_reliability(a: Assessment) -> str:
-    rows = a.calibration["brier"]["reliability"]
-    parts = [
-        f"said {fmt.single_percent(r['forecast_mean'])}, happened {fmt.single_percent(r['observed_frequency'])} ({r['n']} rounds)"
-        for r in rows
-    ]
-    return "Reliability of the probability of being inside the band: " + "; ".join(parts) + "."
-
-
-def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], dict[str, str]]:
-    """The charts as blocks for the template, and their SVG text by name."""
+    Each section owns its charts' captions and alt texts; this only puts them together.
+    """
     made = [
-        (
-            charts_module.outlook(a),
-            _alt_outlook(a),
-            "Outlook: outcomes, the target band (hatched), the centre path (dotted) and the "
-            "50/80/90% probability bands, after staff judgement.",
-        ),
+        (charts_module.outlook(a), outlook.outlook_alt(a), outlook.OUTLOOK_CAPTION),
         (
             charts_module.band_probabilities(a),
-            _alt_probabilities(a),
-            "Probability of inflation below, inside and above the band by horizon; shading is "
-            "the 90% bootstrap interval for inside.",
+            outlook.probabilities_alt(a),
+            outlook.PROBABILITIES_CAPTION,
         ),
     ]
     from riskreport.report import density_chart
@@ -149,43 +70,26 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, context_module.ChartBlock], d
         made.append((round_history.chart(a), round_history.alt_text(a), round_history.CAPTION))
     if a.change and a.change["horizons"]:
         made.append(
-            (
-                charts_module.change_parts(a),
-                _alt_change(a),
-                f"Change in the probability of being inside since {a.change['previous_as_of']}, "
-                "by target period, split into centre, spread and shape, and band.",
-            )
+            (charts_module.change_parts(a), summary.change_alt(a), summary.change_caption(a))
         )
     if a.combination["method"] not in ("equal", "given"):
         made.append(
-            (
-                charts_module.weights(a),
-                _alt_weights(a),
-                f"Combination weights of the current round by horizon ({a.combination['method']}).",
-            )
+            (charts_module.weights(a), track_record.weights_alt(a), track_record.weights_caption(a))
         )
-    calibration = a.calibration
-    if calibration["pit"]:
+    if a.calibration["pit"]:
         made.append(
-            (
-                charts_module.pit_histograms(a),
-                _alt_pit(a),
-                "PIT histograms of past rounds by horizon group (replay of the model-based method). "
-                "Bars above the dashed line mark outcomes that fell there more often than the "
-                "distributions said.",
-            )
+            (charts_module.pit_histograms(a), calibration.pit_alt(a), calibration.PIT_CAPTION)
         )
-    if calibration["brier"]["reliability"]:
+    if a.calibration["brier"]["reliability"]:
         made.append(
             (
                 charts_module.reliability(a),
-                _alt_reliability(a),
-                "Said versus happened: the probability of being inside the band, against how "
-                "often it was (labels: rounds).",
+                calibration.reliability_alt(a),
+                calibration.RELIABILITY_CAPTION,
             )
         )
     blocks = {
-        chart.name: context_module.ChartBlock(
+        chart.name: ChartBlock(
             chart.name, _uri(chart.svg), chart.width_mm, chart.height_mm, alt, caption
         )
         for chart, alt, caption in made

@@ -3,6 +3,7 @@ from one brief to the next (a small chart, a table and their words)."""
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from riskreport.assessment import Assessment
@@ -17,10 +18,23 @@ def shown(a: Assessment) -> bool:
     return len(a.round_history) >= 2
 
 
-def rows(a: Assessment) -> tuple[tuple[str, str, str], ...]:
+@dataclass(frozen=True)
+class RoundRow:
+    """One brief's statement about the policy-horizon period, as printed."""
+
+    brief: str
+    ahead: str
+    inside: str
+
+
+def rows(a: Assessment) -> tuple[RoundRow, ...]:
     """Table rows: brief (as_of), periods ahead then, P(inside) as printed."""
     return tuple(
-        (p.as_of + (" (this brief)" if p.current else ""), str(p.h), fmt.single_percent(p.p_inside))
+        RoundRow(
+            p.as_of + (" (this brief)" if p.current else ""),
+            str(p.h),
+            fmt.single_percent(p.p_inside),
+        )
         for p in a.round_history
     )
 

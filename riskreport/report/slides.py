@@ -19,7 +19,8 @@ from matplotlib.figure import Figure
 from PIL.PngImagePlugin import PngInfo
 
 from riskreport.assessment import Assessment
-from riskreport.report import charts, density_chart, render
+from riskreport.report import charts, density_chart
+from riskreport.report.sections import outlook
 
 SLIDE_INCHES = (13.33, 7.5)
 SLIDE_DPI = 200
@@ -57,11 +58,11 @@ def _png(fig: Figure, *, dpi: float, recorded_dpi: int, title: str, alt: str) ->
 def _charts(a: Assessment) -> list[tuple[str, Callable[[float, float], Figure], str]]:
     """(name, draw at a size in mm, alt text) of the slide charts."""
     made: list[tuple[str, Callable[[float, float], Figure], str]] = [
-        ("outlook", lambda w, h: charts.outlook_figure(a, w, h), render._alt_outlook(a)),
+        ("outlook", lambda w, h: charts.outlook_figure(a, w, h), outlook.outlook_alt(a)),
         (
             "band-probabilities",
             lambda w, h: charts.band_probabilities_figure(a, w, h),
-            render._alt_probabilities(a),
+            outlook.probabilities_alt(a),
         ),
     ]
     for c in a.density:

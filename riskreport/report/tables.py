@@ -6,7 +6,7 @@ import math
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.context import summary_horizons
+from riskreport.report.sections.common import summary_horizons
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:

@@ -24,8 +24,8 @@ from openpyxl.worksheet.worksheet import Worksheet
 from openpyxl.writer.excel import ExcelWriter
 
 from riskreport.assessment import Assessment, HorizonResult
-from riskreport.report import context
 from riskreport.report.render import created_date
+from riskreport.report.sections import summary
 
 Cell = str | int | float | None
 
@@ -306,7 +306,7 @@ def notes(a: Assessment) -> tuple[tuple[str, str], ...]:
             else f"Compared with the brief of {a.change['previous_as_of']}.",
         ),
     ]
-    lines += [("caution", c) for c in context.CAUTIONS]
+    lines += [("caution", c) for c in summary.CAUTIONS]
     lines += [("warning", w) for w in a.warnings]
     lines += [(f"input: {i.role}", f"{i.path} sha256 {i.sha256}") for i in a.inputs]
     lines += [(f"software: {k}", v) for k, v in a.software.items()]

@@ -1,0 +1,204 @@
+"""Pieces every section of the brief shares: the horizons shown, the band and verbal-scale wording."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from riskreport import verbal
+from riskreport.assessment import Assessment, HorizonResult
+from riskreport.report import formatting as fmt
+
+SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
+
+
+def summary_horizons(a: Assessment) -> tuple[int, ...]:
+    """The horizons the brief's compact tables show: the standard ones that are reported,
+    and the policy horizon."""
+    last = a.horizons[-1].h
+    return tuple(sorted({h for h in SUMMARY_HORIZONS if h <= last} | {a.policy_horizon}))
+
+
+@dataclass(frozen=True)
+class KeyValue:
+    """A labelled value in a table of facts."""
+
+    label: str
+    value: str
+
+
+@dataclass(frozen=True)
+class ChartBlock:
+    """A chart as the brief embeds it: the SVG as a data URI, its size and alt text."""
+
+    name: str
+    uri: str
+    width_mm: float
+    height_mm: float
+    alt: str
+    caption: str
+
+
+@dataclass(frozen=True)
+class ProbabilityRow:
+    """One printed row of below / inside / above (the three add to 100%)."""
+
+    period: str
+    h: str
+    band: str
+    forecast: str
+    centre: str
+    below: str
+    inside: str
+    above: str
+    interval: str
+    is_policy: bool
+
+
+def probability_row(r: HorizonResult, policy_h: int) -> ProbabilityRow:
+    below, inside, above = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
+    lo, hi = r.p_inside_interval
+    return ProbabilityRow(
+        period=r.period,
+        h=str(r.h),
+        band=band_label(r.band),
+        forecast=fmt.number(r.point_forecast),
+        centre=fmt.number(r.centre),
+        below=below,
+        inside=inside,
+        above=above,
+        interval=f"{fmt.single_percent(lo)} to {fmt.single_percent(hi)}",
+        is_policy=r.h == policy_h,
+    )
+
+
+def band_label(band: tuple[float, float]) -> str:
+    """The band as printed, e.g. "2.0-4.0%" with an en dash."""
+    return f"{fmt.number(band[0])}\u2013{fmt.number(band[1])}%"
+
+
+def scale_of(a: Assessment) -> verbal.Scale:
+    """The verbal probability scale the configuration chose."""
+    return verbal.SCALES[a.uncertainty["verbal_scale"]]
+
+
+def shown_probability(whole: str) -> float:
+    """The probability a printed percentage stands for: "41%" -> 0.41, "<1%" -> 0.0."""
+    return float(whole.strip("<>%")) / 100
+
+
+def word(a: Assessment, whole: str) -> str:
+    """The scale's word for a printed percentage, on the same side of 50% as the number."""
+    return verbal.sided_term(shown_probability(whole), scale_of(a))
+
+
+def phrase(a: Assessment, whole: str) -> str:
+    """The scale's word with the printed number beside it, e.g. "likely (72%)".
+
+    The word is chosen for the printed (rounded) number, so word and number agree, and it is
+    never on the other side of 50% from the number (see :func:`riskreport.verbal.sided_term`).
+    """
+    return f"{word(a, whole)} ({whole})"
+
+
+def inside_split(a: Assessment, texts: tuple[str, str, str], band: str = "the band") -> str:
+    """ "less likely than not to be inside: 41% inside, 59% outside (35% above, 24% below)".
+
+    The word, then inside and outside with the side that is more likely named first among
+    above and below.
+    """
+    below, inside, above = texts
+    outside = fmt.percent_text(100 - round(100 * shown_probability(inside)))
+    if inside == ">99%":
+        outside = "<1%"
+    sides = (f"{above} above", f"{below} below")
+    if shown_probability(below) > shown_probability(above):
+        sides = sides[::-1]
+    return (
+        f"{word(a, inside)} to be inside {band}: {inside} inside, {outside} outside "
+        f"({sides[0]}, {sides[1]})"
+    )
+
+
+SIGNIFICANCE = 0.05  # conventional test level (common practice, no source)
+
+
+def span(values: list[int]) -> str:
+    """ "120" when all are equal, else "96 to 120"."""
+    return str(min(values)) if min(values) == max(values) else f"{min(values)} to {max(values)}"
+
+
+def join_h(a: Assessment, hs: list[int]) -> str:
+    """ "3, 6 and 12 months ahead"."""
+    words = [str(h) for h in hs]
+    listed = words[0] if len(words) == 1 else ", ".join(words[:-1]) + " and " + words[-1]
+    return f"{listed} {units(a) if hs != [1] else units(a)[:-1]} ahead"
+
+
+FAMILY_NAMES = {
+    "normal": "normal",
+    "two-piece-normal": "two-piece normal",
+    "skew-normal": "skew-normal",
+    "empirical": "kernel-smoothed empirical",
+    "given-quantiles": "given error quantiles",
+}
+
+
+def triple(r: HorizonResult) -> tuple[str, str, str]:
+    return fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
+
+
+BAND_TEXT = (
+    "Inside the band means lower edge \u2264 inflation \u2264 upper edge (both edges "
+    "count as inside). Below, inside and above add to 100% after rounding; shares under 1% or over 99% are printed as <1% and >99%, never as a certainty."
+)
+
+
+@dataclass(frozen=True)
+class TableLabels:
+    """Column headings of the probability tables."""
+
+    period: str
+    ahead: str
+    band: str
+    forecast: str
+    centre: str
+    below: str
+    inside: str
+    above: str
+    interval: str
+
+
+def table_labels(a: Assessment) -> TableLabels:
+    """The headings, in the brief's frequency."""
+    return TableLabels(
+        period="Period",
+        ahead="Months ahead" if a.frequency == "monthly" else "Quarters ahead",
+        band="Band",
+        forecast="Models' forecast",
+        centre="Centre",
+        below="Below",
+        inside="Inside",
+        above="Above",
+        interval="Inside: plausible range",
+    )
+
+
+def units(a: Assessment) -> str:
+    """ "months" or "quarters"."""
+    return "months" if a.frequency == "monthly" else "quarters"
+
+
+INTERVAL_TEXT = (
+    "Plausible range: where the probability of inside lies in 90% of resamples of the past errors."
+)
+SHORT_BAND_TEXT = (
+    "Both band edges count as inside; <1% and >99% are printed instead of 0% and 100%, "
+    "never a certainty."
+)
+
+
+def ahead_header(a: Assessment, h: int) -> str:
+    """A table heading for one horizon: "now", "3 months", "1 quarter"."""
+    if h == 0:
+        return "now"
+    return f"{h} {units(a) if h != 1 else units(a)[:-1]}"

@@ -1,0 +1,348 @@
+"""The method and data section: how the numbers were made, the calibration adjustments and
+the sensitivity panel, the inputs and the models."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from riskreport import periods
+from riskreport.adjustments import Adjustments
+from riskreport.assessment import Assessment
+from riskreport.report import formatting as fmt
+from riskreport.report.sections.common import FAMILY_NAMES, KeyValue, scale_of, span, units
+
+VINTAGE_TEXT = {
+    "first-release": "the first release of each outcome published by the as_of date "
+    "(past errors are measured as they looked when first known)",
+    "latest": "the latest release of each outcome published by the as_of date "
+    "(revisions known by then are included)",
+}
+TESTS_METHOD = (
+    "Two forecasts: Diebold-Mariano and encompassing tests with the Harvey-Leybourne-Newbold "
+    "correction, Student t; for a forecast n periods ahead the long-run variance uses n\u22121 lags "
+    "(rectangular window, Bartlett when that is negative). Several forecasts (Mariano-Preve) "
+    "and the calibration test of overlapping PITs (Knueppel): Hotelling F one step ahead; "
+    "further ahead, a weighted-periodogram variance with a fixed-smoothing F, because the "
+    "textbook chi-square versions reject a true null two to five times too often in samples "
+    "like ours (in simulations the calibration test still rejects too often far ahead in "
+    "short samples). Tests are skipped when there are fewer past rounds than twice the steps "
+    "ahead; a test with no variation to test has no p-value."
+)
+
+
+def basis_text(a: Assessment) -> str:
+    """How the target's basis is measured, for the method page."""
+    basis = a.target["basis"]
+    if basis == "period":
+        return "per period: the rate of each reported period against the band in force then"
+    rates = "12 monthly" if a.frequency == "monthly" else "4 quarterly"
+    known = (
+        f"periods before {a.as_of} enter as their known outcomes, the others as simulated "
+        "values from the joint paths"
+    )
+    if basis == "calendar-year-average":
+        return (
+            f"calendar-year average: the mean of the year's {rates} rates; {known}; a year is "
+            "shown only when every period of it is observed or reported; the band is the one in "
+            "force in the year's last period"
+        )
+    last = "December" if a.frequency == "monthly" else "the fourth quarter"
+    return f"year end: the rate of {last}, from the joint paths; {known}"
+
+
+def distribution_text(a: Assessment) -> str:
+    """How the error distribution was chosen and fitted, in words."""
+    u = a.uncertainty
+    used = sorted({FAMILY_NAMES[r.distribution] for r in a.horizons})
+    how = {
+        "normal": "maximum likelihood",
+        "two-piece normal": "maximum likelihood (mode profiled)",
+        "skew-normal": "maximum penalised likelihood",
+        "kernel-smoothed empirical": "Gaussian kernel, Silverman bandwidth",
+        "given error quantiles": "as given",
+    }
+    text = "; ".join(f"{name} ({how[name]})" for name in used) + ", per horizon"
+    selection = u.get("selection")
+    if selection:
+        runner = selection["runner_up"]
+        text += (
+            f". Chosen automatically by out-of-sample log score over past rounds "
+            f"(runner-up: {FAMILY_NAMES.get(runner, runner)})"
+        )
+    return text + "."
+
+
+OVERLAY_SOURCES = (
+    "Britton, Fisher and Whitley (1998), The Inflation Report projections: understanding "
+    "the fan chart, Bank of England Quarterly Bulletin 38(1); Wallis (2004), An assessment "
+    "of Bank of England and National Institute inflation forecast uncertainties, National "
+    "Institute Economic Review 189"
+)
+
+
+def judgement_text(a: Assessment) -> str:
+    """The method line on staff judgement, with the overlay's published sources."""
+    if not a.judgement:
+        return "None applied in this brief: the probabilities are model-based."
+    return (
+        "An overlay on the model-based distribution: a shift of the centre, a scale of the "
+        "spread and a skew (mean minus mode) of a two-piece normal, as in " + OVERLAY_SOURCES
+    )
+
+
+def verbal_text(a: Assessment) -> str:
+    """The verbal scale, its source, and our rule for the middle term."""
+    scale = scale_of(a)
+    return (
+        f"{scale.name} ({scale.source}); a term whose range straddles 50% is used only at "
+        "exactly 50%, otherwise \u201cmore likely than not\u201d (an additional IPCC AR5 term) "
+        "or \u201cless likely than not\u201d (our complement of it)"
+    )
+
+
+@dataclass(frozen=True)
+class InputRow:
+    """One input file as the method page lists it."""
+
+    role: str
+    path: str
+    sha256: str
+    rows: str
+    span: str
+
+
+def input_rows(a: Assessment) -> tuple[InputRow, ...]:
+    """The inputs table: role, file, fingerprint, rows and periods."""
+    return tuple(
+        InputRow(
+            i.role,
+            i.path,
+            i.sha256,
+            str(i.rows) if i.rows is not None else "\u2013",
+            f"{i.first_period} to {i.last_period}" if i.first_period else "\u2013",
+        )
+        for i in a.inputs
+    )
+
+
+def model_facts(a: Assessment) -> tuple[KeyValue, ...]:
+    """The models in the forecasts file and whether each is in the current round."""
+    return tuple(
+        KeyValue(
+            m.model,
+            f"origins {m.first_origin} to {m.last_origin}; "
+            + (
+                "in the current round"
+                if m.in_current_round
+                else "not in the current round: left out"
+            ),
+        )
+        for m in a.models
+    )
+
+
+def sample_facts(a: Assessment) -> tuple[KeyValue, ...]:
+    """How many past errors each horizon learned from."""
+    samples = [r.n_errors for r in a.horizons if r.n_errors is not None]
+    given = [r.h for r in a.horizons if r.n_errors is None]
+    return (
+        KeyValue(
+            "Past errors per horizon",
+            (span(samples) if samples else "none")
+            + (f"; given at {periods.ranges(given)} {units(a)} ahead" if given else ""),
+        ),
+    )
+
+
+def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
+    """How the numbers were made, one labelled line each."""
+    u = a.uncertainty
+    given = [r.h for r in a.horizons if r.n_errors is None]
+    return (
+        KeyValue("Combination", f"{a.combination['method']} weights, per horizon"),
+        KeyValue("Error distribution", distribution_text(a)),
+        KeyValue(
+            "Error window",
+            "all past origins"
+            if u["window"] == 0
+            else f"last {u['window']} origins with a known outcome, per horizon",
+        ),
+        KeyValue(
+            "Centre",
+            "estimated: past average errors (bias) carry over into the centre"
+            if u["centre"] == "estimated"
+            else "the point forecast is the mode of the distribution",
+        ),
+        KeyValue("Target basis", basis_text(a)),
+        KeyValue(
+            "Spread by horizon",
+            (
+                "not allowed to shrink as the horizon lengthens"
+                + (" (learned horizons only)" if given else "")
+            )
+            if u["monotone"]
+            else "as fitted",
+        ),
+        *(
+            (
+                KeyValue(
+                    "Given error distribution",
+                    f"{periods.ranges(given)} {units(a)} ahead: the error_quantiles file, used exactly "
+                    "as given (not widened, no past errors, no sampling interval)",
+                ),
+            )
+            if given
+            else ()
+        ),
+        KeyValue(
+            "Plausible range of inside",
+            f"{int(100 * u['interval_level'])}% of {u['bootstrap_replicates']} moving-block "
+            "bootstrap resamples of the past errors",
+        ),
+        KeyValue(
+            "Path probabilities",
+            f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}",
+        ),
+        KeyValue("Accuracy tests", TESTS_METHOD),
+        KeyValue("Verbal scale", verbal_text(a)),
+        KeyValue("Staff judgement", judgement_text(a)),
+        *(
+            (KeyValue("Outcomes scored against", VINTAGE_TEXT[a.score_against]),)
+            if a.score_against
+            else ()
+        ),
+    )
+
+
+# The calibration adjustments and the sensitivity panel.
+
+
+@dataclass(frozen=True)
+class SensitivityLine:
+    """One printed row of the sensitivity panel."""
+
+    method: str
+    p_inside: str
+    log_score: str
+    coverage_90: str
+    chosen: str
+
+
+NAMES = {
+    "normal": "normal",
+    "two-piece-normal": "two-piece normal",
+    "skew-normal": "skew-normal",
+    "empirical": "kernel-smoothed empirical",
+}
+
+
+def _method_name(label: str) -> str:
+    if label == "auto":
+        return "as chosen at each past round"
+    if label == "auto, recalibrated":
+        return "as chosen at each past round, then recalibrated"
+    family, _, spread = label.partition(", ")
+    name = NAMES.get(family, family)
+    if not spread:
+        return f"{name}, constant spread"
+    lam = spread.split(" ")[1]
+    return f"{name}, spread following recent errors (smoothing {lam})"
+
+
+def _score(value: float) -> str:
+    return "\u2013" if not math.isfinite(value) else f"{value:.2f}"
+
+
+def _share(value: float) -> str:
+    return "\u2013" if not math.isfinite(value) else fmt.single_percent(value)
+
+
+def sensitivity_lines(a: Assessment) -> tuple[SensitivityLine, ...]:
+    """The panel's rows: every replayed method, then the sequence the brief reports."""
+    adj = a.adjustments
+    if adj is None:
+        return ()
+    return tuple(
+        SensitivityLine(
+            _method_name(r.method),
+            fmt.single_percent(r.p_inside),
+            _score(r.log_score),
+            _share(r.coverage_90),
+            "used" if r.chosen else "",
+        )
+        for r in adj.sensitivity
+    )
+
+
+def sensitivity_caption(a: Assessment) -> str:
+    """The panel's caption."""
+    return (
+        f"Chance of being inside the band in {a.policy.period} ({a.policy_horizon} {units(a)} ahead) under "
+        "each method, before any judgement, with that method's past record at this horizon "
+        "(mean log score: higher is better; how often its 90% range held the outcome)"
+    )
+
+
+def _spread_sentence(adj: Adjustments) -> str:
+    if adj.spread == "constant":
+        if adj.spread_option == "constant":
+            return "The spread of errors is taken as constant over the error window."
+        return (
+            "A spread that follows recent errors was tried, but the constant spread has "
+            "the better record, so it is used."
+        )
+    lam = adj.spread.split(" ")[1]
+    return (
+        "The spread follows the size of recent errors: past errors are divided by the "
+        f"error volatility of their time (smoothing {lam}, chosen by the replay) and the "
+        f"shape learned from them is rescaled by today's volatility ({adj.volatility:.2f} pp)."
+    )
+
+
+def adjustment_text(a: Assessment) -> tuple[str, ...]:
+    """Sentences: the adjustments made and what the replay says of the result."""
+    adj = a.adjustments
+    if adj is None:
+        return ()
+    v = adj.verdict
+    lines = [_spread_sentence(adj)]
+    if a.uncertainty.get("selection"):
+        lines.append(
+            f"The method ({_method_name(adj.method)}) was chosen by log score; in the replay "
+            "each past round used the method that was best on the scores known at that "
+            "round, so the record below grades the choice as it would have been made."
+        )
+    if adj.recalibrate:
+        row = next((r for r in adj.recalibration if r.h == a.policy_horizon), None)
+        if (
+            row is not None
+            and abs(row.p_inside - row.p_inside_raw) + abs(row.p_below - row.p_below_raw) > 0
+        ):
+            how = (
+                "a beta map of past PITs"
+                if row.method == "beta"
+                else "the levels of the predicted quantiles moved after each past hit or miss"
+            )
+            lines.append(
+                f"The probabilities are recalibrated on the track record ({how}; in the "
+                "replay, learned only from rounds already scored): at the policy horizon, "
+                f"inside the band {fmt.single_percent(row.p_inside_raw)} before and "
+                f"{fmt.single_percent(row.p_inside)} after."
+            )
+        else:
+            lines.append("Recalibration was asked for but the track record is too short.")
+    if not math.isfinite(v.gap_90):
+        return (*lines, "There are too few past rounds to judge the adjustments.")
+    lines.append(
+        f"Over the replayed horizons, the 90% ranges missed their nominal share by "
+        f"{100 * v.gap_90:.0f} points on average and the 50% ranges by {100 * v.gap_50:.0f} "
+        f"(a constant normal law: {100 * v.baseline_gap_90:.0f} and "
+        f"{100 * v.baseline_gap_50:.0f})."
+    )
+    if not v.near:
+        lines.append(
+            "Even so, coverage is not near nominal: the stated probabilities should be read "
+            "as less certain than they look."
+        )
+    return tuple(lines)

@@ -1,0 +1,138 @@
+"""The outlook section: the fan and probability charts, the path probabilities and the calendar years."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from riskreport.assessment import Assessment
+from riskreport.report import formatting as fmt
+from riskreport.report.sections.common import (
+    band_label,
+    phrase,
+    probability_row,
+    summary_horizons,
+    units,
+)
+
+
+@dataclass(frozen=True)
+class AnnualRow:
+    """Probabilities for one calendar year on one basis, printed."""
+
+    year: str
+    basis: str
+    band: str
+    below: str
+    inside: str
+    above: str
+    observed: str
+
+
+def annual_rows(
+    a: Assessment, results: list[dict[str, Any]] | None = None
+) -> tuple[AnnualRow, ...]:
+    rows = []
+    unit = "months" if a.frequency == "monthly" else "quarters"
+    for r in a.annual if results is None else results:
+        texts = fmt.outcome_texts(r["p_below"], r["p_inside"], r["p_above"])
+        rows.append(
+            AnnualRow(
+                year=str(r["year"]),
+                basis="calendar-year average"
+                if r["basis"] == "calendar-year-average"
+                else "year end",
+                band=band_label(tuple(r["band"])),
+                below=texts[0],
+                inside=texts[1],
+                above=texts[2],
+                observed=f"{r['observed_periods']} {unit} observed"
+                if r["observed_periods"]
+                else "none observed",
+            )
+        )
+    return tuple(rows)
+
+
+def annual_text(a: Assessment) -> str:
+    if not a.annual:
+        return "No calendar year is fully covered by observed and reported periods."
+    return (
+        "The calendar-year average (the mean of the year's period rates) and the year-end "
+        f"value, from the same simulated paths; periods before {a.as_of} enter as their known "
+        "outcomes. Only years fully observed or reported are shown."
+    )
+
+
+@dataclass(frozen=True)
+class PathRow:
+    """Joint path probabilities from the first reported period up to one period."""
+
+    period: str
+    throughout: str
+    once: str
+
+
+def path_rows(a: Assessment) -> tuple[PathRow, ...]:
+    """The path table's rows at the horizons the compact tables show."""
+    shown = summary_horizons(a)
+    return tuple(
+        PathRow(
+            p.period,
+            fmt.single_percent(p.p_inside_throughout),
+            fmt.single_percent(p.p_back_inside_by),
+        )
+        for p in a.path
+        if p.h in shown
+    )
+
+
+def outlook_text(a: Assessment) -> tuple[str, ...]:
+    """The paragraphs above the outlook charts."""
+    first = probability_row(a.horizons[0], a.policy_horizon)
+    return (
+        f"The shaded areas hold the outcome with 50%, 80% and 90% probability; the dotted "
+        f"line is the centre path (the most likely value), which ends at "
+        f"{fmt.number(a.horizons[-1].centre)}% in {a.horizons[-1].period}.",
+        f"Near term, inflation is {phrase(a, first.inside)} "
+        f"to be inside the band in {a.horizons[0].period}; uncertainty widens with the horizon.",
+    )
+
+
+OUTLOOK_CAPTION = (
+    "Outlook: outcomes, the target band (hatched), the centre path (dotted) and the "
+    "50/80/90% probability bands, after staff judgement. Each period's bands are estimated "
+    "from that period's own past errors and are not smoothed across periods, so their edges "
+    "and the centre path are uneven: a notch of a tenth or two of a point between "
+    "neighbouring periods is sampling noise, not a forecast."
+)
+PROBABILITIES_CAPTION = (
+    "Probability of inflation below, inside and above the band by how far ahead; the "
+    "shading is the plausible range of the probability of inside (90% of resamples of the "
+    "past errors)."
+)
+
+
+def outlook_alt(a: Assessment) -> str:
+    """Alt text of the outlook (fan) chart."""
+    first, last, policy = a.horizons[0], a.horizons[-1], a.policy
+    return (
+        f"Line chart of inflation outcomes up to {a.history[-1].period if a.history else a.as_of} "
+        f"and the forecast from {first.period} to {last.period}, over the target band "
+        f"{band_label(policy.band)}. The centre path runs from "
+        f"{fmt.number(first.centre)}% to {fmt.number(last.centre)}%; at the policy horizon "
+        f"({policy.period}) the 90% band spans {fmt.number(policy.quantiles['0.05'])}% to "
+        f"{fmt.number(policy.quantiles['0.95'])}%. The numbers are in the appendix table."
+    )
+
+
+def probabilities_alt(a: Assessment) -> str:
+    """Alt text of the below / inside / above chart."""
+    first, policy = a.horizons[0], a.policy
+    return (
+        f"Line chart of the probability of inflation below, inside and above the band by "
+        f"{units(a)[:-1]} ahead. Inside falls from {fmt.single_percent(first.p_inside)} now to "
+        f"{fmt.single_percent(policy.p_inside)} at the policy horizon ({policy.h} {units(a)} ahead); above "
+        f"is {fmt.single_percent(policy.p_above)} and below {fmt.single_percent(policy.p_below)} "
+        "there. The numbers are in the appendix table."
+    )

@@ -1,0 +1,321 @@
+"""Page 1 of the brief: the headline, the key messages, the change since the last brief and the track record in brief."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from typing import Any
+
+from riskreport import verbal
+from riskreport.assessment import Assessment
+from riskreport.report import formatting as fmt
+from riskreport.report.sections.calibration import COVERAGE_TOO_NARROW, COVERAGE_TOO_WIDE, coverage
+from riskreport.report.sections.common import (
+    ProbabilityRow,
+    band_label,
+    inside_split,
+    phrase,
+    probability_row,
+    scale_of,
+)
+from riskreport.report.sections.outlook import AnnualRow, annual_rows
+
+CAUTIONS: tuple[str, ...] = (
+    "These probabilities are model estimates built from the errors of past forecasts; they "
+    "are not a measure of certainty.",
+    "Future errors may differ from past ones: regime changes and unprecedented shocks are "
+    "not in the track record.",
+    "The track record is a small sample, so the tail probabilities (far below or far above "
+    "the band) are especially uncertain.",
+    "This brief supports, and does not replace, the judgement of the policy committee and "
+    "its staff.",
+)
+
+
+# A change in P(inside) smaller than this is reported as essentially unchanged: it is within
+# the rounding of the printed percentages and the simulation noise of the path probabilities
+# (common practice, no source).
+CHANGE_NOISE = 0.02
+
+# A past statement whose outcome share is within this of what was said held "about as often
+# as stated" (common practice, no source).
+RELIABILITY_TOLERANCE = 0.05
+
+
+def ahead(a: Assessment, h: int) -> str:
+    """ "18 months ahead", "1 quarter ahead"."""
+    unit = "month" if a.frequency == "monthly" else "quarter"
+    return f"{h} {unit}{'s' if h != 1 else ''} ahead"
+
+
+def headline(a: Assessment) -> tuple[str, ProbabilityRow]:
+    """The first sentence: how likely inside at the policy horizon, on the target basis."""
+    r = a.policy
+    row = probability_row(r, a.policy_horizon)
+    head = a.headline
+    if head.basis != "period":
+        return _basis_headline(a), row
+    text = (
+        f"At the policy horizon ({r.period}, {ahead(a, r.h)}) inflation is "
+        f"{inside_split(a, (row.below, row.inside, row.above), f'the {band_label(r.band)} target band')}."
+    )
+    return text, row
+
+
+def _basis_headline(a: Assessment) -> str:
+    """The headline when the target is defined on a calendar-year basis."""
+    head = a.headline
+    texts = fmt.outcome_texts(head.p_below, head.p_inside, head.p_above)
+    policy_year = a.policy.period[:4]
+    which = (
+        f"the calendar year of the policy horizon ({a.policy.period})"
+        if str(head.year) == policy_year
+        else "the last calendar year in view"
+    )
+    if head.basis == "calendar-year-average":
+        subject = f"Averaged over {head.year}, {which}, inflation"
+    else:
+        subject = f"At the end of {head.year} ({head.period}), {which}, inflation"
+    return f"{subject} is {inside_split(a, texts, f'the {band_label(head.band)} target band')}."
+
+
+def _judgement_message(a: Assessment) -> str:
+    """Where the staff judgement moves P(inside) most, and whether it reaches the policy horizon."""
+    spans = "; ".join(f"{j.start} to {j.end}" for j in a.judgement)
+    pairs = list(zip(a.model_based_horizons, a.horizons, strict=True))
+    base, final = max(pairs, key=lambda p: abs(p[1].p_inside - p[0].p_inside))
+    text = (
+        f"Staff judgement ({spans}) moves the probability of being inside most in {final.period}: "
+        f"from {fmt.single_percent(base.p_inside)} (model-based) to {fmt.single_percent(final.p_inside)}."
+    )
+    policy_base = a.horizon_result(a.policy_horizon, model_based=True)
+    if any(a.policy.period in j.periods for j in a.judgement):
+        text += (
+            f" At the policy horizon: {fmt.single_percent(policy_base.p_inside)} model-based, "
+            f"{fmt.single_percent(a.policy.p_inside)} after judgement."
+        )
+    else:
+        text += " It does not cover the policy horizon."
+    return text
+
+
+def centre_label(a: Assessment) -> str:
+    """What the one centre number printed on page 1 is."""
+    policy = a.policy
+    moved = policy.centre - policy.point_forecast
+    judged = any(policy.period in j.periods for j in a.judgement)
+    if a.uncertainty["centre"] == "estimated":
+        why = "their average past miss" + (" and staff judgement" if judged else "")
+        size = (
+            "under 0.05 percentage points, pp, here"
+            if fmt.number(abs(moved)) == "0.0"
+            else f"{fmt.number(moved, signed=True)} percentage points, pp"
+        )
+        return f"the models' forecast corrected by {why} ({size})"
+    if judged and fmt.number(moved) not in ("0.0", "\u22120.0"):
+        return (
+            f"the models' forecast moved by staff judgement "
+            f"({fmt.number(moved, signed=True)} percentage points, pp)"
+        )
+    return "the models' forecast, taken as the most likely value"
+
+
+def _inside_now(a: Assessment) -> tuple[str, bool] | None:
+    """The last observed outcome in words and whether it was inside the band, if any."""
+    if not a.history:
+        return None
+    last = a.history[-1]
+    lo, hi = a.horizons[0].band
+    where = "inside" if lo <= last.value <= hi else "above" if last.value > hi else "below"
+    return (
+        f"Inflation was {where} the band in {last.period} ({fmt.number(last.value)}%)",
+        where == "inside",
+    )
+
+
+def _path_message(a: Assessment) -> str:
+    """The path statement that carries information: staying inside when inside now, getting
+    back inside when outside now."""
+    first, policy = a.horizons[0], a.policy
+    path = next(p for p in a.path if p.h == a.policy_horizon)
+    unit = "month" if a.frequency == "monthly" else "quarter"
+    now = _inside_now(a)
+    stay = (
+        f"staying inside in every {unit} from {first.period} to {policy.period} is "
+        f"{phrase(a, fmt.single_percent(path.p_inside_throughout))}"
+    )
+    back = (
+        f"getting back inside at least once by {policy.period} is "
+        f"{phrase(a, fmt.single_percent(path.p_back_inside_by))}"
+    )
+    if now is None:
+        return f"Inflation {stay}."
+    said, inside = now
+    return f"{said}; {stay if inside else back}."
+
+
+def messages(a: Assessment) -> tuple[str, ...]:
+    """The key messages under the headline."""
+    policy = a.policy
+    head = a.headline
+    tilt = "above" if head.p_above > head.p_below else "below"
+    subject = "at the policy horizon" if head.basis == "period" else f"to the {head.label}"
+    lines = [
+        f"Risks {subject} lean {tilt} the band: above "
+        f"{fmt.single_percent(head.p_above)}, below {fmt.single_percent(head.p_below)}. "
+        f"The centre (most likely value) is {fmt.number(policy.centre)}% in {policy.period}: {centre_label(a)}.",
+        _path_message(a),
+    ]
+    if a.judgement:
+        lines.append(_judgement_message(a))
+    else:
+        lines.append("No staff judgement was applied: the probabilities are model-based.")
+    return tuple(lines)
+
+
+def nearest_bin(a: Assessment) -> dict[str, Any] | None:
+    """The reliability bin whose stated probability is nearest today's headline P(inside)."""
+    rows = a.calibration["brier"]["reliability"]
+    if not rows:
+        return None
+    today = a.headline.p_inside
+    return min(rows, key=lambda r: abs(r["forecast_mean"] - today))
+
+
+def _held(said: float, happened: float) -> str:
+    gap = happened - said
+    if abs(gap) <= RELIABILITY_TOLERANCE:
+        return "about as often as stated"
+    ratio = happened / said if said > 0 else math.inf
+    if ratio >= 1.75:
+        return f"about {fmt.number(ratio, 1)} times as often as stated"
+    return "more often than stated" if gap > 0 else "less often than stated"
+
+
+def _calibration_sentence(a: Assessment) -> str:
+    """How far to trust today's number, in the track record's own terms."""
+    cover = coverage(a, a.policy_horizon, 0.9)
+    r = nearest_bin(a)
+    if cover is None or r is None:
+        return "There are too few past rounds to check how past probability statements held."
+    said, happened = r["forecast_mean"], r["observed_frequency"]
+    held = cover["observed"]
+    ranges = (
+        "too narrow"
+        if held < COVERAGE_TOO_NARROW
+        else "too wide"
+        if held > COVERAGE_TOO_WIDE
+        else "about right"
+    )
+    return (
+        f"In a replay over {cover['n']} past rounds, statements like today's "
+        f"({fmt.single_percent(said)} inside) came true {fmt.single_percent(happened)} of the "
+        f"time, {_held(said, happened)}. {ahead(a, a.policy_horizon).capitalize()}, the 90% "
+        f"ranges held the outcome {fmt.single_percent(held)} of the time: {ranges}."
+    )
+
+
+def track_text(a: Assessment) -> str:
+    """Page 1's track record: the size of past misses and how past statements held."""
+    row = next(
+        (x for x in a.accuracy if x.model == "combination" and x.h == a.policy_horizon), None
+    )
+    if row is None:
+        return "There is no track record of the combined forecast at the policy horizon."
+    direction = "above" if row.mean_error > 0 else "below"  # errors are actual - forecast
+    return (
+        f"Over the last {row.n} rounds with a known outcome, the combined forecast "
+        f"{ahead(a, a.policy_horizon)} missed by {fmt.number(row.rmse)} pp on average "
+        f"(root mean square), with outcomes {fmt.number(abs(row.mean_error))} pp {direction} it "
+        f"on average. {_calibration_sentence(a)}"
+    )
+
+
+def change_text(a: Assessment) -> str:
+    """The change since the previous brief, at the policy horizon's target period, in words."""
+    if not a.change or not a.change["horizons"]:
+        return "No earlier brief was available for comparison, so the change since the last meeting is not shown."
+    rows = {r["period"]: r for r in a.change["horizons"]}
+    r = rows.get(a.policy.period) or a.change["horizons"][-1]
+    total = r["p_inside_now"] - r["p_inside_before"]
+    since = (
+        f"Since the brief of {a.change['previous_as_of']}, the probability of being inside the "
+        f"band in {r['period']}"
+    )
+    before, now = fmt.single_percent(r["p_inside_before"]), fmt.single_percent(r["p_inside_now"])
+    if abs(total) < CHANGE_NOISE:
+        return (
+            f"{since} is essentially unchanged: {now} against {before} (changes under "
+            f"{int(100 * CHANGE_NOISE)} percentage points are within rounding and simulation "
+            "noise, so they are not split into causes)."
+        )
+    parts = {
+        "the centre moving": r["due_to_centre"],
+        "the spread and shape": r["due_to_spread"],
+        "the band": r["due_to_band"],
+    }
+    main = max(parts, key=lambda k: abs(parts[k]))
+    direction = "rose" if total > 0 else "fell"
+    return (
+        f"{since} {direction} from {before} to {now} ({fmt.points(total)}): centre "
+        f"{fmt.points(r['due_to_centre'])}, spread and shape {fmt.points(r['due_to_spread'])}, "
+        f"band {fmt.points(r['due_to_band'])}. Most of it came from {main}."
+    )
+
+
+def scale_key(a: Assessment) -> str:
+    """One line: the verbal scale's words and their ranges (its source is on the method page)."""
+    terms = scale_of(a).terms
+    parts = [f"{t.word} {round(100 * t.low)}\u2013{round(100 * t.high)}%" for t in terms]
+    return (
+        "Words: "
+        + ", ".join(parts)
+        + f"; away from 50% a middle word gives way to \u201c{verbal.MORE_LIKELY}\u201d or "
+        f"\u201c{verbal.LESS_LIKELY}\u201d (source: method page)."
+    )
+
+
+BASIS_TITLES = {
+    "period": "Below, inside and above the band",
+    "calendar-year-average": "The calendar-year average: below, inside and above the band",
+    "year-end": "The year-end rate: below, inside and above the band",
+}
+
+
+BASIS_CAPTIONS = {
+    "period": "",
+    "calendar-year-average": "Probability that inflation averaged over the calendar year "
+    "(the mean of its period rates) is below, inside or above the target band",
+    "year-end": "Probability that inflation at the end of the calendar year is below, inside "
+    "or above the target band",
+}
+
+
+def basis_rows(a: Assessment) -> tuple[AnnualRow, ...]:
+    """The summary table on a calendar-year basis: one row per year in view."""
+    return annual_rows(a, [dataclasses.asdict(r) for r in a.basis_results])
+
+
+def change_caption(a: Assessment) -> str:
+    """Caption of the change chart."""
+    assert a.change is not None
+    return (
+        f"Change in the probability of being inside since {a.change['previous_as_of']}, "
+        "by target period, split into centre, spread and shape, and band (a part that is zero "
+        "in every period shown is left out); the diamond is the total."
+    )
+
+
+def change_alt(a: Assessment) -> str:
+    """Alt text of the change chart."""
+    assert a.change is not None
+    parts = [
+        f"{r['period']}: {fmt.points(r['p_inside_now'] - r['p_inside_before'])} "
+        f"(centre {fmt.points(r['due_to_centre'])}, spread {fmt.points(r['due_to_spread'])}, band {fmt.points(r['due_to_band'])})"
+        for r in a.change["horizons"]
+    ]
+    return (
+        f"Bar chart of the change in the probability of being inside since {a.change['previous_as_of']}: "
+        + "; ".join(parts)
+        + "."
+    )

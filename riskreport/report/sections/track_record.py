@@ -1,0 +1,204 @@
+"""The track record section: accuracy of each forecaster, the comparative tests and the combination weights."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from riskreport.assessment import Assessment
+from riskreport.report import formatting as fmt
+from riskreport.report.sections.common import (
+    SIGNIFICANCE,
+    ahead_header,
+    join_h,
+    span,
+    summary_horizons,
+    units,
+)
+
+
+@dataclass(frozen=True)
+class AccuracyLine:
+    """Accuracy of one forecaster at the horizons shown."""
+
+    model: str
+    cells: tuple[str, ...]
+    is_combination: bool
+
+
+def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
+    shown = summary_horizons(a)
+    by_key = {(r.model, r.h): r for r in a.accuracy}
+    names = list(dict.fromkeys(r.model for r in a.accuracy))
+    lines = []
+    for name in names:
+        cells = tuple(
+            fmt.number(by_key[(name, h)].rmse, 2) if (name, h) in by_key else "\u2013"
+            for h in shown
+        )
+        lines.append(AccuracyLine(name, cells, name == "combination"))
+    current = {m.model for m in a.models if m.in_current_round}
+    left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
+    best: dict[str, list[int]] = {}
+    for h in shown:
+        candidates = [by_key[(n, h)] for n in names if (n, h) in by_key and n in current]
+        if candidates:
+            winner = min(candidates, key=lambda r: r.rmse)
+            best.setdefault(winner.model, []).append(h)
+    leaders = "; ".join(f"{model} ({join_h(a, hs)})" for model, hs in best.items())
+    text = (
+        "Root mean square error in percentage points (pp) over the error window; each forecaster is scored on the "
+        "rounds in that window where it gave a forecast. Lowest among the models in the "
+        f"current round: {leaders}. "
+        "Significance is discussed below."
+    )
+    if left_out:
+        text += (
+            f" Not in the current round, and scored on a shorter, older sample, so not "
+            f"comparable: {', '.join(left_out)}."
+        )
+    return tuple(ahead_header(a, h) for h in shown), tuple(lines), text
+
+
+def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
+    """Plain sentences on the comparative tests at the horizons shown."""
+    dm = [t for t in a.tests if t.name == "diebold-mariano" and t.h in shown]
+    better: dict[str, list[int]] = {}
+    worse: dict[str, list[int]] = {}
+    for t in dm:
+        if t.models[1] != "combination" or not t.pvalue < SIGNIFICANCE:
+            continue
+        # statistic > 0: the first forecaster has the larger loss.
+        (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.h)
+    level = f"{int(100 * SIGNIFICANCE)}%"
+    lines = []
+    if not better and not worse:
+        lines.append(
+            f"No model's accuracy differs significantly from the combination's at the {level} "
+            "level (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
+        )
+    else:
+        parts = [f"{m} ({join_h(a, hs)})" for m, hs in worse.items()]
+        if parts:
+            lines.append(
+                f"The combination is significantly more accurate than {'; '.join(parts)} at "
+                f"the {level} level (Diebold-Mariano, HLN correction)."
+            )
+        parts = [f"{m} ({join_h(a, hs)})" for m, hs in better.items()]
+        if parts:
+            lines.append(f"Significantly more accurate than the combination: {'; '.join(parts)}.")
+    naive = [t for t in dm if t.models == ("combination", "no-change")]
+    beats = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
+    loses = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
+    text = "Against the no-change forecast, the combination is significantly better at "
+    text += join_h(a, beats) if beats else "none of these horizons"
+    text += f" and significantly worse at {join_h(a, loses)}." if loses else "."
+    lines.append(text)
+    joint = [t for t in a.tests if t.name == "mariano-preve" and t.h in shown]
+    rejected = [t.h for t in joint if t.pvalue < SIGNIFICANCE]
+    if joint:
+        lines.append(
+            "Taking all current models together (Mariano-Preve test), equal accuracy is "
+            + (
+                f"rejected at {join_h(a, rejected)}"
+                if rejected
+                else "not rejected at any of these horizons"
+            )
+            + "."
+        )
+    adds: dict[str, list[int]] = {}
+    for t in a.tests:
+        if t.name == "encompassing" and t.h in shown and t.pvalue < SIGNIFICANCE:
+            adds.setdefault(t.models[1], []).append(t.h)
+    if adds:
+        lines.append(
+            "Models that would still add information to the combination (encompassing test, "
+            f"HLN 1998): {'; '.join(f'{m} ({join_h(a, hs)})' for m, hs in adds.items())}."
+        )
+    else:
+        lines.append("The combination encompasses every model at these horizons (HLN 1998 test).")
+    fallback = [t for t in a.tests if any("Bartlett" in note for note in t.notes)]
+    if fallback:
+        lines.append(
+            f"In {len(fallback)} of {len(a.tests)} tests the usual (rectangular) long-run "
+            "variance came out negative, as it can for overlapping multi-step errors; those "
+            "tests use the Bartlett kernel instead (Harvey, Leybourne and Whitehouse 2017)."
+        )
+    undefined = [t for t in a.tests if not math.isfinite(t.pvalue)]
+    if undefined:
+        lines.append(
+            f"{len(undefined)} of {len(a.tests)} tests could not be computed and have no "
+            "p-value: the forecasts compared had the same loss at every past round (for "
+            "example, identical forecasts), so there is no variation to test."
+        )
+    n = sorted({t.nobs for t in dm})
+    if n:
+        lines.append(
+            f"Tests use {span(n)} past rounds per horizon; overlapping multi-step "
+            "errors make them less reliable at long horizons."
+        )
+    return tuple(lines)
+
+
+def weights(
+    a: Assessment, shown: tuple[int, ...]
+) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
+    table: dict[str, dict[int, float]] = {}
+    for w in a.combination["weights"]:
+        table.setdefault(w["model"], {})[w["h"]] = w["weight"]
+    lines = tuple(
+        AccuracyLine(
+            model, tuple(fmt.number(by_h[h], 2) if h in by_h else "\u2013" for h in shown), False
+        )
+        for model, by_h in table.items()
+    )
+    method = a.combination["method"]
+    rows = [r["n"] for r in a.combination.get("rows", []) if r["h"] in shown]
+    text = f"Method: {method}."
+    if method not in ("equal", "given", "median", "trimmed") and rows:
+        text += (
+            f" Weights are estimated per horizon from {span(rows)} past rounds "
+            "whose outcomes were known at the time."
+        )
+    if method in ("median", "trimmed"):
+        text += " The weights show which models set the combined value in the current round."
+    values = {round(w["weight"], 6) for w in a.combination["weights"]}
+    if len(values) == 1:
+        # Equal weights: one sentence, no table of identical numbers.
+        text = (
+            f"Method: {method}. Each of the {len(table)} models in the current round has the "
+            f"same weight ({fmt.number(values.pop(), 2)}) at every horizon."
+        )
+        lines = ()
+    return tuple(ahead_header(a, h) for h in shown), lines, text
+
+
+WEIGHTS_TABLE_CAPTION = "Weight of each model by how far ahead"
+
+
+def accuracy_caption(a: Assessment) -> str:
+    """Caption of the accuracy table."""
+    return f"Root mean square error of each forecaster, percentage points, by {units(a)} ahead"
+
+
+def weights_caption(a: Assessment) -> str:
+    """Caption of the weights chart."""
+    return (
+        f"Combination weights of the current round by {units(a)} ahead ({a.combination['method']})."
+    )
+
+
+def weights_alt(a: Assessment) -> str:
+    """Alt text of the weights chart."""
+    by_model: dict[str, list[float]] = {}
+    for w in a.combination["weights"]:
+        by_model.setdefault(w["model"], []).append(w["weight"])
+    parts = [
+        f"{m} from {fmt.number(min(ws), 2)} to {fmt.number(max(ws), 2)}"
+        for m, ws in by_model.items()
+    ]
+    return (
+        "Stacked bar chart of the combination weights by horizon: "
+        + "; ".join(parts)
+        + ". The weights table is beside it."
+    )
