@@ -239,32 +239,35 @@ def _build(
 
 
 def _check(config: Path, as_of: str | None) -> dict[str, Any]:
-    from riskreport import assess
+    # Validation only: nothing is fitted, so there are no probabilities ("headline": null).
+    from riskreport import config as config_module
+    from riskreport import screening
 
-    assessment = assess(config, as_of=as_of)
-    n = [r.n_errors for r in assessment.horizons if r.n_errors is not None] or [0]
-    current = [m.model for m in assessment.models if m.in_current_round]
-    left = [m.model for m in assessment.models if not m.in_current_round]
+    cfg = config_module.load(config)
+    if as_of is not None:
+        cfg = cfg.with_as_of(as_of)
+    found = screening.screen(cfg)
+    n = [k for k in found.n_errors if k > 0] or [0]
     lines = [
-        f"config {Path(config).name}: valid; as_of {assessment.as_of} ({assessment.frequency})",
-        f"band {assessment.target['lower']:g} to {assessment.target['upper']:g} "
-        f"({assessment.target['basis']}); horizons 0 to {assessment.horizons[-1].h}, "
-        f"policy horizon {assessment.policy_horizon}",
-        f"models in the current round: {', '.join(current)}"
-        + (f"; left out: {', '.join(left)}" if left else ""),
+        f"config {Path(config).name}: valid; as_of {found.as_of} ({found.frequency})",
+        f"band {found.lower:g} to {found.upper:g} ({found.basis}); horizons 0 to "
+        f"{found.horizons}, policy horizon {found.policy_horizon}",
+        f"models in the current round: {', '.join(found.current_models)}"
+        + (f"; left out: {', '.join(found.left_out_models)}" if found.left_out_models else ""),
         f"past errors per horizon: {min(n)} to {max(n)}",
         *(
             f"input {i.role}: {i.path} ({i.rows if i.rows is not None else '-'} rows)"
-            for i in assessment.inputs
+            for i in found.inputs
         ),
-        *(f"warning: {w}" for w in assessment.warnings),
+        *(f"warning: {w}" for w in found.warnings),
+        "nothing fitted: probabilities, fit and replay warnings come with build",
     ]
     return {
         "status": "ok",
-        "as_of": assessment.as_of,
+        "as_of": found.as_of,
         "summary": lines,
-        "headline": _headline(assessment),
-        "warnings": list(assessment.warnings),
+        "headline": None,
+        "warnings": list(found.warnings),
         "outputs": [],
     }
 

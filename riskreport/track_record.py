@@ -11,13 +11,17 @@ from __future__ import annotations
 
 import warnings
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport import benchmarks, periods, stats
+from riskreport import benchmarks, periods
 from riskreport.combination import Combination
 from riskreport.errors import SmallSampleWarning
 from riskreport.panel import Panel
+
+if TYPE_CHECKING:  # the tests (scipy.stats) load only when run: `check` needs none of them
+    from riskreport import stats
 
 MIN_TEST_ROWS = 12  # fewer common rows than this: no test (common practice, no source)
 
@@ -126,6 +130,8 @@ def _common(*columns: np.ndarray) -> np.ndarray:
 
 def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int]) -> bool:
     """Enough common rows for a test of ``steps``-step errors; records h when too few."""
+    from riskreport import stats
+
     rows = int(keep.sum())
     if rows < minimum:
         return False
@@ -136,6 +142,8 @@ def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int
 
 
 def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: int) -> list[TestRow]:
+    from riskreport import stats
+
     rows: list[TestRow] = []
     skipped: set[int] = set()
     for h in range(horizons + 1):
