@@ -146,6 +146,7 @@ def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: in
 
     rows: list[TestRow] = []
     skipped: set[int] = set()
+    crowded: set[int] = set()
     for h in range(horizons + 1):
         steps = h + 1
         comb, naive = errors["combination"][:, h], errors["no-change"][:, h]
@@ -168,8 +169,26 @@ def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: in
             matrix = np.column_stack([errors[m][:, h] for m in current[h]])
             keep = _common(matrix)
             if _enough(keep, steps, max(MIN_TEST_ROWS, len(current[h]) + 2), h, skipped):
-                result = stats.mariano_preve(matrix[keep], h=steps)
-                rows.append(_row("mariano-preve", tuple(current[h]), h, result))
+                # Beyond one step the test rests on floor(T^(1/3)) frequencies, which must
+                # be at least half the number of loss differentials (stats._mean_test).
+                rows_kept = int(keep.sum())
+                if (
+                    steps > 1
+                    and 2 * stats.fixed_smoothing_bandwidth(rows_kept) < len(current[h]) - 1
+                ):
+                    crowded.add(h)
+                else:
+                    result = stats.mariano_preve(matrix[keep], h=steps)
+                    rows.append(_row("mariano-preve", tuple(current[h]), h, result))
+    if crowded:
+        warnings.warn(
+            "The test of equal accuracy of all current models together (Mariano-Preve) was "
+            f"not run at horizons {periods.ranges(sorted(crowded))}: too many models for the "
+            "past rounds in common (the long-run variance of their loss differentials rests "
+            "on too few frequencies).",
+            SmallSampleWarning,
+            stacklevel=3,
+        )
     if skipped:
         warnings.warn(
             f"Accuracy tests were not run at horizons {periods.ranges(sorted(skipped))}: "
