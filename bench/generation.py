@@ -55,7 +55,7 @@ def _run(argv: list[str]) -> Run:
     probe = (
         "import resource, subprocess, sys, time\n"
         "t = time.perf_counter()\n"
-        "subprocess.run(sys.argv[1:], check=True, stdout=subprocess.DEVNULL)\n"
+        "subprocess.run(sys.argv[1:], check=True, stdout=subprocess.DEVNULL, stderr=sys.stderr)\n"
         "t = time.perf_counter() - t\n"
         "print(t, resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss)\n"
     )
@@ -63,7 +63,7 @@ def _run(argv: list[str]) -> Run:
     done = subprocess.run(
         [sys.executable, "-c", probe, *argv],
         check=True,
-        capture_output=True,
+        stdout=subprocess.PIPE,
         text=True,
         cwd=ROOT,
         env=env,
@@ -184,7 +184,7 @@ def scaling(work: Path, sizes: list[str]) -> None:
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--repeats", type=int, default=3, help="repeats of the demo ratios")
+    parser.add_argument("--repeats", type=int, default=2, help="repeats of the demo ratios")
     parser.add_argument("--quick", action="store_true", help="skip the batch and the 16x archive")
     args = parser.parse_args()
     load = os.getloadavg()[0]
