@@ -10,14 +10,15 @@ import dataclasses
 import json
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from riskreport.adjustments import Adjustments
-from riskreport.density import DensityCurve
-from riskreport.history import RoundPoint, YearPoint
-from riskreport.overlay import AppliedJudgement
-from riskreport.thresholds import ThresholdResult
-from riskreport.track_record import AccuracyRow, TestRow
+if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
+    from riskreport.adjustments import Adjustments
+    from riskreport.density import DensityCurve
+    from riskreport.history import RoundPoint, YearPoint
+    from riskreport.overlay import AppliedJudgement
+    from riskreport.thresholds import ThresholdResult
+    from riskreport.track_record import AccuracyRow, TestRow
 
 
 @dataclass(frozen=True)

@@ -24,7 +24,7 @@ from importlib import resources
 from pathlib import Path
 from typing import Any
 
-from riskreport import __version__
+from riskreport import __version__, progress
 from riskreport.errors import EnvironmentFailure, InputError
 
 log = logging.getLogger("riskreport")
@@ -182,7 +182,9 @@ def _build(
         "config_sha256": None,
         "inputs": {},
     }
+    steps = progress.Steps.start(3)
     try:
+        steps.step("assessing (replay, fits, simulation)")
         cfg = config_module.load(config)
         if as_of is not None:
             cfg = cfg.with_as_of(as_of)
@@ -204,7 +206,9 @@ def _build(
             log.info("assessed %s: %d horizons", assessment.as_of, len(assessment.horizons))
             record["as_of"] = assessment.as_of
             record["inputs"] = {i.role: i.sha256 for i in assessment.inputs}
+            steps.step("rendering (charts, HTML, PDF)")
             files = outputs.files_for(assessment, cfg.formats)
+            steps.step("writing")
             written = folder.write_round(out_dir, files, as_of=assessment.as_of, force=force)
             listed = [
                 {"path": str(p), "sha256": h}
@@ -225,6 +229,8 @@ def _build(
         if out_dir is not None and out_dir.is_dir():
             _record_failure(out_dir, record, exc)
         raise
+    finally:
+        steps.close()
     for p in written.paths:
         log.debug("wrote %s", p)
     pdf = [p for p in written.paths if p.suffix == ".pdf"]
@@ -239,32 +245,35 @@ def _build(
 
 
 def _check(config: Path, as_of: str | None) -> dict[str, Any]:
-    from riskreport import assess
+    # Validation only: nothing is fitted, so there are no probabilities ("headline": null).
+    from riskreport import config as config_module
+    from riskreport import screening
 
-    assessment = assess(config, as_of=as_of)
-    n = [r.n_errors for r in assessment.horizons if r.n_errors is not None] or [0]
-    current = [m.model for m in assessment.models if m.in_current_round]
-    left = [m.model for m in assessment.models if not m.in_current_round]
+    cfg = config_module.load(config)
+    if as_of is not None:
+        cfg = cfg.with_as_of(as_of)
+    found = screening.screen(cfg)
+    n = [k for k in found.n_errors if k > 0] or [0]
     lines = [
-        f"config {Path(config).name}: valid; as_of {assessment.as_of} ({assessment.frequency})",
-        f"band {assessment.target['lower']:g} to {assessment.target['upper']:g} "
-        f"({assessment.target['basis']}); horizons 0 to {assessment.horizons[-1].h}, "
-        f"policy horizon {assessment.policy_horizon}",
-        f"models in the current round: {', '.join(current)}"
-        + (f"; left out: {', '.join(left)}" if left else ""),
+        f"config {Path(config).name}: valid; as_of {found.as_of} ({found.frequency})",
+        f"band {found.lower:g} to {found.upper:g} ({found.basis}); horizons 0 to "
+        f"{found.horizons}, policy horizon {found.policy_horizon}",
+        f"models in the current round: {', '.join(found.current_models)}"
+        + (f"; left out: {', '.join(found.left_out_models)}" if found.left_out_models else ""),
         f"past errors per horizon: {min(n)} to {max(n)}",
         *(
             f"input {i.role}: {i.path} ({i.rows if i.rows is not None else '-'} rows)"
-            for i in assessment.inputs
+            for i in found.inputs
         ),
-        *(f"warning: {w}" for w in assessment.warnings),
+        *(f"warning: {w}" for w in found.warnings),
+        "nothing fitted: probabilities, fit and replay warnings come with build",
     ]
     return {
         "status": "ok",
-        "as_of": assessment.as_of,
+        "as_of": found.as_of,
         "summary": lines,
-        "headline": _headline(assessment),
-        "warnings": list(assessment.warnings),
+        "headline": None,
+        "warnings": list(found.warnings),
         "outputs": [],
     }
 
@@ -336,7 +345,7 @@ def _one_config(
     """Every brief of one config, in period order; each failure is recorded, not raised."""
     results = []
     rounds: list[str | None] = list(months) if months else [None]
-    for as_of in rounds:
+    for as_of in progress.bar(rounds, config.name) if len(rounds) > 1 else rounds:
         try:
             summary = _build(config, out, as_of, force)
             code = EXIT_OK
@@ -408,6 +417,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     os.environ.setdefault("MPLBACKEND", "Agg")
     args = _parser().parse_args(argv)
     _setup_logging(args)
+    progress.configure(enabled=not (args.quiet or args.json))
     try:
         summary = _run(args)
         code = int(summary.pop("exit_code", EXIT_OK))

@@ -30,7 +30,6 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import ArrayLike
-from scipy import stats
 
 from riskreport._typing import CombinationMethod
 from riskreport.panel import Panel
@@ -193,6 +192,8 @@ def linear_weights(
         inverse = 1.0 / np.maximum(mom.mse, 1e-300)
         return inverse / inverse.sum(axis=1, keepdims=True), zero
     if method == "rank":
+        from scipy import stats  # imported here: `check` loads this module without scipy.stats
+
         ranks = stats.rankdata(mom.mse, method="min", axis=1)
         inverse = 1.0 / ranks
         return inverse / inverse.sum(axis=1, keepdims=True), zero

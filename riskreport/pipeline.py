@@ -23,6 +23,7 @@ from riskreport import (
     overlay,
     periods,
     probabilities,
+    screening,
     selection,
     uncertainty,
 )
@@ -38,7 +39,6 @@ from riskreport.assessment import (
     BasisResult,
     HorizonResult,
     InputRecord,
-    ModelStatus,
     Observation,
     PathResult,
     WeightRow,
@@ -49,9 +49,6 @@ from riskreport.errors import (
     CombinationFallbackWarning,
     CombinationRangeWarning,
     HeadlineBasisWarning,
-    InputError,
-    LaterOutcomeWarning,
-    ModelLeftOutWarning,
     RiskReportWarning,
 )
 from riskreport.inputs import (
@@ -126,36 +123,6 @@ def _input_records(
             InputRecord("error_quantiles", rel(given.file), _sha256(given.file), rows, None, None)
         )
     return tuple(records)
-
-
-def _model_status(fc: Forecasts, cfg: Config) -> tuple[ModelStatus, ...]:
-    rows = []
-    for i, name in enumerate(fc.models):
-        origins = fc.origin[(fc.model == i) & (fc.origin <= cfg.as_of)]
-        if origins.size == 0:
-            continue
-        rows.append(
-            ModelStatus(
-                model=name,
-                first_origin=periods.label(int(origins.min()), cfg.frequency),
-                last_origin=periods.label(int(origins.max()), cfg.frequency),
-                in_current_round=bool(np.any(origins == cfg.as_of)),
-            )
-        )
-    return tuple(rows)
-
-
-def _method(cfg: Config, fc: Forecasts) -> combination_module.CombinationMethod:
-    if len(fc.models) == 1:
-        return "given"
-    if cfg.combination == "given":
-        raise InputError(
-            f"'given' expects a forecasts file with one (already combined) model; "
-            f"{fc.file.name} has {len(fc.models)}: {', '.join(fc.models)}",
-            file=cfg.path,
-            column="[combination] method",
-        )
-    return cfg.combination
 
 
 def _horizon_results(
@@ -337,31 +304,6 @@ def _headline(cfg: Config, policy: HorizonResult, years: tuple[BasisResult, ...]
         stacklevel=3,
     )
     return _period_headline(policy)
-
-
-def _warn_later_outcomes(act: Actuals, cfg: Config) -> None:
-    """Warn when the actuals hold outcomes the round could not know (periods >= as_of).
-
-    The forecast made at origin o uses data up to o - 1 (DEVELOPERS.md, no look-ahead), so
-    the outcome for as_of and later ones are ignored everywhere: past rounds are not scored
-    on them, the error distributions and weights do not use them, and a calendar year does
-    not count them as observed.
-    """
-    later = act.period[act.period >= cfg.as_of]
-    if later.size == 0:
-        return
-    f = cfg.frequency
-    span = periods.label(int(later.min()), f)
-    if later.size > 1:
-        span += f" to {periods.label(int(later.max()), f)}"
-    warnings.warn(
-        f"The actuals hold {later.size} outcome(s) for {span}, not before the current round "
-        f"({periods.label(cfg.as_of, f)}); the round uses outcomes up to "
-        f"{periods.label(cfg.as_of - 1, f)} only, so these are ignored in this brief "
-        "(not scored, not counted as observed).",
-        LaterOutcomeWarning,
-        stacklevel=3,
-    )
 
 
 def _history(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
@@ -561,19 +503,11 @@ def _assess(cfg: Config) -> Assessment:
         if cfg.error_quantiles
         else None
     )
-    _warn_later_outcomes(act, cfg)
+    screening.warn_later_outcomes(act, cfg)
     panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
-    status = _model_status(fc, cfg)
-    for row in status:
-        if not row.in_current_round:
-            warnings.warn(
-                f"Model '{row.model}' has no forecast in the current round (last origin "
-                f"{row.last_origin}); it is reported in the track record and left out of the "
-                "combination.",
-                ModelLeftOutWarning,
-                stacklevel=2,
-            )
-    method = _method(cfg, fc)
+    status = screening.model_status(fc, cfg)
+    screening.warn_left_out(status)
+    method = screening.combination_method(cfg, fc)
     combo = combination_module.combine(
         method, panel, window=cfg.combination_window, shrinkage=cfg.combination_shrinkage
     )
@@ -586,13 +520,7 @@ def _assess(cfg: Config) -> Assessment:
         )
     _warn_range(method, combo)
     point = combo.combined[-1, : cfg.horizons + 1]
-    if not np.all(np.isfinite(point)):
-        missing = int(np.flatnonzero(~np.isfinite(point))[0])
-        raise InputError(
-            f"no model has a current-round forecast for horizon {missing}",
-            file=cfg.forecasts,
-            column="period",
-        )
+    screening.require_current(cfg, point)
     errors = error_matrix(combo.combined, panel.outcomes)
     replayed = adjustments_module.replays(cfg, panel, combo.combined, errors)
     runs = replayed.runs

@@ -65,23 +65,82 @@ def _a(mu: np.ndarray, var: np.ndarray) -> np.ndarray:
     return 2 * sigma * np.exp(-0.5 * z**2) / np.sqrt(2 * np.pi) + mu * (2 * special.ndtr(z) - 1)
 
 
+GRID_STEP = 0.5  # spacing, in bandwidths, of the grid for the mixture's E|X - X'|
+GRID_REACH = 9.0  # the grid spans the sample -+ this many bandwidths (Phi(-9) < 1e-18)
+GRID_BLOCK = 32  # grid points evaluated at once (bounds the memory of a batch)
+
+
+def _pair_term_exact(x: np.ndarray, ok: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """E|X - X'| of each row's mixture over all pairs of components (quadratic in n)."""
+    n = ok.sum(axis=1)
+    diff = x[:, :, None] - x[:, None, :]
+    pair_ok = ok[:, :, None] & ok[:, None, :]
+    total = np.where(pair_ok, _a(np.nan_to_num(diff), 2 * b[:, :, None] ** 2), 0.0)
+    return np.asarray(total.sum(axis=(1, 2)) / n**2)
+
+
+def kernel_mixture_spread(sample: ArrayLike, bandwidth: ArrayLike) -> np.ndarray:
+    """E|X - X'| of the equal-weight Gaussian mixture of each row (the Gini mean difference).
+
+    Parameters
+    ----------
+    sample
+        m x n components' centres, NaN padded (or one row of n).
+    bandwidth
+        The components' standard deviation, one per row.
+
+    Returns
+    -------
+    numpy.ndarray
+        One value per row.
+
+    Notes
+    -----
+    E|X - X'| = 2 int F(x) (1 - F(x)) dx, with F the mixture CDF: average the two forms
+    of the CRPS, int (F(x) - 1{y <= x})^2 dx = E|X - y| - E|X - X'|/2 (Gneiting & Raftery
+    2007, JASA 102:359-378, section 4.2; equation number recalled from memory, not
+    given), over y ~ F. The integrand is smooth on the scale of the bandwidth
+    b and vanishes beyond the sample -+ 9 b, so the trapezoid rule with step b / 2 is
+    accurate to rounding (relative error below 1e-12 against all pairs in the tests; the
+    trapezoid rule converges geometrically for smooth integrands that vanish at both ends,
+    Trefethen & Weideman 2014, SIAM Review 56:385-458). Each row costs
+    n x (range / b + 36) CDF terms instead of the n^2 pairs of the closed form
+    (Grimit et al. 2006); rows whose grid would be longer than the sample fall back to the
+    pairs, so the cost is never worse than before. Hand-rolled: scipy has no CRPS of a
+    Gaussian mixture.
+    """
+    x = np.atleast_2d(np.asarray(sample, dtype=float))
+    b = np.broadcast_to(np.asarray(bandwidth, dtype=float).reshape(-1), (x.shape[0],))
+    ok = np.isfinite(x)
+    n = ok.sum(axis=1)
+    low = np.min(np.where(ok, x, np.inf), axis=1) - GRID_REACH * b
+    high = np.max(np.where(ok, x, -np.inf), axis=1) + GRID_REACH * b
+    points = int(np.ceil(np.max((high - low) / (GRID_STEP * b)))) + 1
+    if points >= x.shape[1]:
+        return _pair_term_exact(x, ok, b.reshape(-1, 1))
+    steps = np.linspace(0.0, 1.0, points)
+    centres = np.where(ok, x, 0.0)
+    total = np.zeros(x.shape[0])
+    for first in range(0, points, GRID_BLOCK):
+        grid = low[:, None] + (high - low)[:, None] * steps[None, first : first + GRID_BLOCK]
+        z = (grid[:, :, None] - centres[:, None, :]) / b[:, None, None]
+        f = np.where(ok[:, None, :], special.ndtr(z), 0.0).sum(axis=2) / n[:, None]
+        total += (f * (1.0 - f)).sum(axis=1)  # the ends are ~0: trapezoid = plain sum
+    return np.asarray(2.0 * total * (high - low) / (points - 1))
+
+
 def crps_kernel_mixture(y: ArrayLike, sample: np.ndarray, bandwidth: ArrayLike) -> np.ndarray:
     """CRPS of an equal-weight Gaussian mixture (the kernel-smoothed empirical distribution):
-    E|X - y| - E|X - X'|/2 with both expectations in closed form over the components
-    (Grimit, Gneiting, Berrocal & Johnson 2006, QJRMS 132:2925-2942)."""
+    E|X - y| - E|X - X'|/2, the first in closed form over the components (Grimit, Gneiting,
+    Berrocal & Johnson 2006, QJRMS 132:2925-2942), the second by
+    :func:`kernel_mixture_spread` (linear in the sample size)."""
     x = np.atleast_2d(sample)
     b = np.asarray(bandwidth, dtype=float).reshape(-1, 1)
     y = np.asarray(y, dtype=float).reshape(-1, 1)
     ok = np.isfinite(x)
     n = ok.sum(axis=1)
     first = np.where(ok, _a(y - x, b**2), 0.0).sum(axis=1) / n
-    diff = x[:, :, None] - x[:, None, :]
-    pair_ok = ok[:, :, None] & ok[:, None, :]
-    second = (
-        np.where(pair_ok, _a(np.nan_to_num(diff), 2 * b[:, :, None] ** 2), 0.0).sum(axis=(1, 2))
-        / n**2
-    )
-    return first - 0.5 * second
+    return np.asarray(first - 0.5 * kernel_mixture_spread(x, b.reshape(-1)))
 
 
 def crps_numeric(

@@ -41,7 +41,9 @@ OUTCOME_STYLE: dict[str, dict[str, Any]] = {
 # Any: matplotlib's stubs type rcParams keys as one large Literal.
 _RC: Any = {
     "svg.hashsalt": "riskreport",
-    "svg.fonttype": "path",
+    # Text as <text> in DejaVu Sans (the brief's font), not one path per glyph: half the SVG,
+    # about a third less time for weasyprint to draw the charts, and the words stay text.
+    "svg.fonttype": "none",
     "font.family": "DejaVu Sans",
     "font.size": 8,
     "axes.edgecolor": BAND_EDGE,

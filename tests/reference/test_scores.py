@@ -78,6 +78,47 @@ def test_crps_kernel_mixture(rng: np.random.Generator) -> None:
         )
 
 
+def test_crps_kernel_mixture_on_the_grid(
+    rng: np.random.Generator, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Long samples take the grid route for E|X - X'| (never the pairs, made to fail here);
+    # each row must match scoringrules' CRPS of the same Gaussian mixture (Grimit et al.
+    # 2006 closed form over all pairs) to 1e-10, NaN padding included.
+    x = rng.normal(0.2, 0.6, size=(6, 300))
+    x[2, 150:] = np.nan
+    bandwidth = np.array([0.1, 0.15, 0.2, 0.12, 0.3, 0.25])
+    y = np.array([-2.0, 0.1, 0.3, 1.7, 0.0, 5.0])
+
+    def no_pairs(*_: object) -> np.ndarray:
+        raise AssertionError("the pairs route was taken")
+
+    monkeypatch.setattr(scores, "_pair_term_exact", no_pairs)
+    ours = scores.crps_kernel_mixture(y, x, bandwidth)
+    for row in range(6):
+        centres = x[row][np.isfinite(x[row])]
+        expected = sr.crps_mixnorm(y[row], centres, np.full(centres.size, bandwidth[row]))
+        assert ours[row] == pytest.approx(float(expected), abs=1e-10)
+
+
+def test_kernel_mixture_spread_is_the_pair_mean() -> None:
+    # E|X - X'| = 2 int F (1 - F) dx (grid) against the mean over all pairs of the closed
+    # form E|N(mu, 2 b^2)| (Grimit et al. 2006), and against scipy's quad of 2 F (1 - F).
+    x = np.random.default_rng(11).standard_t(5, size=(1, 400))
+    b = np.array([0.3])
+    ok = np.isfinite(x)
+    pairs = scores._pair_term_exact(x, ok, b.reshape(-1, 1))
+    grid = scores.kernel_mixture_spread(x, b)
+    assert grid[0] == pytest.approx(pairs[0], rel=1e-12)
+
+    def f(t: float) -> float:
+        c = float(np.mean(stats.norm.cdf((t - x[0]) / b[0])))
+        return 2 * c * (1 - c)
+
+    lo, hi = float(x.min()) - 10, float(x.max()) + 10
+    quad, _ = integrate.quad(f, lo, hi, limit=500, points=np.linspace(lo, hi, 40)[1:-1])
+    assert grid[0] == pytest.approx(quad, rel=1e-8)
+
+
 def test_crps_numeric_matches_quadrature() -> None:
     f = SkewNormalFit(xi=np.array([1.0]), omega=np.array([2.0]), alpha=np.array([3.0]))
     y = 2.0
