@@ -350,7 +350,10 @@ def summarise(
         "rps": {
             "by_horizon": rps_rows,
             "categories": ["below", "inside", "above"],
-            "convention": "unnormalised sum over categories (scoringrules rps_score)",
+            "convention": (
+                "sum over the ordered categories of the squared differences of the cumulative "
+                "forecast and outcome, not divided by the number of categories less one"
+            ),
         },
         "tests": tests,
         "scores": [

@@ -481,7 +481,7 @@ def berkowitz(pit: ArrayLike) -> TestResult:
         pvalue=float(stats.chi2.sf(lr, 3)),
         null="PITs are iid uniform (normal scores iid N(0, 1))",
         alternative="wrong mean, variance or first-order dependence",
-        method="Berkowitz LR3, exact AR(1) likelihood (statsmodels ARIMA), chi-square(3)",
+        method="Berkowitz LR3, AR(1) with a constant by exact Gaussian likelihood, chi-square(3)",
         nobs=int(x.size),
         h=1,
         df=(3,),
