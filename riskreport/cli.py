@@ -183,9 +183,7 @@ def _build(
         "inputs": {},
     }
     try:
-        cfg = config_module.load(config)
-        if as_of is not None:
-            cfg = cfg.with_as_of(as_of)
+        cfg = config_module.load_config(config, as_of)
         if out_dir is None:
             out_dir = cfg.output_directory.resolve()
         record["as_of"] = periods.label(cfg.as_of, cfg.frequency)
@@ -274,9 +272,7 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
     from riskreport import folder, outputs, pipeline
     from riskreport.report import tables
 
-    cfg = config_module.load(config)
-    if as_of is not None:
-        cfg = cfg.with_as_of(as_of)
+    cfg = config_module.load_config(config, as_of)
     assessment = pipeline.assess_config(cfg)
     out_dir = (out if out is not None else cfg.output_directory).resolve()
     files = {
