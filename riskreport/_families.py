@@ -267,9 +267,11 @@ def fit_two_piece_normal(
 
     With the mode given, John's closed form. Otherwise the profile likelihood is maximised
     over the mode (minimise S1^(1/3) + S2^(1/3)) on a grid, refined by a bounded 1-d search
-    when ``refine``. The profile can peak at the sample edge (a half-normal with one sigma
-    0, checks.md 1.3): the mode is kept within the 10-90% sample range, and rows where the
-    unrestricted optimum lay outside it are flagged in ``boundary``.
+    when ``refine``. The profile can peak at the sample edge: at mode = max(x), S2 = 0 and
+    John's closed form gives sigma2 = 0 with a finite (half-normal) likelihood, which in
+    small samples can be the global maximum. So the mode is kept between the k-th smallest
+    and the k-th largest error (``TPN_EDGE_SHARE``, ``TPN_EDGE_MIN``), and rows where the
+    unrestricted optimum lay outside that range are flagged in ``boundary``.
     """
     x, n = _rows(samples)
     b = x.shape[0]
@@ -439,8 +441,11 @@ class SkewNormalFit:
 
 
 def _skewnormal_moments(mean: Any, var: Any, g1: Any) -> tuple[Any, Any, Any, Any]:
-    """Method of moments with the skewness clipped inside the admissible bound (checks.md 2.1):
-    c = (2|g1|/(4 - pi))^(1/3), mu_z = sign(g1) c / sqrt(1 + c^2), delta = mu_z / sqrt(2/pi)."""
+    """Method of moments with the skewness clipped inside the admissible bound (the
+    half-normal skewness): c = (2|g1|/(4 - pi))^(1/3), mu_z = sign(g1) c / sqrt(1 + c^2),
+    delta = mu_z / sqrt(2/pi); the inversion of Azzalini's (1985, Scand. J. Statist. 12,
+    volume and journal recalled from memory) mean, variance and skewness of SN(xi, omega,
+    alpha)."""
     clipped = np.clip(g1, -0.95 * SKEW_BOUND, 0.95 * SKEW_BOUND)
     c = np.cbrt(2 * np.abs(clipped) / (4 - np.pi))
     mu_z = np.sign(clipped) * c / np.sqrt(1 + c**2)

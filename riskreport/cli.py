@@ -185,9 +185,7 @@ def _build(
     steps = progress.Steps.start(3)
     try:
         steps.step("assessing (replay, fits, simulation)")
-        cfg = config_module.load(config)
-        if as_of is not None:
-            cfg = cfg.with_as_of(as_of)
+        cfg = config_module.load_config(config, as_of)
         if out_dir is None:
             out_dir = cfg.output_directory.resolve()
         record["as_of"] = periods.label(cfg.as_of, cfg.frequency)
@@ -249,9 +247,7 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
     from riskreport import config as config_module
     from riskreport import screening
 
-    cfg = config_module.load(config)
-    if as_of is not None:
-        cfg = cfg.with_as_of(as_of)
+    cfg = config_module.load_config(config, as_of)
     found = screening.screen(cfg)
     n = [k for k in found.n_errors if k > 0] or [0]
     lines = [
@@ -283,9 +279,7 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
     from riskreport import folder, outputs, pipeline
     from riskreport.report import tables
 
-    cfg = config_module.load(config)
-    if as_of is not None:
-        cfg = cfg.with_as_of(as_of)
+    cfg = config_module.load_config(config, as_of)
     assessment = pipeline.assess_config(cfg)
     out_dir = (out if out is not None else cfg.output_directory).resolve()
     files = {

@@ -531,6 +531,30 @@ def load(path: str | Path) -> Config:
     )
 
 
+def load_config(path: str | Path, as_of: str | None = None) -> Config:
+    """Read and validate a configuration file, with ``as_of`` (``--as-of``) if given.
+
+    Parameters
+    ----------
+    path
+        The TOML file; input paths in it are relative to its folder.
+    as_of
+        Overrides ``[brief] as_of`` (a period such as ``"2026-11"``); None keeps the file's.
+
+    Returns
+    -------
+    Config
+        The validated configuration.
+
+    Raises
+    ------
+    InputError
+        As :func:`load`, or on an ``as_of`` that is not a period of the config's frequency.
+    """
+    cfg = load(path)
+    return cfg if as_of is None else cfg.with_as_of(as_of)
+
+
 def _shrinkage(reader: _Reader) -> float:
     """``[combination] shrinkage``: kappa of the ``shrink`` method, within its bounds."""
     value = reader.number("shrinkage", SHRINKAGE)

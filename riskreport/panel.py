@@ -86,3 +86,15 @@ def build(forecasts: Forecasts, actuals: Actuals, *, as_of: int, max_h: int) -> 
         series=series[: as_of - span_start + 1],
         series_start=span_start,
     )
+
+
+def window_mask(errors: np.ndarray, window: int) -> np.ndarray:
+    """origins x horizons: True for the last ``window`` known errors of each horizon.
+
+    ``window = 0`` keeps every known error.
+    """
+    known = np.isfinite(errors)
+    if window == 0:
+        return known
+    from_latest = np.cumsum(known[::-1], axis=0)[::-1]
+    return known & (from_latest <= window)

@@ -59,7 +59,8 @@ from riskreport.inputs import (
     read_error_quantiles,
     read_forecasts,
 )
-from riskreport.track_record import error_matrix, evaluate, window_mask
+from riskreport.panel import window_mask
+from riskreport.track_record import error_matrix, evaluate
 
 HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
 
@@ -651,7 +652,5 @@ def assess(
     InputError
         On any bad input or configuration.
     """
-    cfg = config_module.load(config_path)
-    if as_of is not None:
-        cfg = cfg.with_as_of(as_of)
+    cfg = config_module.load_config(config_path, as_of)
     return assess_config(cfg, previous=Path(previous) if previous is not None else None)

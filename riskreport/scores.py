@@ -29,7 +29,12 @@ def crps_normal(y: ArrayLike, mu: ArrayLike, sigma: ArrayLike) -> np.ndarray:
 
 
 def _crps_tpn_positive(y: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """CRPS of the TPN with mode 0, scales (a, b), at y >= 0 (checks.md 8.6 closed form)."""
+    """CRPS of the TPN with mode 0, scales (a, b), at y >= 0, in closed form.
+
+    Derived here from CRPS = E|X - y| - E|X - X'| / 2 (Gneiting & Raftery 2007, JASA
+    102:359-378; equation recalled from memory), checked in the tests against
+    ``scoringrules.crps_2pnormal`` (Jordan, Krueger & Lerch 2019, J. Stat. Softw. 90(12)).
+    """
     s = a + b
     g = (4 - 2 * np.sqrt(2)) / _SQRT_PI  # Gini mean difference of the standard half-normal
     c = y / b
@@ -216,8 +221,8 @@ def brier(p: ArrayLike, outcome: ArrayLike, bins: int = 10) -> BrierDecompositio
 def rps(probabilities: ArrayLike, category: ArrayLike) -> np.ndarray:
     """Ranked probability score, unnormalised: sum_k (F_k - O_k)^2 over ordered categories.
 
-    ``probabilities`` is n x K, ``category`` the observed category 0..K-1 (Epstein 1969;
-    the convention of ``scoringrules.rps_score``).
+    ``probabilities`` is n x K, ``category`` the observed category 0..K-1 (Epstein 1969,
+    J. Appl. Meteor. 8:985-987); not divided by K - 1.
     """
     f = np.cumsum(np.asarray(probabilities, dtype=float), axis=1)
     k = f.shape[1]

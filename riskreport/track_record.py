@@ -18,7 +18,7 @@ import numpy as np
 from riskreport import benchmarks, periods
 from riskreport.combination import Combination
 from riskreport.errors import SmallSampleWarning
-from riskreport.panel import Panel
+from riskreport.panel import Panel, window_mask
 
 if TYPE_CHECKING:  # the tests (scipy.stats) load only when run: `check` needs none of them
     from riskreport import stats
@@ -66,18 +66,6 @@ class TrackRecord:
 def error_matrix(forecast: np.ndarray, outcomes: np.ndarray) -> np.ndarray:
     """origins x horizons errors (actual - forecast), NaN where either is missing."""
     return outcomes - forecast
-
-
-def window_mask(errors: np.ndarray, window: int) -> np.ndarray:
-    """origins x horizons: True for the last ``window`` known errors of each horizon.
-
-    ``window = 0`` keeps every known error.
-    """
-    known = np.isfinite(errors)
-    if window == 0:
-        return known
-    from_latest = np.cumsum(known[::-1], axis=0)[::-1]
-    return known & (from_latest <= window)
 
 
 def forecasters(panel: Panel, combination: Combination) -> dict[str, np.ndarray]:

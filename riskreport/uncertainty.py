@@ -20,7 +20,7 @@ from riskreport.config import Config
 from riskreport.distributions import GIVEN_FAMILY, Distribution
 from riskreport.errors import BoundaryFitWarning, InputError, SmallSampleWarning
 from riskreport.inputs import ErrorQuantiles
-from riskreport.track_record import window_mask
+from riskreport.panel import window_mask
 
 SMALL_SAMPLE = 30  # fewer errors than this earns a caution (common practice, no source)
 

@@ -84,8 +84,8 @@ formats = ["json", "csv"]
 """
 
 
-@pytest.fixture
-def case(tmp_path: Path) -> Case:
+def make_case(folder: Path) -> Case:
+    """The small monthly case in ``folder`` (not yet written: call ``write``)."""
     rng = np.random.default_rng(7)
     first, as_of = _ordinal(2018, 1), _ordinal(2024, 12)
     periods = range(first - 1, as_of)
@@ -97,7 +97,12 @@ def case(tmp_path: Path) -> Case:
             for h in range(4):
                 value = truth[origin + h] + rng.normal(0, noise * (1 + h / 3))
                 forecasts.append([_label(origin), _label(origin + h), model, f"{value:.3f}"])
-    return Case(tmp_path, forecasts, actuals, CONFIG)
+    return Case(folder, forecasts, actuals, CONFIG)
+
+
+@pytest.fixture
+def case(tmp_path: Path) -> Case:
+    return make_case(tmp_path)
 
 
 @dataclass

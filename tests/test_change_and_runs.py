@@ -1,4 +1,5 @@
-"""Change since the previous brief, scenarios, and the run record (design.md, Outputs)."""
+"""Change since the previous brief, scenarios, and the run record (README, Usage and The
+output folder)."""
 
 from __future__ import annotations
 

@@ -1,6 +1,6 @@
 """Guard-rails of the estimated combination weights: the shrinkage factor's degrees of
-freedom, negative weights and a combination outside the models' range (design.md,
-Statistics), on a hand-made panel and on a real quarterly inflation history."""
+freedom, negative weights and a combination outside the models' range (DEVELOPERS.md,
+The statistics), on a hand-made panel and on a real quarterly inflation history."""
 
 from __future__ import annotations
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 import hashlib
 import json
 import re
+import shutil
 from collections.abc import Callable
 from pathlib import Path
 
@@ -12,7 +13,7 @@ import numpy as np
 import pytest
 from pypdf import PdfReader
 
-from tests.conftest import DEMO, Case, Result
+from tests.conftest import DEMO, Case, Result, make_case
 
 AS_OF = "2026-11"
 HORIZON_KEYS = {
@@ -163,8 +164,32 @@ def test_rebuild_is_byte_identical(
             ), path.name
 
 
-def test_demo_command_and_json_summary(tmp_path: Path, run: Callable[..., Result]) -> None:
-    result = run("demo", "--out", tmp_path, "--json")
+def test_demo_command_and_json_summary(
+    tmp_path: Path, run: Callable[..., Result], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from riskreport import cli
+
+    # The command reads the packaged demo config ...
+    assert cli.demo_config().read_bytes() == (DEMO / "config.toml").read_bytes()
+    # ... whose full build the session fixture already checks; here the command's own work
+    # (two rounds, the JSON summary) runs on the demo inputs with a lighter uncertainty
+    # section and only the PDF and JSON (the periods and the policy horizon are the demo's).
+    inputs = tmp_path / "inputs"
+    shutil.copytree(DEMO, inputs, ignore=shutil.ignore_patterns("__pycache__", "*.py"))
+    config = (inputs / "config.toml").read_text("utf-8")
+    light = {
+        'distribution = "auto"\n': 'distribution = "normal"\nbootstrap_replicates = 50\n'
+        "simulations = 1000\n",
+        'formats = ["pdf", "html", "json", "csv", "xlsx", "png", "slides"]': (
+            'formats = ["pdf", "json"]'
+        ),
+    }
+    for old, new in light.items():
+        assert old in config
+        config = config.replace(old, new)
+    (inputs / "config.toml").write_text(config, "utf-8")
+    monkeypatch.setattr(cli, "demo_config", lambda: inputs / "config.toml")
+    result = run("demo", "--out", tmp_path / "out", "--json")
     assert result.code == 0, result.stderr
     summary = json.loads(result.stdout)
     assert summary["status"] == "ok"
@@ -188,40 +213,60 @@ def test_demo_inputs_are_what_the_generator_makes(tmp_path: Path) -> None:
         assert (tmp_path / name).read_bytes() == (DEMO / name).read_bytes(), name
 
 
-HOSTILE = "<script>alert(1)</script> & <img src=file:///etc/passwd>"
-ESCAPED = "&lt;script&gt;alert(1)&lt;/script&gt; &amp; &lt;img src=file:///etc/passwd&gt;"
+HOSTILE_FIELDS = ("title", "institution", "reason", "scenario", "model")
 
 
-@pytest.mark.parametrize("field", ["title", "institution", "reason", "scenario", "model"])
-def test_hostile_text_is_escaped(case: Case, run: Callable[..., Result], field: str) -> None:
-    # practice-notes section 2: every free-text field must come out escaped.
-    toml_text = HOSTILE.replace("\\", "\\\\")
-    if field == "reason":
-        case.config += f'\n[[judgement]]\nfrom = "2025-01"\nto = "2025-01"\nshift = 0.1\nreason = \'{toml_text}\'\n'
-    elif field == "scenario":
-        case.config += f"\n[[scenario]]\nname = '{toml_text}'\nfrom = \"2025-01\"\nto = \"2025-01\"\nshift = 0.1\nreason = '{toml_text}'\n"
-    elif field == "model":
-        for row in case.forecasts[1:]:
-            if row[2] == "a":
-                row[2] = HOSTILE.replace(",", ";")
-    else:
+def _hostile(marker: int) -> str:
+    return f"<script>alert({marker})</script> & <img src=file:///etc/passwd>"
+
+
+def _escaped(marker: int) -> str:
+    return f"&lt;script&gt;alert({marker})&lt;/script&gt; &amp; &lt;img src=file:///etc/passwd&gt;"
+
+
+@pytest.fixture(scope="module")
+def hostile_brief(tmp_path_factory: pytest.TempPathFactory) -> tuple[str, str]:
+    """One HTML + PDF build of the small case with hostile text in every free-text field at
+    once, each field with its own marker (alert(1) for the title, alert(2) for the
+    institution, ... in the order of HOSTILE_FIELDS). Returns the HTML and the PDF text."""
+    from riskreport import cli
+
+    case = make_case(tmp_path_factory.mktemp("hostile"))
+    text = {field: _hostile(i) for i, field in enumerate(HOSTILE_FIELDS, 1)}
+    toml = {field: t.replace("\\", "\\\\") for field, t in text.items()}
+    case.config += f'\n[[judgement]]\nfrom = "2025-01"\nto = "2025-01"\nshift = 0.1\nreason = \'{toml["reason"]}\'\n'
+    case.config += f"\n[[scenario]]\nname = '{toml['scenario']}'\nfrom = \"2025-01\"\nto = \"2025-01\"\nshift = 0.1\nreason = '{toml['scenario']}'\n"
+    for row in case.forecasts[1:]:
+        if row[2] == "a":
+            row[2] = text["model"].replace(",", ";")
+    for field in ("title", "institution"):
         case.config = re.sub(
-            rf'{field} = "[^"]*"', f"{field} = '{toml_text}'", case.config, count=1
+            rf'{field} = "[^"]*"', f"{field} = '{toml[field]}'", case.config, count=1
         )
     case.config = case.config.replace('formats = ["json", "csv"]', 'formats = ["html", "pdf"]')
-    result = run("build", case.write(), "--out", case.folder / "o", "-q")
-    assert result.code == 0, result.stderr
-    html = (case.folder / "o" / "brief-2024-12.html").read_text("utf-8")
+    out = case.folder / "o"
+    assert cli.main(["build", str(case.write()), "--out", str(out), "-q"]) == 0
+    html = (out / "brief-2024-12.html").read_text("utf-8")
+    return html, " ".join(_pdf_text(out / "brief-2024-12.pdf").split())
+
+
+@pytest.mark.parametrize("field", HOSTILE_FIELDS)
+def test_hostile_text_is_escaped(hostile_brief: tuple[str, str], field: str) -> None:
+    # Every free-text field must come out escaped: jinja2 does not autoescape unless told to
+    # (jinja2 API documentation, Autoescaping). All fields share one build; each field's
+    # own marker shows that its text reached the brief, escaped.
+    html, pdf_text = hostile_brief
+    marker = HOSTILE_FIELDS.index(field) + 1
     assert "<script>" not in html
     assert "<img src=file" not in html
-    assert ESCAPED.replace(",", ";") in html or ESCAPED in html
-    text = " ".join(_pdf_text(case.folder / "o" / "brief-2024-12.pdf").split())
-    assert "<script>alert(1)</script>" in text  # shown as text, not run
+    assert _escaped(marker) in html
+    assert f"<script>alert({marker})</script>" in pdf_text  # shown as text, not run
 
 
 def test_pdf_renderer_refuses_outside_resources() -> None:
-    # practice-notes section 1.9: only inline data: URLs; a file:// or http:// reference
-    # stops the render instead of being fetched.
+    # Only inline data: URLs; a file:// or http:// reference stops the render instead of
+    # being fetched (WeasyPrint documentation, First steps, Security: by default it reads
+    # file:// and HTTP URLs).
     import datetime as dt
 
     from weasyprint.urls import FatalURLFetchingError

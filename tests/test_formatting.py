@@ -21,7 +21,8 @@ from riskreport.report.charts import spread_labels
 )
 def test_half_up_and_minus(value: float, digits: int, text: str) -> None:
     # Half away from zero on the decimal string, unlike Python's round (2.45 -> 2.4):
-    # practice-notes section 2 (jinja2's round filter) explains the trap.
+    # jinja2's round filter has the same trap, as it uses Python's round (jinja2 documentation,
+    # built-in filters, round).
     assert fmt.number(value, digits) == text
 
 

@@ -1,5 +1,5 @@
 """The pipeline's properties: no look-ahead, probabilities that add up, the overlay and
-model handling (design.md, Statistics)."""
+model handling (DEVELOPERS.md, The statistics)."""
 
 from __future__ import annotations
 
@@ -73,7 +73,8 @@ def test_skew_adds_mean_minus_mode() -> None:
     """The overlay's skew unit: pp added to mean minus mode. The means come from scipy's
     quadrature of the quantile function (E[X] = integral_0^1 Q(u) du), an independent route;
     on a normal base the result must be the two-piece normal with sigma2/sigma1 = (1+k)/(1-k),
-    whose mean minus mode is sqrt(2/pi)(sigma2 - sigma1) (checks.md 1.2)."""
+    whose mean minus mode is sqrt(2/pi)(sigma2 - sigma1) (John 1982; Wallis 2014, Statistical
+    Science 29(1):106-112)."""
     from scipy import integrate
 
     from riskreport import distributions

@@ -148,7 +148,8 @@ def test_target_schedule_changes_the_band_from_its_period(case: Case) -> None:
 
 def test_two_piece_errors_from_a_known_law(tmp_path: Path) -> None:
     """Errors drawn from a two-piece normal (mode 0.2, sigma1 0.4, sigma2 0.9): the fitted
-    band probabilities land within sampling error of the true ones (checks.md 1.2 CDF)."""
+    band probabilities land within sampling error of the true ones (the two-piece normal CDF,
+    Wallis 2014, Statistical Science 29(1):106-112)."""
     from riskreport.distributions import Tilted
 
     rng = np.random.default_rng(99)

@@ -1,5 +1,5 @@
 """Every class of bad input: exit 2, one line on stderr naming file, row and column, no
-traceback, nothing written (design.md, Inputs)."""
+traceback, nothing written (README, Inputs)."""
 
 from __future__ import annotations
 

@@ -1,7 +1,7 @@
-"""Diebold-Mariano (HLN), Mariano-Preve and encompassing against checks.md and statsmodels.
+"""Diebold-Mariano (HLN), Mariano-Preve and encompassing against reference values and
+statsmodels.
 
-Oracle values: checks.md sections 3-5 ([C], computed there with numpy/scipy/statsmodels),
-for Diebold & Mariano (1995, JBES 13(3):253-263), Harvey, Leybourne & Newbold (1997, IJF
+Oracle values computed outside the project with numpy, scipy and statsmodels, for Diebold & Mariano (1995, JBES 13(3):253-263), Harvey, Leybourne & Newbold (1997, IJF
 13(2):281-291; 1998, JBES 16(2):254-259), Mariano & Preve (2012, J. Econometrics
 169(1):123-130) and Harvey & Newbold (2000, J. Applied Econometrics 15:471-482).
 """
@@ -17,7 +17,7 @@ from statsmodels.stats.sandwich_covariance import S_hac_simple, weights_uniform
 
 from riskreport import stats
 
-# checks.md 3.4 (T = 24, h = 3)
+# Oracle data for Diebold-Mariano with the HLN factor (T = 24, h = 3).
 E1 = np.array(
     [
         -0.82,
@@ -74,7 +74,7 @@ E2 = np.array(
         -0.33,
     ]
 )
-# checks.md 5 (12 periods, 3 forecasts)
+# Oracle data for the encompassing tests (12 periods, 3 forecasts, h = 1).
 Y = np.array([2.1, 2.5, 1.8, 3.0, 2.7, 2.2, 1.9, 2.4, 3.1, 2.8, 2.0, 2.6])
 F1 = np.array([2.0, 2.2, 2.0, 2.6, 2.5, 2.3, 2.1, 2.2, 2.7, 2.6, 2.2, 2.4])
 F2 = np.array([2.3, 2.9, 2.1, 3.4, 2.9, 2.0, 1.6, 2.8, 3.5, 2.6, 1.8, 3.0])
@@ -101,8 +101,10 @@ def test_dm_oracle_absolute_loss_and_h1() -> None:
 
 @pytest.mark.parametrize("h", [1, 2, 3, 5])
 def test_dm_equals_statsmodels_hac(rng: np.random.Generator, h: int) -> None:
-    # checks.md 3.3: OLS of d on a constant, HAC with the uniform kernel and h - 1 lags,
-    # no small-sample correction, gives DM; the HLN factor is applied on top.
+    # OLS of d on a constant, HAC with the uniform kernel and h - 1 lags, no small-sample
+    # correction, gives DM as stated by Clements & Harvey (Palgrave Handbook of Econometrics,
+    # vol. 2, eqs. 4.12-4.13: autocovariances with denominator T, rectangular window up to
+    # h - 1); the HLN factor (eq. 4.14) is applied on top.
     a, b = rng.normal(size=80), rng.normal(scale=1.2, size=80)
     d = a**2 - b**2
     res = sm.OLS(d, np.ones(d.size)).fit(
@@ -118,7 +120,10 @@ def test_dm_equals_statsmodels_hac(rng: np.random.Generator, h: int) -> None:
 
 
 def test_negative_long_run_variance_falls_back_to_bartlett() -> None:
-    # checks.md 3.2: rectangular V = -0.0751109182; Bartlett V = 0.0083791474, t = 0.4551859451.
+    # The rectangular-window variance can be negative for h >= 2 in small samples (Harvey,
+    # Leybourne & Whitehouse 2017, IJF, "Forecast evaluation tests and negative long-run
+    # variance estimates in small samples"). Here (numpy): rectangular V = -0.0751109182;
+    # Bartlett V = (gamma_0 + gamma_1)/T = 0.0083791474, t = 0.4551859451.
     d = np.array([1, -1, 1, -1, 1, -1, 1, -1, 1.5, -1, 1, -1])
     variance, notes = stats.long_run_variance(d, 1)
     assert variance == pytest.approx(0.0083791474, abs=1e-10)
@@ -129,7 +134,7 @@ def test_negative_long_run_variance_falls_back_to_bartlett() -> None:
 
 
 def test_dm_reports_the_fallback() -> None:
-    # A loss differential equal to d of checks.md 3.2: e_a^2 - e_b^2 with e_b^2 = 2 - d.
+    # A loss differential equal to d of the test above: e_a^2 - e_b^2 = d.
     d = np.array([1, -1, 1, -1, 1, -1, 1, -1, 1.5, -1, 1, -1])
     a, b = np.sqrt(2 + d), np.sqrt(np.full(12, 2.0))
     result = stats.diebold_mariano(a, b, h=2)
@@ -138,7 +143,7 @@ def test_dm_reports_the_fallback() -> None:
     assert result.statistic == pytest.approx(0.4551859451 * stats.hln_factor(12, 2), abs=1e-9)
 
 
-# checks.md 4: T = 30, h = 2, k = 3 errors (one row per period).
+# Oracle data for Mariano & Preve (2012): T = 30, h = 2, k = 3 errors (one row per period).
 MP_ERRORS = np.array(
     [
         [-0.43, 0.76, -0.32],
@@ -192,8 +197,8 @@ def _periodogram_f(d: np.ndarray, m: int) -> tuple[float, float]:
 
 
 def test_mariano_preve_rectangular_omega_of_the_oracle_is_indefinite() -> None:
-    # checks.md 4: successive contrasts, rectangular Omega with denominators T and h-1 lags;
-    # that Omega has eigenvalues -0.0348 and 3.152, so its S = 2.1024 is not a statistic
+    # Successive contrasts, rectangular Omega with denominators T and h-1 lags (numpy); that
+    # Omega has eigenvalues -0.0348 and 3.152, so its S = 2.1024 is not a statistic
     # (the earlier oracle built on it is withdrawn). The test must not use it.
     losses = MP_ERRORS**2
     d = losses[:, :-1] - losses[:, 1:]
@@ -202,7 +207,7 @@ def test_mariano_preve_rectangular_omega_of_the_oracle_is_indefinite() -> None:
     assert omega == pytest.approx(
         np.array([[1.96757615, -1.53980248], [-1.53980248, 1.14936261]]), abs=1e-8
     )
-    # Cross-check with statsmodels primitives (checks.md 4).
+    # Cross-check with statsmodels' S_hac_simple and uniform weights (a sum, hence / T).
     sm_omega = S_hac_simple(d - d.mean(0), nlags=1, weights_func=weights_uniform) / 30
     assert omega == pytest.approx(sm_omega, abs=1e-12)
     assert np.linalg.eigvalsh(omega)[0] == pytest.approx(-0.0348, abs=1e-4)
@@ -252,7 +257,8 @@ def test_mariano_preve_reduces_to_mdm_squared(rng: np.random.Generator) -> None:
 
 
 def test_knuppel_against_hotelling_and_the_periodogram(rng: np.random.Generator) -> None:
-    # checks.md 8.3 PITs; h = 1: Hotelling on (u, u^2 - 1) (statsmodels test_mvmean);
+    # The 20 PITs of the Berkowitz oracle; h = 1: Hotelling on (u, u^2 - 1) (statsmodels
+    # test_mvmean);
     # h = 3: the fixed-smoothing F by the FFT route.
     pit = np.array(
         [
@@ -284,8 +290,9 @@ def test_knuppel_against_hotelling_and_the_periodogram(rng: np.random.Generator)
     hotelling = hotelling_test(d, mean_null=0)
     assert one.statistic == pytest.approx(float(hotelling.statistic), abs=1e-9)
     assert one.pvalue == pytest.approx(float(hotelling.pvalue), abs=1e-12)
-    # checks.md 8.3: iid centred alpha = 0.861693 for moments 1-2; Hotelling's F is
-    # (T - q)/(q T) of it.
+    # Knueppel (2015, JBES 33(2):270-281) alpha = T d-bar' Omega^-1 d-bar with an iid, centred
+    # Omega is 0.861693 for moments 1-2 (statsmodels S_hac_simple with 0 lags, computed
+    # outside the project); Hotelling's F is (T - q)/(q T) of it.
     assert one.statistic == pytest.approx(0.861693 * 18 / 40, abs=1e-6)
     three = stats.knuppel(pit, h=3, moments=2)
     f, p = _periodogram_f(d, 2)
@@ -326,7 +333,8 @@ def test_lags_beyond_the_sample_are_refused_clearly() -> None:
 
 
 def test_encompassing_oracles() -> None:
-    # checks.md 5: HLN98 f1 enc f2: MDM = 3.53547984, one-sided p(t11) = 0.00233483;
+    # Harvey, Leybourne & Newbold (1998), values computed outside the project with numpy and
+    # scipy: f1 enc f2: MDM = 3.53547984, one-sided p(t11) = 0.00233483;
     # f2 enc f1: 4.54532010 (p 0.00041827); f1 enc f3: 1.76510819 (p 0.05262670).
     e1, e2, e3 = Y - F1, Y - F2, Y - F3
     r = stats.encompassing(e1, e2, h=1)
@@ -339,7 +347,7 @@ def test_encompassing_oracles() -> None:
 
 
 def test_multiple_encompassing_oracle() -> None:
-    # checks.md 5: Wald W = 16.90149223; with the divisor-T Omega the exact Hotelling
+    # Wald W = T d-bar' Omega^-1 d-bar = 16.90149223 (numpy); with the divisor-T Omega the exact Hotelling
     # conversion is (T - q)/(q T) W = 10/24 W = 7.04228843 ~ F(2, 10) (Harvey & Newbold
     # 2000; Anderson 2003, Thm 5.2.2). The earlier (T - q)/(q (T - 1)) gave 7.68249647.
     e1, e2, e3 = Y - F1, Y - F2, Y - F3
@@ -354,7 +362,8 @@ def test_multiple_encompassing_oracle() -> None:
     assert r.statistic == pytest.approx(float(hotelling.statistic), abs=1e-9)
     assert r.pvalue == pytest.approx(float(hotelling.pvalue), abs=1e-12)
     assert r.pvalue == pytest.approx(float(st.f.sf(7.04228843, 2, 10)), abs=1e-8)
-    # q = 1: the square of the MDM-style statistic without the h terms (checks.md 5).
+    # q = 1: Hotelling's T^2 of one variable is the square of the one-sample t statistic,
+    # here the MDM-style statistic without the h terms.
     single = stats.encompassing_multiple(e1, e2, h=1)
     assert single.statistic == pytest.approx(stats.encompassing(e1, e2, h=1).statistic ** 2)
 

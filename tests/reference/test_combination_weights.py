@@ -1,9 +1,13 @@
-"""Combination weights against checks.md section 6, statsmodels OLS and scipy's constrained
+"""Combination weights against reference values, statsmodels OLS and scipy's constrained
 least squares.
 
-Oracles ([C] in checks.md): Bates & Granger (1969) inverse-MSE, Aiolfi & Timmermann (2006)
-inverse rank, Granger & Ramanathan (1984) variants (a), (b), (c), for the 12-period example
-of checks.md section 5; Stock & Watson (2004) shrinkage computed by hand from (b).
+Oracles, computed outside the project with numpy, statsmodels OLS and scipy's SLSQP on a
+12-period example with three forecasts (and a fourth that makes non-negativity bind):
+Bates & Granger (1969), Oper. Res. Q. 20:451-468, inverse-MSE; Aiolfi & Timmermann (2006),
+J. Econometrics 135:31-53, inverse rank; Granger & Ramanathan (1984), J. Forecasting
+3:197-204, variants (a) with intercept, (b) sum to one, (c) sum to one and non-negative
+(journal pages recalled from memory); Stock & Watson (2004) shrinkage computed by hand
+from (b).
 """
 
 from __future__ import annotations
@@ -41,12 +45,13 @@ F4 = np.column_stack([F, [2.0, 2.0, 2.2, 2.4, 2.3, 2.4, 2.2, 2.15, 2.45, 2.6, 2.
         ("equal", (1 / 3, 1 / 3, 1 / 3)),
     ],
 )
-def test_checks_oracles(method: str, expected: tuple[float, ...]) -> None:
+def test_weight_oracles(method: str, expected: tuple[float, ...]) -> None:
     assert weights(method, F, Y) == pytest.approx(expected, abs=1e-8)
 
 
 def test_nonnegativity_binds_with_a_fourth_forecast() -> None:
-    # checks.md 6: GR(b) gives f4 a weight of -0.50088722; GR(c) sets it to 0.
+    # Granger & Ramanathan (b) gives f4 a weight of -0.50088722 (statsmodels OLS); (c), the
+    # non-negative solution (scipy SLSQP), sets it to 0 and keeps the three-forecast weights.
     assert weights("ols-sum-to-one", F4, Y) == pytest.approx(
         (1.00086341, 0.29359941, 0.20642440, -0.50088722), abs=1e-7
     )
@@ -60,7 +65,8 @@ def test_ols_matches_statsmodels(rng: np.random.Generator) -> None:
     y = f @ [0.4, 0.3, 0.2, 0.1] + rng.normal(0, 0.3, 60)
     params = sm.OLS(y, sm.add_constant(f)).fit().params
     assert weights("ols", f, y) == pytest.approx(params[1:], abs=1e-8)
-    # Sum to one: regress y - f_k on (f_i - f_k) without a constant (checks.md 6, GR (b)).
+    # Sum to one: regress y - f_k on (f_i - f_k) without a constant (Granger & Ramanathan
+    # 1984, variant (b)).
     beta = sm.OLS(y - f[:, -1], f[:, :-1] - f[:, [-1]]).fit().params
     assert weights("ols-sum-to-one", f, y) == pytest.approx([*beta, 1 - beta.sum()], abs=1e-8)
 
@@ -83,8 +89,8 @@ def test_nonnegative_matches_scipy_constrained_least_squares(rng: np.random.Gene
 
 
 def test_median_and_trimmed_shares() -> None:
-    # checks.md 6: median of [2.0, 2.4, 2.5, 2.9, 3.6] is 2.5 and the 20% trimmed mean 2.6
-    # (scipy.stats.trim_mean cuts one value from each end of five).
+    # The median of [2.0, 2.4, 2.5, 2.9, 3.6] is 2.5 and the 20% trimmed mean 2.6
+    # (scipy.stats.trim_mean(x, 0.2) cuts one value from each end of five).
     row = np.array([[2.9, 2.0, 3.6, 2.5, 2.4]])
     assert row[0] @ weights("median", row, [0.0]) == pytest.approx(2.5)
     assert row[0] @ weights("trimmed", row, [0.0]) == pytest.approx(2.6)

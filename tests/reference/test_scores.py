@@ -1,9 +1,11 @@
-"""Scores and calibration tests against scoringrules, scipy, statsmodels and checks.md.
+"""Scores and calibration tests against scoringrules, scipy, statsmodels and reference values.
 
-Sources: checks.md 8.2 (Berkowitz 2001 LR3 with statsmodels ARIMA), 8.3 (Knueppel 2015),
-8.5 (Brier 1950; Murphy 1973 decomposition; Epstein 1969 RPS), 8.6 (CRPS of the normal,
-Gneiting et al. 2005, and of the two-piece normal; R scoringRules unit tests), and the
-scoringrules package (Zanetta & Allen), an independent implementation.
+Sources: Berkowitz (2001), JBES 19(4):465-474, LR3 (oracle computed outside the project with
+statsmodels' exact AR(1) likelihood); Knueppel (2015), JBES 33(2):270-281; Brier (1950), MWR
+78:1-3, with Murphy's (1973) decomposition; Epstein (1969) RPS; the CRPS of the normal
+(Gneiting, Raftery, Westveld & Goldman 2005, MWR 133:1098-1118) and of the two-piece normal
+(R scoringRules unit tests); and the scoringrules package (Zanetta & Allen), an independent
+implementation.
 """
 
 from __future__ import annotations
@@ -46,7 +48,8 @@ def test_crps_normal() -> None:
     assert float(scores.crps_normal(0.0, 0.1, 0.4)) == pytest.approx(0.10339992515976162, abs=1e-15)
     y = np.linspace(-3, 3, 11)
     assert scores.crps_normal(y, 0.2, 0.7) == pytest.approx(sr.crps_normal(y, 0.2, 0.7), abs=1e-12)
-    # checks.md 8.6: CRPS of N(0, 1) at 0 = (sqrt(2) - 1)/sqrt(pi).
+    # CRPS of N(0, 1) at 0 = (sqrt(2) - 1)/sqrt(pi), the closed form of Gneiting et al. (2005)
+    # at w = 0.
     assert float(scores.crps_normal(0.0, 0.0, 1.0)) == pytest.approx(
         (np.sqrt(2) - 1) / np.sqrt(np.pi), abs=1e-12
     )
@@ -64,7 +67,8 @@ def test_crps_two_piece_normal() -> None:
     assert scores.crps_two_piece_normal(y, 0.1, 0.6, 1.3) == pytest.approx(
         sr.crps_2pnormal(y, 0.6, 1.3, 0.1), abs=1e-10
     )
-    # sigma1 = sigma2 = 1 at y = 1 gives the normal value 0.6024413576 (checks.md 8.6).
+    # sigma1 = sigma2 = 1 at y = 1 gives the normal value 0.6024413576 (the closed form of
+    # Gneiting et al. 2005 at w = 1).
     assert float(scores.crps_two_piece_normal(1.0, 0.0, 1.0, 1.0)) == pytest.approx(
         0.6024413576, abs=1e-9
     )
@@ -128,7 +132,9 @@ def test_crps_numeric_matches_quadrature() -> None:
 
 
 def test_brier_and_murphy_decomposition() -> None:
-    # checks.md 8.5: BS 0.186 = REL 0.008142857 - RES 0.062142857 + UNC 0.24.
+    # Brier (1950) score and Murphy (1973, J. Appl. Meteor. 12:595-600; pages recalled from
+    # memory) decomposition, computed outside the project with numpy:
+    # BS 0.186 = REL 0.008142857 - RES 0.062142857 + UNC 0.24.
     p = [
         0.1,
         0.1,
@@ -164,7 +170,8 @@ def test_brier_and_murphy_decomposition() -> None:
 
 
 def test_rps() -> None:
-    # checks.md 8.5 oracles (unnormalised): 0.53, 0.10, 0.17; and 0.34.
+    # Epstein (1969), J. Appl. Meteor. 8:985-987, not divided by K - 1: 0.53, 0.10, 0.17 (by
+    # hand); 0.34 is the example of the R scoringRules documentation.
     probabilities = np.array([[0.2, 0.5, 0.3], [0.1, 0.6, 0.3], [0.6, 0.3, 0.1], [0.3, 0.2, 0.5]])
     category = np.array([2, 1, 0, 1])
     assert scores.rps(probabilities, category) == pytest.approx([0.53, 0.10, 0.17, 0.34], abs=1e-12)
@@ -175,14 +182,16 @@ def test_rps() -> None:
 
 
 def test_berkowitz_oracle() -> None:
-    # checks.md 8.2: LR3 = 0.990589 (p = 0.803529).
+    # Berkowitz (2001) LR3 = 0.990589 (p = 0.803529), computed outside the project with
+    # statsmodels ARIMA(1, 0, 0) with a constant (exact likelihood) and scipy's chi2.
     result = rstats.berkowitz(PIT)
     assert result.statistic == pytest.approx(0.990589, abs=1e-4)
     assert result.pvalue == pytest.approx(0.803529, abs=1e-4)
 
 
 def test_knuppel_oracles() -> None:
-    # checks.md 8.3: iid centred alpha, moments 1-2: 0.861693; 1-4: 1.152559. One step
+    # Knueppel (2015) alpha with an iid, centred covariance (statsmodels S_hac_simple, 0 lags,
+    # computed outside the project), moments 1-2: 0.861693; 1-4: 1.152559. One step
     # ahead the test reports Hotelling's F = (T - q)/(q T) alpha ~ F(q, T - q) (Anderson
     # 2003, Thm 5.2.2), T = 20.
     two = rstats.knuppel(PIT, h=1, moments=2)

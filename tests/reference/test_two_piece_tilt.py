@@ -1,7 +1,8 @@
 """The judgement skew: a two-piece tilt of a normal is the two-piece normal.
 
-Oracle values: checks.md section 1.2 ([C], checked there by numerical integration to
-1e-10), for the (mu, sigma1, sigma2) form of Wallis (2014), "The two-piece normal, binormal,
+Oracle values computed outside the project with scipy (quadrature of the density, agreeing
+to 1e-10 with the closed-form CDF, quantile function and moments) for the (mu, sigma1,
+sigma2) form of Wallis (2014), "The two-piece normal, binormal,
 or double Gaussian distribution: its origin and rediscoveries", Statistical Science
 29(1):106-112, and John (1982).
 """
@@ -23,7 +24,8 @@ def two_piece(mode: float, sigma1: float, sigma2: float) -> Tilted:
 
 
 def test_moments_and_quantiles_of_checks_table() -> None:
-    # checks.md 1.2 table, row (2.0, 0.8, 1.2).
+    # (mu, sigma1, sigma2) = (2.0, 0.8, 1.2): mean mu + sqrt(2/pi)(sigma2 - sigma1) (Wallis
+    # 2014, John 1982); median and quantiles by scipy quadrature of the density.
     d = two_piece(2.0, 0.8, 1.2)
     assert mean(d) == pytest.approx(2.3191538243, abs=1e-9)
     assert d.ppf(0.5) == pytest.approx(2.2525140731, abs=1e-9)
@@ -33,7 +35,7 @@ def test_moments_and_quantiles_of_checks_table() -> None:
 
 
 def test_negative_skew_row() -> None:
-    # checks.md 1.2 table, row (1.5, 1.3, 0.7).
+    # (mu, sigma1, sigma2) = (1.5, 1.3, 0.7): quantiles by scipy quadrature of the density.
     d = two_piece(1.5, 1.3, 0.7)
     assert d.ppf(0.5) == pytest.approx(1.1186043982, abs=1e-9)
     assert d.ppf([0.05, 0.25, 0.75, 0.95]) == pytest.approx(
@@ -42,7 +44,8 @@ def test_negative_skew_row() -> None:
 
 
 def test_band_probabilities_and_mirror() -> None:
-    # checks.md 1.2: band [1, 3], mode 2.0, sigma1 0.9128709292, sigma2 1.1180339887.
+    # Band [1, 3], mode 2.0, sigma1 0.9128709292, sigma2 1.1180339887 (the Bank of England
+    # sigma = 1 case below); probabilities by scipy quadrature of the density.
     d = two_piece(2.0, 0.9128709292, 1.1180339887)
     p = band_probabilities(d, 1.0, 3.0)
     assert (p.p_below, p.p_inside, p.p_above) == pytest.approx(
@@ -54,8 +57,11 @@ def test_band_probabilities_and_mirror() -> None:
 
 
 def test_tilt_for_skew_reaches_the_mean_minus_mode() -> None:
-    # checks.md 1.1(b): (sigma = 1, mean - mode = 0.1636964377) <-> sigma1 0.9128709292,
-    # sigma2 1.1180339888; here we start from the symmetric normal with the same
+    # Britton, Fisher & Whitley (1998), "The Inflation Report projections: understanding the
+    # fan chart", BoE Quarterly Bulletin 1998Q1: sigma^2 is the harmonic mean of sigma1^2 and
+    # sigma2^2 and the skew is mean - mode = sqrt(2/pi)(sigma2 - sigma1). Solving 1/sigma1^2 +
+    # 1/(sigma1 + delta)^2 = 2 with scipy's brentq maps (sigma = 1, mean - mode =
+    # 0.1636964377) to sigma1 0.9128709292, sigma2 1.1180339888; here we start from the symmetric normal with the same
     # sigma1 + sigma2 and ask the tilt for that mean minus mode.
     s = (0.9128709292 + 1.1180339888) / 2
     base = NormalFit(loc=2.0, scale=s, loglik=0.0, nobs=1)

@@ -1,8 +1,9 @@
 """IPCC AR5 likelihood terms, narrowest range containing p.
 
 Mastrandrea et al. (2010), Guidance Note for Lead Authors of the IPCC Fifth Assessment
-Report on Consistent Treatment of Uncertainties, Table 1; mapping oracles from checks.md
-section 9 (core terms, narrowest-range rule, ties at 33% and 66% to the middle term).
+Report on Consistent Treatment of Uncertainties, Table 1 (core terms); the rule that maps
+p to a term (the narrowest range containing p, ties at 33% and 66% to the middle term) is
+ours, since the guidance's ranges are nested and have "fuzzy" boundaries.
 """
 
 from __future__ import annotations
@@ -39,8 +40,9 @@ def test_out_of_range() -> None:
 
 @pytest.mark.parametrize(
     ("p", "expected"),
-    # checks.md section 9: ICD 203 (2015) table: 0.50 -> roughly even chance, 0.85 -> very
-    # likely, 0.03 -> almost no chance.
+    # Intelligence Community Directive 203, Analytic Standards (ODNI, 2015), table of
+    # likelihood terms: 45-55% roughly even chance, 80-95% very likely, 01-05% almost no
+    # chance, 20-45% unlikely.
     [
         (0.50, "roughly even chance"),
         (0.85, "very likely"),
@@ -56,8 +58,9 @@ def test_icd_203(p: float, expected: str) -> None:
 
 @pytest.mark.parametrize(
     ("p", "expected"),
-    # checks.md section 9: EFSA (2018) scale: 0.97 -> extremely likely; 0.07 -> very
-    # unlikely; 0.50 -> about as likely as not.
+    # EFSA Scientific Committee (2018), "Guidance on Uncertainty Analysis in Scientific
+    # Assessments", EFSA Journal 16(1):5123, approximate probability scale: 95-99% extremely
+    # likely, 5-10% very unlikely, 33-66% about as likely as not, 99-100% almost certain.
     [
         (0.97, "extremely likely"),
         (0.07, "very unlikely"),
