@@ -33,6 +33,7 @@ test: lint
 bench: install
 	$(BIN)/python bench/run.py
 	$(BIN)/python bench/calibration.py
+	$(BIN)/python bench/cache.py
 
 clean:
 	rm -rf $(VENV) out .pytest_cache .mypy_cache .ruff_cache *.egg-info
