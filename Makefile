@@ -34,6 +34,7 @@ bench: install
 	$(BIN)/python bench/run.py
 	$(BIN)/python bench/calibration.py
 	$(BIN)/python bench/generation.py
+	$(BIN)/python bench/cache.py
 
 clean:
 	rm -rf $(VENV) out .pytest_cache .mypy_cache .ruff_cache *.egg-info

@@ -9,6 +9,7 @@ length) and use closed forms or grid searches: no generic optimiser runs per sam
 
 from __future__ import annotations
 
+import contextlib
 import math
 from dataclasses import dataclass, field, replace
 from typing import Any
@@ -511,6 +512,23 @@ def _sn_terms(
     return value, grad, h
 
 
+def _solve_rows(system: np.ndarray, grad: np.ndarray, scale: np.ndarray) -> np.ndarray:
+    """The damped Newton step of every row: ``system[i] @ step[i] = grad[i]``.
+
+    A singular system falls back to a scaled gradient step for that row alone, so each
+    row's path does not depend on the other rows of the batch (the replay cache relies on
+    a row's fit being the same whatever batch it is fitted in).
+    """
+    try:
+        return np.asarray(np.linalg.solve(system, grad[..., None])[..., 0])
+    except np.linalg.LinAlgError:
+        step = grad / scale
+        for i in range(system.shape[0]):
+            with contextlib.suppress(np.linalg.LinAlgError):
+                step[i] = np.linalg.solve(system[i : i + 1], grad[i : i + 1, :, None])[0, :, 0]
+        return step
+
+
 def _sn_newton(x: np.ndarray, theta: np.ndarray, iterations: int = 60) -> tuple[np.ndarray, ...]:
     """Maximise the penalised log-likelihood of every row from ``theta`` by damped Newton
     (Levenberg-Marquardt) steps, all rows at once; rows stop when the gradient vanishes.
@@ -528,10 +546,7 @@ def _sn_newton(x: np.ndarray, theta: np.ndarray, iterations: int = 60) -> tuple[
         assert hess is not None
         scale = np.abs(np.diagonal(hess[rows], axis1=1, axis2=2)) + 1e-12
         system = -hess[rows] + damping[rows, None, None] * (np.eye(3)[None] * scale[:, None, :])
-        try:
-            step = np.linalg.solve(system, grad[rows][..., None])[..., 0]
-        except np.linalg.LinAlgError:
-            step = grad[rows] / scale
+        step = _solve_rows(system, grad[rows], scale)
         step[:, 1] = np.clip(step[:, 1], -2.0, 2.0)  # omega changes at most e^2-fold a step
         trial = theta[rows] + step
         with np.errstate(over="ignore", invalid="ignore"):  # a wild trial is rejected below
@@ -576,15 +591,20 @@ def mode0_batch(alpha: Any) -> np.ndarray:
     """Exact mode of SN(0, 1, alpha) for an array of shapes: Newton on the score
     -z + alpha r(alpha z) = 0 (r = phi/Phi), started at Azzalini's approximation."""
     alpha = np.atleast_1d(np.asarray(alpha, dtype=float))
-    z = np.asarray(skewnormal_mode0(alpha), dtype=float)
+    z = np.array(skewnormal_mode0(alpha), dtype=float)
+    # Each entry stops once its own step is negligible: its value does not depend on the
+    # other entries of the batch.
+    active = np.ones(z.shape, dtype=bool)
     for _ in range(30):
-        t = alpha * z
+        a, zz = alpha[active], z[active]
+        t = a * zz
         r = np.exp(-0.5 * t**2 - 0.5 * np.log(2 * np.pi) - special.log_ndtr(t))
-        score = -z + alpha * r
-        slope = -1 - alpha**2 * r * (t + r)  # always < 0: the log density is concave
+        score = -zz + a * r
+        slope = -1 - a**2 * r * (t + r)  # always < 0: the log density is concave
         step = score / slope
-        z = z - step
-        if np.all(np.abs(step) < 1e-13):
+        z[active] = zz - step
+        active[active] = np.abs(step) >= 1e-13
+        if not active.any():
             break
     return z
 
@@ -628,7 +648,7 @@ def _sn_fixed_newton(x: np.ndarray, theta: np.ndarray, mode: float) -> tuple[np.
         hess = (hess + hess.transpose(0, 2, 1)) / 2
         scale = np.abs(np.diagonal(hess, axis1=1, axis2=2)) + 1e-12
         system = -hess + damping[rows, None, None] * (np.eye(2)[None] * scale[:, None, :])
-        step = np.linalg.solve(system, grad[rows][..., None])[..., 0]
+        step = _solve_rows(system, grad[rows], scale)
         step[:, 0] = np.clip(step[:, 0], -2.0, 2.0)
         trial = theta[rows] + step
         new_value, new_grad = _sn_fixed_terms(x[rows], trial, mode)

@@ -13,6 +13,7 @@ from __future__ import annotations
 import dataclasses
 import warnings
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -24,6 +25,9 @@ from riskreport.distributions import Distribution
 from riskreport.inputs import ErrorQuantiles
 from riskreport.panel import Panel
 from riskreport.prequential import Candidate, PrequentialSelection
+
+if TYPE_CHECKING:
+    from riskreport.replay_cache import ReplayCache
 
 NEAR = 0.05  # |coverage - nominal| the brief calls "near nominal" (common practice, no source)
 
@@ -51,9 +55,16 @@ class Replays:
     graded: str
 
 
-def replays(cfg: Config, panel: Panel, combined: np.ndarray, errors: np.ndarray) -> Replays:
+def replays(
+    cfg: Config,
+    panel: Panel,
+    combined: np.ndarray,
+    errors: np.ndarray,
+    *,
+    cache: ReplayCache | None = None,
+) -> Replays:
     """Replay every family under every configured spread option, select prequentially and,
-    when asked, recalibrate out of sample."""
+    when asked, recalibrate out of sample (``cache``: reuse origins replayed before)."""
     spreads = dynamics.options(cfg.spread)
     # The constant spread is always replayed: it is the baseline of the verdict.
     every = tuple(dict.fromkeys((dynamics.CONSTANT, *spreads)))
@@ -74,6 +85,7 @@ def replays(cfg: Config, panel: Panel, combined: np.ndarray, errors: np.ndarray)
         mode=0.0 if cfg.centre == "forecast" else None,
         band_for=cfg.band_for,
         candidates=replayed,
+        cache=cache,
     )
     chosen = prequential.select(runs, candidates, panel.origins.size)
     graded = candidates[0].label

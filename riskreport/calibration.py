@@ -30,6 +30,7 @@ MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common pract
 NOMINAL = (0.5, 0.9)
 PIT_BINS = 10
 CHUNK = 128  # origins fitted at once in the replay
+PAD = 32  # training samples are NaN padded to a multiple of this many columns
 HORIZON_GROUPS: dict[Frequency, tuple[tuple[int, int], ...]] = {
     "monthly": ((0, 2), (3, 5), (6, 11), (12, 17), (18, 24)),
     "quarterly": ((0, 0), (1, 2), (3, 4), (5, 8)),
@@ -68,7 +69,11 @@ def training(
     usable = np.searchsorted(known, known - h - 1, side="right")
     keep = usable >= MIN_TRAINING
     tests, ends = known[keep], usable[keep]
-    width = min(window, int(ends.max(initial=0))) if window > 0 else int(ends.max(initial=0))
+    # The padding is rounded up to PAD columns: sums over a padded row may differ in the
+    # last bits with its width, so a width that stays put as the history grows lets later
+    # rounds reuse the replayed origins of earlier ones (riskreport.replay_cache).
+    longest = -(-int(ends.max(initial=0)) // PAD) * PAD
+    width = min(window, longest) if window > 0 else longest
     matrix = np.full((tests.size, max(width, 1)), np.nan)
     for row, end in enumerate(ends):
         start = max(0, end - width)

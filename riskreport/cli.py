@@ -38,6 +38,15 @@ def demo_config() -> Path:
     return Path(str(resources.files("example_inputs"))) / "config.toml"
 
 
+def _cache_option(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument(
+        "--no-cache",
+        dest="cache",
+        action="store_false",
+        help="neither read nor write the cache in the output folder (.riskreport.cache/)",
+    )
+
+
 def _parser() -> argparse.ArgumentParser:
     common = argparse.ArgumentParser(add_help=False)
     noise = common.add_mutually_exclusive_group()
@@ -57,6 +66,7 @@ def _parser() -> argparse.ArgumentParser:
     demo = sub.add_parser("demo", parents=[common], help="the invented scenario, end to end")
     demo.add_argument("--out", type=Path, default=Path("riskreport-demo"), help="output folder")
     demo.add_argument("--force", action="store_true", help="replace existing outputs")
+    _cache_option(demo)
 
     build = sub.add_parser("build", parents=[common], help="build the brief of a config")
     build.add_argument("config", type=Path)
@@ -68,6 +78,7 @@ def _parser() -> argparse.ArgumentParser:
         type=Path,
         help="an earlier assessment JSON to compare with (default: the latest earlier one in the output folder)",
     )
+    _cache_option(build)
 
     backtest = sub.add_parser(
         "backtest", parents=[common], help="accuracy and tests only (tables to stdout and CSV)"
@@ -94,6 +105,7 @@ def _parser() -> argparse.ArgumentParser:
         "--out", type=Path, help="output folder (default: each config's [output] directory)"
     )
     batch.add_argument("--force", action="store_true", help="replace existing briefs")
+    _cache_option(batch)
 
     compare = sub.add_parser(
         "compare", parents=[common], help="the change in P(inside) between any two rounds"
@@ -170,10 +182,15 @@ def _record_failure(out_dir: Path, record: dict[str, Any], exc: BaseException) -
 
 
 def _build(
-    config: Path, out: Path | None, as_of: str | None, force: bool, previous: Path | None = None
+    config: Path,
+    out: Path | None,
+    as_of: str | None,
+    force: bool,
+    previous: Path | None = None,
+    cache: bool = True,
 ) -> dict[str, Any]:
+    from riskreport import change, folder, outputs, periods, pipeline, replay_cache
     from riskreport import config as config_module
-    from riskreport import folder, outputs, periods, pipeline
 
     out_dir = out.resolve() if out is not None else None
     record: dict[str, Any] = {
@@ -193,14 +210,24 @@ def _build(
         # One writer at a time, from reading the previous brief to the run record. A folder
         # that does not exist yet is made only once the inputs are known to be good.
         existed = out_dir.is_dir()
+        replays = replay_cache.ReplayCache(out_dir) if cache else None
+        key = None
         with folder.locked(out_dir) if existed else contextlib.nullcontext():
             if previous is not None:
                 folder.check_listed(previous.resolve())
-            assessment = pipeline.assess_config(cfg, previous=previous, search=out_dir)
+            if cache and existed:
+                key = _build_key(cfg, previous or change.find_previous(out_dir, record["as_of"]))
+                again = replay_cache.unchanged(out_dir, key, record["as_of"])
+                if again is not None:
+                    return _rerun(out_dir, record, again)
+                replays = replay_cache.ReplayCache.load(out_dir)
+            assessment = pipeline.assess_config(
+                cfg, previous=previous, search=out_dir, cache=replays
+            )
         with folder.locked(out_dir):
             if not existed and previous is None and folder.rounds(out_dir):
                 # Another run made the folder meanwhile: compare with what it wrote.
-                assessment = pipeline.assess_config(cfg, search=out_dir)
+                assessment = pipeline.assess_config(cfg, search=out_dir, cache=replays)
             log.info("assessed %s: %d horizons", assessment.as_of, len(assessment.horizons))
             record["as_of"] = assessment.as_of
             record["inputs"] = {i.role: i.sha256 for i in assessment.inputs}
@@ -223,6 +250,23 @@ def _build(
                     "exit_status": EXIT_OK,
                 },
             )
+            if replays is not None:
+                replays.save()
+                log.debug("replay: %d past origins reused, %d fitted", replays.hits, replays.misses)
+                key = key or _build_key(
+                    cfg, previous or change.find_previous(out_dir, assessment.as_of)
+                )
+                replay_cache.remember(
+                    out_dir,
+                    key,
+                    assessment.as_of,
+                    {
+                        "order": [str(p.relative_to(out_dir)) for p in written.paths],
+                        "inputs": record["inputs"],
+                        "headline": _headline(assessment),
+                        "warnings": list(assessment.warnings),
+                    },
+                )
     except BaseException as exc:
         if out_dir is not None and out_dir.is_dir():
             _record_failure(out_dir, record, exc)
@@ -239,6 +283,39 @@ def _build(
         "outputs": listed,
         "headline": _headline(assessment),
         "warnings": list(assessment.warnings),
+    }
+
+
+def _build_key(cfg: Any, previous: Path | None) -> str:
+    """The digest of everything the build's files are made from (see replay_cache)."""
+    from riskreport import periods, replay_cache
+
+    inputs = {"forecasts": cfg.forecasts, "actuals": cfg.actuals}
+    if cfg.error_quantiles:
+        inputs["error_quantiles"] = cfg.error_quantiles
+    label = periods.label(cfg.as_of, cfg.frequency)
+    return replay_cache.build_key(cfg.path, label, inputs, previous, cfg.formats)
+
+
+def _rerun(out_dir: Path, record: dict[str, Any], again: dict[str, Any]) -> dict[str, Any]:
+    """An identical re-run: the folder already holds exactly this build's files. Only the
+    run record is written (as for any build that changes nothing)."""
+    from riskreport import folder
+
+    files = again["files"]
+    order = [n for n in again.get("order", []) if n in files] or sorted(files)
+    outputs = [{"path": name, "sha256": files[name]} for name in order]
+    folder.append_record(
+        out_dir,
+        {**record, "inputs": again["inputs"], "outputs": outputs, "exit_status": EXIT_OK},
+    )
+    log.info("inputs, config and software unchanged: %s is up to date", out_dir)
+    return {
+        "status": "ok",
+        "as_of": record["as_of"],
+        "outputs": [{"path": str(out_dir / o["path"]), "sha256": o["sha256"]} for o in outputs],
+        "headline": again["headline"],
+        "warnings": list(again["warnings"]),
     }
 
 
@@ -334,14 +411,19 @@ def _periods_between(text: str) -> list[str]:
 
 
 def _one_config(
-    config: Path, months: list[str] | None, out: Path | None, force: bool, verbose: bool
+    config: Path,
+    months: list[str] | None,
+    out: Path | None,
+    force: bool,
+    verbose: bool,
+    cache: bool = True,
 ) -> list[dict[str, Any]]:
     """Every brief of one config, in period order; each failure is recorded, not raised."""
     results = []
     rounds: list[str | None] = list(months) if months else [None]
     for as_of in progress.bar(rounds, config.name) if len(rounds) > 1 else rounds:
         try:
-            summary = _build(config, out, as_of, force)
+            summary = _build(config, out, as_of, force, cache=cache)
             code = EXIT_OK
         except Exception as exc:  # one brief failing must not stop the others
             code = exit_code(exc)
@@ -373,14 +455,16 @@ def _batch(args: argparse.Namespace) -> dict[str, Any]:
         # Each config in its own short-lived worker: weasyprint's memory goes with it.
         with ProcessPoolExecutor(max_workers=args.jobs, max_tasks_per_child=1) as pool:
             futures = [
-                pool.submit(_one_config, c, months, args.out, args.force, args.verbose)
+                pool.submit(_one_config, c, months, args.out, args.force, args.verbose, args.cache)
                 for c in configs
             ]
             for future in futures:
                 results.extend(future.result())
     else:
         for config in configs:
-            results.extend(_one_config(config, months, args.out, args.force, args.verbose))
+            results.extend(
+                _one_config(config, months, args.out, args.force, args.verbose, args.cache)
+            )
     worst = max(r["exit_code"] for r in results)
     return {
         "status": "ok" if worst == 0 else "error",
@@ -397,12 +481,12 @@ def _run(args: argparse.Namespace) -> dict[str, Any]:
         return _backtest(args.config, args.out, args.as_of, args.force)
     if args.command == "demo":
         # Two rounds, so the demo brief shows what changed since the previous one.
-        _build(demo_config(), args.out, DEMO_PREVIOUS_ROUND, args.force)
-        return _build(demo_config(), args.out, None, args.force)
+        _build(demo_config(), args.out, DEMO_PREVIOUS_ROUND, args.force, cache=args.cache)
+        return _build(demo_config(), args.out, None, args.force, cache=args.cache)
     if args.command == "compare":
         return _compare(args.old, args.new)
     if args.command == "build":
-        return _build(args.config, args.out, args.as_of, args.force, args.previous)
+        return _build(args.config, args.out, args.as_of, args.force, args.previous, args.cache)
     return _check(args.config, args.as_of)
 
 

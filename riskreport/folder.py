@@ -34,6 +34,7 @@ import hashlib
 import json
 import logging
 import os
+import secrets
 import shutil
 import tempfile
 import time
@@ -129,6 +130,20 @@ def _write_new(path: Path, content: bytes) -> None:
         handle.write(content)
         handle.flush()
         os.fsync(handle.fileno())
+
+
+def replace_file(directory: Path, name: str, content: bytes) -> None:
+    """Write ``directory/name`` atomically: a new file under a temporary name in the same
+    folder (created exclusively, never through a link), flushed, then renamed over ``name``
+    (a link there is replaced, not followed). Readers see the old content or the new."""
+    temporary = directory / f".{name}.{os.getpid()}-{secrets.token_hex(4)}.tmp"
+    _write_new(temporary, content)
+    try:
+        os.replace(temporary, directory / name)
+    except BaseException:
+        with contextlib.suppress(FileNotFoundError):
+            temporary.unlink()
+        raise
 
 
 def _lock_timeout() -> float:

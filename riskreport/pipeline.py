@@ -60,6 +60,7 @@ from riskreport.inputs import (
     read_forecasts,
 )
 from riskreport.panel import window_mask
+from riskreport.replay_cache import ReplayCache
 from riskreport.track_record import error_matrix, evaluate
 
 HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
@@ -403,17 +404,21 @@ def _adjustments(
 
 
 def assess_config(
-    cfg: Config, *, previous: Path | None = None, search: Path | None = None
+    cfg: Config,
+    *,
+    previous: Path | None = None,
+    search: Path | None = None,
+    cache: ReplayCache | None = None,
 ) -> Assessment:
     """Run the whole method on a validated configuration (see :func:`assess`).
 
     The change since the previous brief compares with ``previous`` (an assessment JSON) or
     else with the latest earlier ``assessment-*.json`` in ``search`` (default: the config's
-    output directory).
+    output directory). ``cache`` reuses past origins of the replay computed before.
     """
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", RiskReportWarning)
-        assessment = _assess(cfg)
+        assessment = _assess(cfg, cache)
     notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]
     source = previous or change_module.find_previous(
         search or cfg.output_directory, assessment.as_of
@@ -490,7 +495,7 @@ def _warn_range(method: str, combo: combination_module.Combination) -> None:
         )
 
 
-def _assess(cfg: Config) -> Assessment:
+def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of, cfg.max_abs_value)
     act = read_actuals(
         cfg.actuals,
@@ -523,7 +528,7 @@ def _assess(cfg: Config) -> Assessment:
     point = combo.combined[-1, : cfg.horizons + 1]
     screening.require_current(cfg, point)
     errors = error_matrix(combo.combined, panel.outcomes)
-    replayed = adjustments_module.replays(cfg, panel, combo.combined, errors)
+    replayed = adjustments_module.replays(cfg, panel, combo.combined, errors, cache=cache)
     runs = replayed.runs
     today = replayed.selection.current
     choice = (
@@ -628,7 +633,11 @@ def _assess(cfg: Config) -> Assessment:
 
 
 def assess(
-    config_path: str | Path, *, as_of: str | None = None, previous: str | Path | None = None
+    config_path: str | Path,
+    *,
+    as_of: str | None = None,
+    previous: str | Path | None = None,
+    cache: ReplayCache | None = None,
 ) -> Assessment:
     """Compute every number of a brief; no files are written.
 
@@ -641,6 +650,10 @@ def assess(
     previous
         An earlier assessment JSON to compare with; by default the latest earlier one in
         the config's output directory, if any.
+    cache
+        A :class:`~riskreport.replay_cache.ReplayCache` (e.g. ``ReplayCache.load(folder)``)
+        whose replayed past origins are reused and which collects the new ones; nothing is
+        written unless its ``save()`` is called. Results are the same with or without it.
 
     Returns
     -------
@@ -653,4 +666,6 @@ def assess(
         On any bad input or configuration.
     """
     cfg = config_module.load_config(config_path, as_of)
-    return assess_config(cfg, previous=Path(previous) if previous is not None else None)
+    return assess_config(
+        cfg, previous=Path(previous) if previous is not None else None, cache=cache
+    )

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -24,6 +25,9 @@ from riskreport.calibration import HorizonReplay
 from riskreport.config import Band
 from riskreport.dynamics import SpreadOption
 from riskreport.panel import Panel
+
+if TYPE_CHECKING:
+    from riskreport.replay_cache import ReplayCache
 
 SELECTED = "auto"  # the label of the selected sequence in the replay
 
@@ -89,12 +93,15 @@ def replay(
     mode: float | None,
     band_for: Callable[[int], Band],
     candidates: tuple[Candidate, ...],
+    cache: ReplayCache | None = None,
 ) -> dict[tuple[str, int], HorizonReplay]:
     """Replay every candidate at every horizon, keyed by (candidate label, h).
 
     A constant-spread candidate is the plain replay of its family; an EWMA candidate trains
-    on standardised errors and rescales by the volatility of each evaluation origin.
+    on standardised errors and rescales by the volatility of each evaluation origin. With a
+    ``cache``, origins replayed before with identical inputs are taken from it.
     """
+    replay_horizon = calibration.replay_horizon if cache is None else cache.replay_horizon
     spreads = list(dict.fromkeys(c.spread for c in candidates))
     standardised = {s: dynamics.standardise(errors, s) for s in spreads}
     out: dict[tuple[str, int], HorizonReplay] = {}
@@ -124,7 +131,7 @@ def replay(
                 at = np.where(np.isfinite(at), at, 1.0)
             for c in candidates:
                 if c.spread == spread:
-                    out[(c.label, h)] = calibration.replay_horizon(
+                    out[(c.label, h)] = replay_horizon(
                         c.family, shared, mode=mode, scale=at, label=c.label
                     )
     return out

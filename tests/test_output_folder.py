@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import folder
+from riskreport import folder, replay_cache
 from tests.conftest import REPO, Case, Result
 
 AS_OF = "2024-12"
@@ -24,13 +24,15 @@ HIDDEN = (folder.LOCK_NAME, folder.RUNS_NAME)
 
 
 def _round(out: Path) -> dict[str, bytes]:
-    """The files of the folder a reader could see, without the run record and the lock."""
+    """The files of the folder a reader could see, without the run record, the lock and the
+    cache (not part of any round)."""
     return {
         p.relative_to(out).as_posix(): p.read_bytes()
         for p in sorted(out.rglob("*"))
         if p.is_file()
         and p.name not in HIDDEN
         and not p.relative_to(out).parts[0].startswith(folder.STAGING_PREFIX)
+        and p.relative_to(out).parts[0] != replay_cache.FOLDER
     }
 
 
