@@ -185,7 +185,50 @@ def load(path: Path) -> dict[str, Any]:
         raise InputError(
             f"cannot read the previous brief's assessment ({exc})", file=path
         ) from None
+    if not isinstance(data["as_of"], str) or not isinstance(data["horizons"], list):
+        raise InputError("expected 'as_of' text and a 'horizons' list", file=path)
+    for i, row in enumerate(data["horizons"], start=1):
+        _check_row(path, i, row)
     return data
+
+
+def _check_row(path: Path, i: int, row: object) -> None:
+    """Refuse a horizon row whose numbers could not come from a brief (an edited file):
+    else the change since it would be printed from them silently, or crash."""
+
+    def bad(column: str, expected: str) -> InputError:
+        return InputError(f"expected {expected}", file=path, row=i, column=f"horizons.{column}")
+
+    if not isinstance(row, dict):
+        raise bad("", "an object per horizon")
+    if not isinstance(row.get("period"), str):
+        raise bad("period", "a period label")
+    for key in ("centre", "p_inside"):
+        value = row.get(key)
+        if isinstance(value, bool) or not isinstance(value, int | float):
+            raise bad(key, "a number")
+        if not np.isfinite(value) or (key == "p_inside" and not 0 <= value <= 1):
+            raise bad(key, "a finite number" + (" from 0 to 1" if key == "p_inside" else ""))
+    band = row.get("band")
+    if not (
+        isinstance(band, list)
+        and len(band) == 2
+        and all(isinstance(v, int | float) and not isinstance(v, bool) for v in band)
+        and np.all(np.isfinite(band))
+        and band[0] < band[1]
+    ):
+        raise bad("band", "[lower, upper], finite numbers with lower < upper")
+    try:
+        shape = side(row)
+    except (KeyError, TypeError, ValueError, AttributeError):
+        raise bad("percentiles", f"{len(PERCENTILES)} percentiles or a quantiles object") from None
+    if (row.get("percentiles") and len(shape.offsets) != len(PERCENTILES)) or len(
+        shape.offsets
+    ) < 2:
+        raise bad("percentiles", f"{len(PERCENTILES)} percentiles or at least two quantiles")
+    ok = np.all(np.isfinite(shape.offsets)) and np.all(np.diff(shape.offsets) >= 0)
+    if not ok or not np.all((shape.levels > 0) & (shape.levels < 1)):
+        raise bad("percentiles", "finite quantiles, non-decreasing, at levels inside (0, 1)")
 
 
 def compare(previous: dict[str, Any], current_rows: list[dict[str, Any]]) -> dict[str, Any]:

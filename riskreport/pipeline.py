@@ -478,6 +478,7 @@ def assess_config(
     change = None
     if source is not None:
         earlier = change_module.load(source)
+        _check_earlier(source, earlier["as_of"], cfg)
         change = change_module.compare(
             earlier, [dataclasses.asdict(r) for r in assessment.horizons]
         )
@@ -492,6 +493,20 @@ def assess_config(
     return dataclasses.replace(
         assessment, warnings=tuple(dict.fromkeys(notes)), change=change, round_history=rounds
     )
+
+
+def _check_earlier(path: Path, text: str, cfg: Config) -> None:
+    """The brief compared with must be an earlier (or the same, e.g. a draft) round at the
+    same frequency: a later or other-frequency file would print a "change since" that is
+    no such thing."""
+    parsed = periods.parse(text)
+    if parsed is None or parsed.frequency != cfg.frequency or parsed.ordinal > cfg.as_of:
+        raise InputError(
+            f"the previous brief is for {text!r}; expected a {cfg.frequency} round not "
+            f"later than {periods.label(cfg.as_of, cfg.frequency)}",
+            file=path,
+            column="as_of",
+        )
 
 
 def _horizon_list(horizons: list[int]) -> str:
