@@ -151,7 +151,9 @@ def find_previous(directory: Path, as_of: str) -> Path | None:
     from riskreport import folder
 
     for earlier in reversed(folder.rounds(directory)):
-        if earlier >= as_of:
+        # Labels of one frequency sort in time order; a round of the other frequency
+        # ("2024-Q3" beside "2024-10") is not an earlier round of this one.
+        if earlier >= as_of or ("Q" in earlier) != ("Q" in as_of):
             continue
         name = f"assessment-{earlier}.json"
         entries = folder.verified(directory, earlier)
@@ -164,7 +166,7 @@ def find_previous(directory: Path, as_of: str) -> Path | None:
     unlisted = [
         p.name
         for p in directory.glob("assessment-*.json")
-        if p.stem.removeprefix("assessment-") < as_of
+        if p.stem.removeprefix("assessment-") < as_of and ("Q" in p.stem) == ("Q" in as_of)
     ]
     if unlisted:
         log.warning(

@@ -478,7 +478,8 @@ def assess_config(
     change = None
     if source is not None:
         earlier = change_module.load(source)
-        _check_earlier(source, earlier["as_of"], cfg)
+        if previous is not None:
+            _check_earlier(source, earlier["as_of"], cfg)
         change = change_module.compare(
             earlier, [dataclasses.asdict(r) for r in assessment.horizons]
         )

@@ -71,3 +71,21 @@ def test_a_later_previous_brief_is_refused(
     assert "monthly round not later than 2024-12" in result.stderr
     assert len(result.stderr.strip().splitlines()) == 1
     assert not (tmp_path / "b").exists()
+
+
+def test_a_round_of_the_other_frequency_is_not_the_previous_brief(
+    case: Case, tmp_path: Path, run: Callable[..., Result]
+) -> None:
+    # Labels sort in time order only within one frequency: "2024-12" < "2024-Q4" as text,
+    # so a quarterly round took a monthly brief in the same folder as its previous one.
+    from tests import quarterly_world as qw
+
+    out = tmp_path / "out"
+    assert run("build", case.write(), "--out", out, "-q").code == 0
+    (tmp_path / "q").mkdir()
+    world = qw.write(tmp_path / "q", simulations=2000)
+    result = run("build", world.config, "--out", out, "-q")
+    assert result.code == 0, result.stderr
+    data = json.loads((out / "assessment-2024-Q4.json").read_text("utf-8"))
+    assert data["change"] is None
+    assert [r["as_of"] for r in data["round_history"]] == ["2024-Q4"]
