@@ -101,9 +101,11 @@ def _refuse_links(out_dir: Path, name: str) -> None:
     for i in range(1, len(parts) + 1):
         path = out_dir.joinpath(*parts[:i])
         if path.is_symlink():
+            # The message names the folder holding the link (e.g. .../out/tables), and
+            # says what was not written: a failed build still records its failure line.
             raise LinkRefused(
-                f"is a symbolic link in {out_dir}; riskreport does not write "
-                "through links (remove the link; nothing was written)",
+                f"is a symbolic link in {path.parent}; riskreport does not write "
+                "through links (remove the link; no file of the round was written)",
                 file=path,
             )
 
@@ -198,7 +200,7 @@ def locked(out_dir: Path) -> Iterator[None]:
                     raise FolderBusy(
                         f"output folder {key} is in use by another riskreport run "
                         f"(waited {timeout:g} s; set {LOCK_TIMEOUT_VARIABLE} to wait longer; "
-                        "nothing was written)"
+                        "no file of the round was written)"
                     ) from None
                 time.sleep(0.05)
         _held[key] = (fd, 1)
@@ -365,9 +367,10 @@ def _plan(
         if existing == content:
             continue
         if existing is not None and not force:
+            where = Path(out_dir.name, name).parent.as_posix()
             raise OverwriteRefused(
-                f"{name} already exists in {out_dir.name}/ with different content; "
-                "use --force to replace it (nothing was written)",
+                f"already exists in {where}/ with different content; use --force to "
+                "replace it (no file of the round was written)",
                 file=out_dir / name,
             )
         changed[name] = content
