@@ -151,7 +151,9 @@ def find_previous(directory: Path, as_of: str) -> Path | None:
     from riskreport import folder
 
     for earlier in reversed(folder.rounds(directory)):
-        if earlier >= as_of:
+        # Labels of one frequency sort in time order; a round of the other frequency
+        # ("2024-Q3" beside "2024-10") is not an earlier round of this one.
+        if earlier >= as_of or ("Q" in earlier) != ("Q" in as_of):
             continue
         name = f"assessment-{earlier}.json"
         entries = folder.verified(directory, earlier)
@@ -164,7 +166,7 @@ def find_previous(directory: Path, as_of: str) -> Path | None:
     unlisted = [
         p.name
         for p in directory.glob("assessment-*.json")
-        if p.stem.removeprefix("assessment-") < as_of
+        if p.stem.removeprefix("assessment-") < as_of and ("Q" in p.stem) == ("Q" in as_of)
     ]
     if unlisted:
         log.warning(
@@ -185,7 +187,50 @@ def load(path: Path) -> dict[str, Any]:
         raise InputError(
             f"cannot read the previous brief's assessment ({exc})", file=path
         ) from None
+    if not isinstance(data["as_of"], str) or not isinstance(data["horizons"], list):
+        raise InputError("expected 'as_of' text and a 'horizons' list", file=path)
+    for i, row in enumerate(data["horizons"], start=1):
+        _check_row(path, i, row)
     return data
+
+
+def _check_row(path: Path, i: int, row: object) -> None:
+    """Refuse a horizon row whose numbers could not come from a brief (an edited file):
+    else the change since it would be printed from them silently, or crash."""
+
+    def bad(column: str, expected: str) -> InputError:
+        return InputError(f"expected {expected}", file=path, row=i, column=f"horizons.{column}")
+
+    if not isinstance(row, dict):
+        raise bad("", "an object per horizon")
+    if not isinstance(row.get("period"), str):
+        raise bad("period", "a period label")
+    for key in ("centre", "p_inside"):
+        value = row.get(key)
+        if isinstance(value, bool) or not isinstance(value, int | float):
+            raise bad(key, "a number")
+        if not np.isfinite(value) or (key == "p_inside" and not 0 <= value <= 1):
+            raise bad(key, "a finite number" + (" from 0 to 1" if key == "p_inside" else ""))
+    band = row.get("band")
+    if not (
+        isinstance(band, list)
+        and len(band) == 2
+        and all(isinstance(v, int | float) and not isinstance(v, bool) for v in band)
+        and np.all(np.isfinite(band))
+        and band[0] < band[1]
+    ):
+        raise bad("band", "[lower, upper], finite numbers with lower < upper")
+    try:
+        shape = side(row)
+    except (KeyError, TypeError, ValueError, AttributeError):
+        raise bad("percentiles", f"{len(PERCENTILES)} percentiles or a quantiles object") from None
+    if (row.get("percentiles") and len(shape.offsets) != len(PERCENTILES)) or len(
+        shape.offsets
+    ) < 2:
+        raise bad("percentiles", f"{len(PERCENTILES)} percentiles or at least two quantiles")
+    ok = np.all(np.isfinite(shape.offsets)) and np.all(np.diff(shape.offsets) >= 0)
+    if not ok or not np.all((shape.levels > 0) & (shape.levels < 1)):
+        raise bad("percentiles", "finite quantiles, non-decreasing, at levels inside (0, 1)")
 
 
 def compare(previous: dict[str, Any], current_rows: list[dict[str, Any]]) -> dict[str, Any]:

@@ -12,7 +12,7 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any, TypeVar, cast
 
-from riskreport import periods
+from riskreport import dynamics, periods
 from riskreport._typing import (
     BASES,
     CENTRES,
@@ -483,6 +483,15 @@ def load(path: str | Path) -> Config:
             )
     directory = output._get("directory", str, "a folder path", "out")
     shrinkage = _shrinkage(combination)
+    spread = cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant"))
+    if spread == "ewma" and distribution not in ("auto", *dynamics.FAMILIES):
+        # The replay offers the time-varying spread only with these laws: no candidate
+        # would be left to choose from (was an IndexError, exit 1).
+        raise uncertainty.error(
+            "spread",
+            f"'ewma' is offered with distribution = {' or '.join(dynamics.FAMILIES)} "
+            f"(or auto), not {distribution}; use spread = 'auto' or 'constant'",
+        )
 
     return Config(
         path=path,
@@ -519,7 +528,7 @@ def load(path: str | Path) -> Config:
         formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
         combination_shrinkage=shrinkage,
         max_abs_value=bound,
-        spread=cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant")),
+        spread=spread,
         recalibrate=uncertainty.flag("recalibrate", False),
         recalibration=cast(
             RecalibrationMethod,

@@ -102,9 +102,11 @@ def _refuse_links(out_dir: Path, name: str) -> None:
     for i in range(1, len(parts) + 1):
         path = out_dir.joinpath(*parts[:i])
         if path.is_symlink():
+            # The message names the folder holding the link (e.g. .../out/tables), and
+            # says what was not written: a failed build still records its failure line.
             raise LinkRefused(
-                f"is a symbolic link in {out_dir}; riskreport does not write "
-                "through links (remove the link; nothing was written)",
+                f"is a symbolic link in {path.parent}; riskreport does not write "
+                "through links (remove the link; no file of the round was written)",
                 file=path,
             )
 
@@ -213,7 +215,7 @@ def locked(out_dir: Path) -> Iterator[None]:
                     raise FolderBusy(
                         f"output folder {key} is in use by another riskreport run "
                         f"(waited {timeout:g} s; set {LOCK_TIMEOUT_VARIABLE} to wait longer; "
-                        "nothing was written)"
+                        "no file of the round was written)"
                     ) from None
                 time.sleep(0.05)
         _held[key] = (fd, 1)
@@ -227,14 +229,26 @@ def locked(out_dir: Path) -> Iterator[None]:
         os.close(fd)  # closing the descriptor releases the lock
 
 
+def _inside(name: str) -> bool:
+    """True when ``name`` is a plain relative path that stays inside the output folder.
+
+    Manifests and journals are files in the folder that anyone may have edited; a name
+    that is absolute or climbs out (``..``) would make ``--force`` remove, or recovery
+    move, a file elsewhere, so such a name makes the whole manifest untrusted.
+    """
+    parts = name.split("/")
+    return bool(name) and "\\" not in name and all(p not in ("", ".", "..") for p in parts)
+
+
 def _parse_manifest(content: bytes | None) -> dict[str, str] | None:
     if content is None:
         return None
     try:
         data = json.loads(content.decode("utf-8"))
-        return {str(e["path"]): str(e["sha256"]) for e in data["files"]}
-    except (ValueError, KeyError, TypeError):
+        entries = {str(e["path"]): str(e["sha256"]) for e in data["files"]}
+    except (ValueError, KeyError, TypeError, AttributeError):
         return None
+    return entries if all(_inside(name) for name in entries) else None
 
 
 def _manifest_bytes(as_of: str, entries: Mapping[str, str]) -> bytes:
@@ -294,14 +308,30 @@ def recover(out_dir: Path) -> None:
     for staging in sorted(out_dir.glob(STAGING_PREFIX + "*")):
         if not staging.is_dir() or staging.is_symlink():
             continue
-        journal = _read(staging / JOURNAL_NAME)
-        if journal is None:
+        plan = _parse_journal(_read(staging / JOURNAL_NAME))
+        if plan is None:
             log.info("removed the staging folder of an interrupted run: %s", staging.name)
         else:
-            plan = json.loads(journal.decode("utf-8"))
             log.info("completed the round %s of an interrupted run", plan["as_of"])
             _switch(out_dir, staging, plan)
         shutil.rmtree(staging, ignore_errors=True)
+
+
+def _parse_journal(content: bytes | None) -> dict[str, object] | None:
+    """The plan in a staging folder's journal; None when absent or not one this module
+    wrote (unreadable, or naming a file outside the folder: see :func:`_inside`)."""
+    if content is None:
+        return None
+    try:
+        plan = json.loads(content.decode("utf-8"))
+        names = [str(plan["manifest"]), *plan["files"], *plan["remove"]]
+        str(plan["as_of"])
+    except (ValueError, KeyError, TypeError, AttributeError):
+        return None
+    lists = isinstance(plan["files"], list) and isinstance(plan["remove"], list)
+    if not lists or not all(isinstance(n, str) and _inside(n) for n in names):
+        return None
+    return dict(plan)
 
 
 def _switch(out_dir: Path, staging: Path, plan: Mapping[str, object]) -> None:
@@ -352,9 +382,10 @@ def _plan(
         if existing == content:
             continue
         if existing is not None and not force:
+            where = Path(out_dir.name, name).parent.as_posix()
             raise OverwriteRefused(
-                f"{name} already exists in {out_dir.name}/ with different content; "
-                "use --force to replace it (nothing was written)",
+                f"already exists in {where}/ with different content; use --force to "
+                "replace it (no file of the round was written)",
                 file=out_dir / name,
             )
         changed[name] = content

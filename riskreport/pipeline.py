@@ -49,6 +49,7 @@ from riskreport.errors import (
     CombinationFallbackWarning,
     CombinationRangeWarning,
     HeadlineBasisWarning,
+    InputError,
     RiskReportWarning,
 )
 from riskreport.inputs import (
@@ -426,6 +427,8 @@ def assess_config(
     change = None
     if source is not None:
         earlier = change_module.load(source)
+        if previous is not None:
+            _check_earlier(source, earlier["as_of"], cfg)
         change = change_module.compare(
             earlier, [dataclasses.asdict(r) for r in assessment.horizons]
         )
@@ -461,6 +464,20 @@ def _year_history(
     return history_module.year_points(
         directory or cfg.output_directory, assessment.as_of, year, basis, float(now["p_inside"])
     )
+
+
+def _check_earlier(path: Path, text: str, cfg: Config) -> None:
+    """The brief compared with must be an earlier (or the same, e.g. a draft) round at the
+    same frequency: a later or other-frequency file would print a "change since" that is
+    no such thing."""
+    parsed = periods.parse(text)
+    if parsed is None or parsed.frequency != cfg.frequency or parsed.ordinal > cfg.as_of:
+        raise InputError(
+            f"the previous brief is for {text!r}; expected a {cfg.frequency} round not "
+            f"later than {periods.label(cfg.as_of, cfg.frequency)}",
+            file=path,
+            column="as_of",
+        )
 
 
 def _horizon_list(horizons: list[int]) -> str:

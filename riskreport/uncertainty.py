@@ -154,6 +154,16 @@ def build(
     columns = [errors[mask[:, h], h] for h in range(cfg.horizons + 1)]
     given_h = given.by_horizon if given is not None else {}
     for h, column in enumerate(columns):
+        known = int(np.isfinite(errors[:, h]).sum())
+        if column.size < 2 and h not in given_h and known >= 2:
+            # The track record exists; the configured window is what leaves too little.
+            raise InputError(
+                f"the window of {cfg.window} past origins leaves {column.size} known "
+                f"error(s) at horizon {h} ({known} in the whole track record); expected a "
+                "window that holds at least 2 (0 = all)",
+                file=cfg.path,
+                column="[uncertainty] window",
+            )
         if column.size < 2 and h not in given_h:
             raise InputError(
                 f"horizon {h} has no track record: {column.size} past forecast(s) of that "

@@ -155,6 +155,47 @@ def test_forced_round_replaces_the_whole_round(case: Case, run: Callable[..., Re
     assert _manifest_matches(out, files)
 
 
+@pytest.mark.parametrize("name", ["../precious.txt", "ABSOLUTE"])
+def test_force_never_removes_a_file_outside_the_folder(
+    case: Case, run: Callable[..., Result], name: str
+) -> None:
+    # Regression: an edited manifest listing "../x" or an absolute path made --force
+    # unlink that file as a "stale" file of the replaced round (Path / "/abs" is "/abs").
+    config = case.write()
+    out = case.folder / "out"
+    assert run("build", config, "--out", out, "-q").code == 0
+    precious = case.folder / "precious.txt"
+    precious.write_text("a user's file", "utf-8")
+    listed = str(precious) if name == "ABSOLUTE" else name
+    manifest = out / f"manifest-{AS_OF}.json"
+    data = json.loads(manifest.read_text("utf-8"))
+    data["files"].append({"path": listed, "sha256": "0" * 64})
+    manifest.write_text(json.dumps(data), "utf-8")
+    case.config = case.config.replace("tolerance = 1.0", "tolerance = 1.3")
+    case.write()
+    assert run("build", config, "--out", out, "--force", "-q").code == 0
+    assert precious.read_text("utf-8") == "a user's file"
+    assert _manifest_matches(out, _round(out))
+
+
+def test_recovery_ignores_a_journal_naming_a_file_outside_the_folder(
+    case: Case, run: Callable[..., Result]
+) -> None:
+    config = case.write()
+    out = case.folder / "out"
+    assert run("build", config, "--out", out, "-q").code == 0
+    precious = case.folder / "precious.txt"
+    precious.write_text("a user's file", "utf-8")
+    staging = out / (folder.STAGING_PREFIX + "edited")
+    (staging / folder.PAYLOAD).mkdir(parents=True)
+    (staging / folder.PAYLOAD / "m.json").write_text("{}", "utf-8")
+    plan = {"as_of": AS_OF, "manifest": "m.json", "files": [], "remove": ["../precious.txt"]}
+    (staging / folder.JOURNAL_NAME).write_text(json.dumps(plan), "utf-8")
+    assert run("build", config, "--out", out, "-q").code == 0
+    assert precious.read_text("utf-8") == "a user's file"
+    assert _staging(out) == []
+
+
 def _hold_lock(out: Path) -> int:
     """Take the folder's lock as another process would: a separate open file description."""
     out.mkdir(parents=True, exist_ok=True)
@@ -314,3 +355,23 @@ def test_an_output_folder_that_is_a_file_is_bad_input(
     assert result.code == 2, result.stderr
     assert "expected an output folder" in result.stderr
     assert out.read_text() == "a file, not a folder\n"
+
+
+def test_refusal_messages_name_the_subfolder_and_do_not_claim_nothing_was_written(
+    tmp_path: Path,
+) -> None:
+    # A refused build records its failure line in runs.jsonl, so "nothing was written"
+    # was untrue; a link or a changed file in tables/ was reported as if in the folder.
+    out = tmp_path / "out"
+    folder.write_round(out, {"tables/t.csv": b"a\n"}, as_of=AS_OF)
+    with pytest.raises(folder.OverwriteRefused) as refused:
+        folder.write_round(out, {"tables/t.csv": b"b\n"}, as_of=AS_OF)
+    assert "out/tables/" in str(refused.value)
+    assert "nothing was written" not in str(refused.value)
+    (out / "tables" / "t.csv").unlink()
+    (out / "tables" / "t.csv").symlink_to(tmp_path / "elsewhere.csv")
+    with pytest.raises(folder.LinkRefused) as linked:
+        folder.write_round(out, {"tables/t.csv": b"b\n"}, as_of=AS_OF, force=True)
+    assert str(out / "tables") in str(linked.value)
+    assert "nothing was written" not in str(linked.value)
+    assert not (tmp_path / "elsewhere.csv").exists()

@@ -87,9 +87,38 @@ def test_identical_forecasts_are_reported_as_undefined(case: Case, tmp_path: Pat
     text = " ".join(track_record.tests_text(a, (0, 1, 2, 3)))
     assert "could not be computed" in text
     assert "came out negative" not in text
+    # Undefined tests support no verdict (the brief used to add "no model's accuracy
+    # differs significantly", "not rejected" and "encompasses every model").
+    assert "differs significantly" not in text
+    assert "not rejected" not in text
+    assert "encompasses every model" not in text
     data = json.loads(a.to_json())
     assert all(t["pvalue"] is None for t in data["tests"] if t["models"][1] == "combination")
     assert any("undefined" in line for line in tables.track_record_text(a))
+
+
+def test_tests_not_run_are_not_reported_as_not_significant(tmp_path: Path) -> None:
+    # Regression: with every test skipped (too few past rounds) the brief still said no
+    # model "differs significantly", that the combination "encompasses every model at these
+    # horizons" and beats the no-change forecast at "none of these horizons".
+    config = constant_forecast_world(tmp_path, np.random.default_rng(1).normal(size=8), horizons=3)
+    a = riskreport.assess(config)
+    assert not [t for t in a.tests if np.isfinite(t.pvalue)]
+    text = " ".join(track_record.tests_text(a, (0, 1, 2, 3)))
+    assert "No accuracy test could be computed" in text
+    for claim in ("differs significantly", "these horizons (HLN", "none of these horizons"):
+        assert claim not in text
+    # Some horizons tested, others skipped: the verdicts name the horizons tested.
+    errors = np.random.default_rng(5).normal(0, 0.5, 40)
+    (tmp_path / "b").mkdir()
+    a = riskreport.assess(constant_forecast_world(tmp_path / "b", errors, horizons=20))
+    tested = {t.h for t in a.tests}
+    assert 0 in tested
+    assert 20 not in tested
+    text = " ".join(track_record.tests_text(a, (0, 20)))
+    assert "these horizons" not in text
+    assert "0 months ahead" in text
+    assert "h = 20" not in text
 
 
 def test_borrowing_skips_a_neighbour_with_no_spread() -> None:

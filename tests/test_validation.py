@@ -92,6 +92,27 @@ def test_unknown_config_key(run: Callable[..., Result], case: Case) -> None:
     _fails(run, case, "config.toml", "[target] tolerence", "unknown key")
 
 
+@pytest.mark.parametrize("family", ["skew-normal", "empirical"])
+def test_ewma_spread_with_a_law_it_is_not_offered_for(
+    run: Callable[..., Result], case: Case, family: str
+) -> None:
+    # Regression: spread = "ewma" with these laws left the replay no candidate
+    # (IndexError, exit 1); the README offers it with the normal and two-piece normal.
+    case.config = case.config.replace(
+        'distribution = "normal"', f'distribution = "{family}"\nspread = "ewma"'
+    )
+    _fails(run, case, "config.toml", "[uncertainty] spread", family)
+
+
+def test_a_window_too_short_for_a_fit_names_the_window(
+    run: Callable[..., Result], case: Case
+) -> None:
+    # Regression: window = 1 was reported as "forecasts.csv, column 'origin': horizon 0
+    # has no track record" although the file holds years of it; the cause is the key.
+    case.config = case.config.replace("window = 0\nbootstrap", "window = 1\nbootstrap")
+    _fails(run, case, "config.toml", "[uncertainty] window", "leaves 1 known error")
+
+
 def test_invalid_toml(run: Callable[..., Result], case: Case) -> None:
     case.config = case.config + "\n[brief\n"
     _fails(run, case, "config.toml", "invalid TOML")

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
@@ -15,6 +16,9 @@ from riskreport.report.sections.common import (
     summary_horizons,
     units,
 )
+
+if TYPE_CHECKING:
+    from riskreport.track_record import TestRow
 
 
 @dataclass(frozen=True)
@@ -61,8 +65,23 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
 
 
 def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
-    """Plain sentences on the comparative tests at the horizons shown."""
-    dm = [t for t in a.tests if t.name == "diebold-mariano" and t.h in shown]
+    """Plain sentences on the comparative tests at the horizons shown.
+
+    Only tests that were run and have a p-value speak: a test skipped (too few past
+    rounds) or undefined (no variation) supports no "not significant" statement.
+    """
+    ran = [t for t in a.tests if t.h in shown and math.isfinite(t.pvalue)]
+    if not ran:
+        return (
+            "No accuracy test could be computed at these horizons (too few past rounds, or "
+            "no variation to test), so no difference in accuracy is established either way.",
+            *undefined_text(a),
+        )
+    # Statements about "these horizons" only when every shown horizon's tests ran.
+    whole = {t.h for t in ran} == set(shown) and all(
+        math.isfinite(t.pvalue) for t in a.tests if t.h in shown
+    )
+    dm = [t for t in ran if t.name == "diebold-mariano"]
     better: dict[str, list[int]] = {}
     worse: dict[str, list[int]] = {}
     for t in dm:
@@ -72,10 +91,13 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.h)
     level = f"{int(100 * SIGNIFICANCE)}%"
     lines = []
-    if not better and not worse:
+    if not any(t.models[1] == "combination" for t in dm):
+        pass  # no model was tested against the combination
+    elif not better and not worse:
+        tested = "" if whole else f" ({join_h(a, sorted({t.h for t in dm}))} tested)"
         lines.append(
             f"No model's accuracy differs significantly from the combination's at the {level} "
-            "level (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
+            f"level{tested} (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
         )
     else:
         parts = [f"{m} ({join_h(a, hs)})" for m, hs in worse.items()]
@@ -90,11 +112,16 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     naive = [t for t in dm if t.models == ("combination", "no-change")]
     beats = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
     loses = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
+
+    def none_at(tests: list[TestRow]) -> str:
+        return "these horizons" if whole else join_h(a, sorted({t.h for t in tests}))
+
     text = "Against the no-change forecast, the combination is significantly better at "
-    text += join_h(a, beats) if beats else "none of these horizons"
+    text += join_h(a, beats) if beats else f"none of {none_at(naive)}"
     text += f" and significantly worse at {join_h(a, loses)}." if loses else "."
-    lines.append(text)
-    joint = [t for t in a.tests if t.name == "mariano-preve" and t.h in shown]
+    if naive:
+        lines.append(text)
+    joint = [t for t in ran if t.name == "mariano-preve"]
     rejected = [t.h for t in joint if t.pvalue < SIGNIFICANCE]
     if joint:
         lines.append(
@@ -102,21 +129,27 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             + (
                 f"rejected at {join_h(a, rejected)}"
                 if rejected
-                else "not rejected at any of these horizons"
+                else f"not rejected at {'any of these horizons' if whole else none_at(joint)}"
             )
             + "."
         )
+    encompassing = [t for t in ran if t.name == "encompassing"]
     adds: dict[str, list[int]] = {}
-    for t in a.tests:
-        if t.name == "encompassing" and t.h in shown and t.pvalue < SIGNIFICANCE:
+    for t in encompassing:
+        if t.pvalue < SIGNIFICANCE:
             adds.setdefault(t.models[1], []).append(t.h)
     if adds:
         lines.append(
             "Models that would still add information to the combination (encompassing test, "
             f"HLN 1998): {'; '.join(f'{m} ({join_h(a, hs)})' for m, hs in adds.items())}."
         )
-    else:
+    elif encompassing and whole:
         lines.append("The combination encompasses every model at these horizons (HLN 1998 test).")
+    elif encompassing:
+        lines.append(
+            f"The combination encompasses every model tested, at {none_at(encompassing)} "
+            "(HLN 1998 test)."
+        )
     fallback = [t for t in a.tests if any("Bartlett" in note for note in t.notes)]
     if fallback:
         lines.append(
@@ -124,13 +157,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             "variance came out negative, as it can for overlapping multi-step errors; those "
             "tests use the Bartlett kernel instead (Harvey, Leybourne and Whitehouse 2017)."
         )
-    undefined = [t for t in a.tests if not math.isfinite(t.pvalue)]
-    if undefined:
-        lines.append(
-            f"{len(undefined)} of {len(a.tests)} tests could not be computed and have no "
-            "p-value: the forecasts compared had the same loss at every past round (for "
-            "example, identical forecasts), so there is no variation to test."
-        )
+    lines.extend(undefined_text(a))
     n = sorted({t.nobs for t in dm})
     if n:
         lines.append(
@@ -138,6 +165,18 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             "errors make them less reliable at long horizons."
         )
     return tuple(lines)
+
+
+def undefined_text(a: Assessment) -> tuple[str, ...]:
+    """The count of tests with no p-value (nothing varied), when there are any."""
+    undefined = [t for t in a.tests if not math.isfinite(t.pvalue)]
+    if not undefined:
+        return ()
+    return (
+        f"{len(undefined)} of {len(a.tests)} tests could not be computed and have no "
+        "p-value: the forecasts compared had the same loss at every past round (for "
+        "example, identical forecasts), so there is no variation to test.",
+    )
 
 
 def weights(
