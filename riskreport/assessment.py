@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
     from riskreport.adjustments import Adjustments
+    from riskreport.annual import AnnualResult
     from riskreport.density import DensityCurve
     from riskreport.history import RoundPoint, YearPoint
     from riskreport.overlay import AppliedJudgement
@@ -141,7 +142,7 @@ class Assessment:
     judgement: tuple[AppliedJudgement, ...]
     scenarios: tuple[dict[str, Any], ...]
     path: tuple[PathResult, ...]
-    annual: tuple[dict[str, Any], ...]
+    annual: tuple[AnnualResult, ...]
     combination: dict[str, Any]
     models: tuple[ModelStatus, ...]
     accuracy: tuple[AccuracyRow, ...]
@@ -175,15 +176,52 @@ class Assessment:
 
     def to_dict(self) -> dict[str, Any]:
         """The contract's JSON structure, as plain Python values."""
-        return _clean(dataclasses.asdict(self))
+        result: dict[str, Any] = plain(self)
+        return result
 
     def to_json(self) -> str:
         """The assessment as JSON text (UTF-8, sorted nowhere, stable for identical inputs)."""
         return json.dumps(self.to_dict(), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
+def json_field(*, name: str | None = None, skip: bool = False, omit_none: bool = False) -> Any:
+    """A dataclass field with how :func:`plain` writes it.
+
+    Parameters
+    ----------
+    name
+        The JSON key, where it differs from the attribute (``from`` is a Python keyword).
+    skip
+        Kept on the object only, not written to the JSON.
+    omit_none
+        The key is left out of the JSON when the value is None.
+    """
+    return dataclasses.field(metadata={"json": (name, skip, omit_none)})
+
+
+def plain(value: Any) -> Any:
+    """Any part of an assessment as plain JSON values: the one place results are flattened.
+
+    Dataclasses become objects with their fields in declaration order (see
+    :func:`json_field`), tuples become lists and floats are rounded to 12 significant digits
+    (stable across BLAS); a non-finite float becomes None (JSON null).
+    """
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        out: dict[str, Any] = {}
+        for f in dataclasses.fields(value):
+            name, skip, omit_none = f.metadata.get("json", (None, False, False))
+            item = getattr(value, f.name)
+            if skip or (omit_none and item is None):
+                continue
+            out[name or f.name] = plain(item)
+        return out
+    return _clean(value)
+
+
 def _clean(value: Any) -> Any:
     """Tuples to lists and floats rounded to 12 significant digits (stable across BLAS)."""
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return plain(value)
     if isinstance(value, dict):
         return {str(k): _clean(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):

@@ -458,11 +458,11 @@ def _year_history(
     when the target is per period) across the rounds in the output folder."""
     year = periods.year_of(cfg.as_of, cfg.frequency)
     basis = "year-end" if cfg.basis == "year-end" else "calendar-year-average"
-    now = next((r for r in assessment.annual if r["year"] == year and r["basis"] == basis), None)
+    now = next((r for r in assessment.annual if r.year == year and r.basis == basis), None)
     if now is None:
         return ()
     return history_module.year_points(
-        directory or cfg.output_directory, assessment.as_of, year, basis, float(now["p_inside"])
+        directory or cfg.output_directory, assessment.as_of, year, basis, now.p_inside
     )
 
 
@@ -614,7 +614,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             for name, reasons, dists in scenario_dists
         ),
         path=_path(cfg, draws, ordinals),
-        annual=tuple(dataclasses.asdict(a) for a in yearly),
+        annual=tuple(yearly),
         combination={
             "method": method,
             "window": cfg.combination_window,

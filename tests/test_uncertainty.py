@@ -115,12 +115,12 @@ def test_annual_results_in_the_assessment(case: Case) -> None:
     )
     a = riskreport.assess(case.write())
     assert a.target["basis"] == "calendar-year-average"
-    bases = {(r["year"], r["basis"]) for r in a.annual}
+    bases = {(r.year, r.basis) for r in a.annual}
     # as_of 2024-12 with h = 0..3: 2024 is complete (Jan-Nov observed, Dec simulated);
     # 2025 is not (only Jan-Mar are reported), so it is left out.
     assert bases == {(2024, "calendar-year-average"), (2024, "year-end")}
     for r in a.annual:
-        assert r["p_below"] + r["p_inside"] + r["p_above"] == pytest.approx(1.0)
+        assert r.p_below + r.p_inside + r.p_above == pytest.approx(1.0)
 
 
 @pytest.mark.parametrize("family", ["two-piece-normal", "skew-normal", "empirical"])

@@ -189,15 +189,7 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             "annual",
             ("year", "basis", "lower", "upper", "p_below", "p_inside", "p_above"),
             [
-                (
-                    r["year"],
-                    r["basis"],
-                    r["band"][0],
-                    r["band"][1],
-                    r["p_below"],
-                    r["p_inside"],
-                    r["p_above"],
-                )
+                (r.year, r.basis, r.band[0], r.band[1], r.p_below, r.p_inside, r.p_above)
                 for r in a.annual
             ],
         ),

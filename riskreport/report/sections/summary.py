@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from typing import Any
 
@@ -293,7 +292,7 @@ BASIS_CAPTIONS = {
 
 def basis_rows(a: Assessment) -> tuple[AnnualRow, ...]:
     """The summary table on a calendar-year basis: one row per year in view."""
-    return annual_rows(a, [dataclasses.asdict(r) for r in a.basis_results])
+    return annual_rows(a, a.basis_results)
 
 
 def change_caption(a: Assessment) -> str:
