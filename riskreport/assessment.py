@@ -87,6 +87,27 @@ class PathResult:
 
 
 @dataclass(frozen=True)
+class ScenarioHorizon:
+    """Band probabilities of one scenario at one reported period."""
+
+    period: str
+    h: int
+    centre: float
+    p_below: float
+    p_inside: float
+    p_above: float
+
+
+@dataclass(frozen=True)
+class ScenarioResult:
+    """One named scenario: its reasons and its probabilities per reported period."""
+
+    name: str
+    reasons: tuple[str, ...]
+    horizons: tuple[ScenarioHorizon, ...]
+
+
+@dataclass(frozen=True)
 class WeightRow:
     """One model's weight at one horizon in the current round."""
 
@@ -140,7 +161,7 @@ class Assessment:
     horizons: tuple[HorizonResult, ...]
     model_based_horizons: tuple[HorizonResult, ...]
     judgement: tuple[AppliedJudgement, ...]
-    scenarios: tuple[dict[str, Any], ...]
+    scenarios: tuple[ScenarioResult, ...]
     path: tuple[PathResult, ...]
     annual: tuple[AnnualResult, ...]
     combination: dict[str, Any]

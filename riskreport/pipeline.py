@@ -41,6 +41,8 @@ from riskreport.assessment import (
     InputRecord,
     Observation,
     PathResult,
+    ScenarioHorizon,
+    ScenarioResult,
     WeightRow,
 )
 from riskreport.config import Config
@@ -182,22 +184,22 @@ def _horizon_results(
 
 def _scenario_record(
     cfg: Config, name: str, reasons: tuple[str, ...], dists: list[Distribution], ordinals: list[int]
-) -> dict[str, object]:
+) -> ScenarioResult:
     rows = []
     for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
         band = cfg.band_for(ordinal)
         p = probabilities.band_probabilities(dist, band.lower, band.upper)
         rows.append(
-            {
-                "period": periods.label(ordinal, cfg.frequency),
-                "h": h,
-                "centre": float(dist.mode),
-                "p_below": p.p_below,
-                "p_inside": p.p_inside,
-                "p_above": p.p_above,
-            }
+            ScenarioHorizon(
+                period=periods.label(ordinal, cfg.frequency),
+                h=h,
+                centre=float(dist.mode),
+                p_below=p.p_below,
+                p_inside=p.p_inside,
+                p_above=p.p_above,
+            )
         )
-    return {"name": name, "reasons": list(reasons), "horizons": rows}
+    return ScenarioResult(name, tuple(reasons), tuple(rows))
 
 
 def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:

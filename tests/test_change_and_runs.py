@@ -123,15 +123,15 @@ def test_scenarios_are_overlays_on_the_baseline(case: Case) -> None:
         '\n[[scenario]]\nname = "lower"\nfrom = "2024-12"\nto = "2025-03"\nshift = -0.5\nreason = "r3"\n'
     )
     a = riskreport.assess(case.write())
-    names = [s["name"] for s in a.scenarios]
+    names = [s.name for s in a.scenarios]
     assert names == ["higher", "lower"]
     higher = a.scenarios[0]
-    assert higher["reasons"] == ["r1", "r2"]
-    for base, row in zip(a.horizons, higher["horizons"], strict=True):
-        if row["period"] == "2024-12":
-            assert row["p_inside"] == pytest.approx(base.p_inside, abs=1e-12)
+    assert higher.reasons == ("r1", "r2")
+    for base, row in zip(a.horizons, higher.horizons, strict=True):
+        if row.period == "2024-12":
+            assert row.p_inside == pytest.approx(base.p_inside, abs=1e-12)
         else:
-            assert row["centre"] == pytest.approx(base.centre + 0.5, abs=1e-12)
+            assert row.centre == pytest.approx(base.centre + 0.5, abs=1e-12)
 
 
 def test_scenario_needs_a_name(case: Case, run: Callable[..., Result]) -> None:

@@ -223,16 +223,16 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             ("scenario", "period", "h", "centre", "p_below", "p_inside", "p_above"),
             [
                 (
-                    s["name"],
-                    r["period"],
-                    r["h"],
-                    r["centre"],
-                    r["p_below"],
-                    r["p_inside"],
-                    r["p_above"],
+                    s.name,
+                    r.period,
+                    r.h,
+                    r.centre,
+                    r.p_below,
+                    r.p_inside,
+                    r.p_above,
                 )
                 for s in a.scenarios
-                for r in s["horizons"]
+                for r in s.horizons
             ],
         ),
         table(
