@@ -117,6 +117,34 @@ class WeightRow:
 
 
 @dataclass(frozen=True)
+class InterceptRow:
+    """The intercept of the ``ols`` combination at one horizon."""
+
+    h: int
+    intercept: float
+
+
+@dataclass(frozen=True)
+class RowCount:
+    """How many past rounds the combination's weights at one horizon were estimated from."""
+
+    h: int
+    n: int
+
+
+@dataclass(frozen=True)
+class CombinationRecord:
+    """How the forecasts were combined in the current round."""
+
+    method: str
+    window: int | None
+    shrinkage: float | None
+    weights: tuple[WeightRow, ...]
+    intercepts: tuple[InterceptRow, ...]
+    rows: tuple[RowCount, ...]
+
+
+@dataclass(frozen=True)
 class ModelStatus:
     """A model of the forecasts file: its history and whether it is in the current round."""
 
@@ -164,7 +192,7 @@ class Assessment:
     scenarios: tuple[ScenarioResult, ...]
     path: tuple[PathResult, ...]
     annual: tuple[AnnualResult, ...]
-    combination: dict[str, Any]
+    combination: CombinationRecord
     models: tuple[ModelStatus, ...]
     accuracy: tuple[AccuracyRow, ...]
     tests: tuple[TestRow, ...]

@@ -37,10 +37,13 @@ from riskreport import thresholds as thresholds_module
 from riskreport.assessment import (
     Assessment,
     BasisResult,
+    CombinationRecord,
     HorizonResult,
     InputRecord,
+    InterceptRow,
     Observation,
     PathResult,
+    RowCount,
     ScenarioHorizon,
     ScenarioResult,
     WeightRow,
@@ -617,18 +620,18 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         ),
         path=_path(cfg, draws, ordinals),
         annual=tuple(yearly),
-        combination={
-            "method": method,
-            "window": cfg.combination_window,
-            "shrinkage": cfg.combination_shrinkage,
-            "weights": [w.__dict__ for w in weights],
-            "intercepts": [
-                {"h": h, "intercept": float(combo.intercepts[h])}
+        combination=CombinationRecord(
+            method=method,
+            window=cfg.combination_window,
+            shrinkage=cfg.combination_shrinkage,
+            weights=tuple(weights),
+            intercepts=tuple(
+                InterceptRow(h, float(combo.intercepts[h]))
                 for h in range(cfg.horizons + 1)
                 if method == "ols"
-            ],
-            "rows": [{"h": h, "n": int(combo.rows[h])} for h in range(cfg.horizons + 1)],
-        },
+            ),
+            rows=tuple(RowCount(h, int(combo.rows[h])) for h in range(cfg.horizons + 1)),
+        ),
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,

@@ -105,9 +105,9 @@ def test_spread_does_not_shrink_with_horizon(case: Case) -> None:
 def test_model_without_current_round_is_left_out(case: Case) -> None:
     case.forecasts = [r for r in case.forecasts if not (r[2] == "c" and r[0] == "2024-12")]
     assessment = riskreport.assess(case.write())
-    weights = assessment.combination["weights"]
-    assert {w["model"] for w in weights} == {"a", "b"}
-    assert all(w["weight"] == pytest.approx(0.5) for w in weights)
+    weights = assessment.combination.weights
+    assert {w.model for w in weights} == {"a", "b"}
+    assert all(w.weight == pytest.approx(0.5) for w in weights)
     assert any("'c' has no forecast in the current round" in w for w in assessment.warnings)
 
 

@@ -438,8 +438,8 @@ MODEL_HATCHES = ("", "////", "\\\\", "..", "xx", "--", "++", "oo")
 def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Chart:
     """The current round's combination weights by horizon, stacked (negative ones below 0)."""
     table: dict[str, dict[int, float]] = {}
-    for w in assessment.combination["weights"]:
-        table.setdefault(w["model"], {})[w["h"]] = w["weight"]
+    for w in assessment.combination.weights:
+        table.setdefault(w.model, {})[w.h] = w.weight
     hs = [r.h for r in assessment.horizons]
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)

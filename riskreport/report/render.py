@@ -72,7 +72,7 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
         made.append(
             (charts_module.change_parts(a), summary.change_alt(a), summary.change_caption(a))
         )
-    if a.combination["method"] not in ("equal", "given"):
+    if a.combination.method not in ("equal", "given"):
         made.append(
             (charts_module.weights(a), track_record.weights_alt(a), track_record.weights_caption(a))
         )

@@ -260,7 +260,7 @@ def tables(a: Assessment) -> tuple[Table, ...]:
         table(
             "weights",
             ("h", "model", "weight"),
-            [(w["h"], w["model"], w["weight"]) for w in a.combination["weights"]],
+            [(w.h, w.model, w.weight) for w in a.combination.weights],
         ),
         table(
             "accuracy",

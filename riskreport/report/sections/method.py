@@ -160,7 +160,7 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
     u = a.uncertainty
     given = [r.h for r in a.horizons if r.n_errors is None]
     return (
-        KeyValue("Combination", f"{a.combination['method']} weights, per horizon"),
+        KeyValue("Combination", f"{a.combination.method} weights, per horizon"),
         KeyValue("Error distribution", distribution_text(a)),
         KeyValue(
             "Error window",
