@@ -22,6 +22,46 @@ if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scip
     from riskreport.track_record import AccuracyRow, TestRow
 
 
+def json_field(*, name: str | None = None, skip: bool = False, omit_none: bool = False) -> Any:
+    """A dataclass field with how :func:`plain` writes it.
+
+    Parameters
+    ----------
+    name
+        The JSON key, where it differs from the attribute (``from`` is a Python keyword).
+    skip
+        Kept on the object only, not written to the JSON.
+    omit_none
+        The key is left out of the JSON when the value is None.
+    """
+    return dataclasses.field(metadata={"json": (name, skip, omit_none)})
+
+
+@dataclass(frozen=True)
+class ScheduledBand:
+    """A band of the target's schedule, in force from the period ``start`` on."""
+
+    start: str = json_field(name="from")
+    lower: float = json_field()
+    upper: float = json_field()
+    midpoint: float | None = json_field(omit_none=True)
+    tolerance: float | None = json_field(omit_none=True)
+
+
+@dataclass(frozen=True)
+class TargetRecord:
+    """The target: its band (midpoint and tolerance where it was given so), the measure it is
+    defined on (``basis``), its edges and the schedule of later bands."""
+
+    lower: float = json_field()
+    upper: float = json_field()
+    midpoint: float | None = json_field(omit_none=True)
+    tolerance: float | None = json_field(omit_none=True)
+    basis: str = json_field()
+    edges: str = json_field()
+    schedule: tuple[ScheduledBand, ...] = json_field()
+
+
 @dataclass(frozen=True)
 class HorizonResult:
     """Probabilities and quantiles for one reported period."""
@@ -182,7 +222,7 @@ class Assessment:
     frequency: str
     title: str
     institution: str
-    target: dict[str, Any]
+    target: TargetRecord
     policy_horizon: int
     headline: BasisResult
     basis_results: tuple[BasisResult, ...]
@@ -231,21 +271,6 @@ class Assessment:
     def to_json(self) -> str:
         """The assessment as JSON text (UTF-8, sorted nowhere, stable for identical inputs)."""
         return json.dumps(self.to_dict(), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
-
-
-def json_field(*, name: str | None = None, skip: bool = False, omit_none: bool = False) -> Any:
-    """A dataclass field with how :func:`plain` writes it.
-
-    Parameters
-    ----------
-    name
-        The JSON key, where it differs from the attribute (``from`` is a Python keyword).
-    skip
-        Kept on the object only, not written to the JSON.
-    omit_none
-        The key is left out of the JSON when the value is None.
-    """
-    return dataclasses.field(metadata={"json": (name, skip, omit_none)})
 
 
 def plain(value: Any) -> Any:

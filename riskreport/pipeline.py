@@ -46,6 +46,8 @@ from riskreport.assessment import (
     RowCount,
     ScenarioHorizon,
     ScenarioResult,
+    ScheduledBand,
+    TargetRecord,
     WeightRow,
 )
 from riskreport.config import Config
@@ -323,27 +325,26 @@ def _history(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
     )
 
 
-def _target(cfg: Config) -> dict[str, object]:
+def _target(cfg: Config) -> TargetRecord:
     band = cfg.band
-    target: dict[str, object] = {"lower": band.lower, "upper": band.upper}
-    if band.midpoint is not None:
-        target.update(midpoint=band.midpoint, tolerance=band.tolerance)
-    target["basis"] = cfg.basis
-    target["edges"] = "inclusive"
-    target["schedule"] = [
-        {
-            "from": periods.label(c.start, cfg.frequency),
-            "lower": c.band.lower,
-            "upper": c.band.upper,
-            **(
-                {"midpoint": c.band.midpoint, "tolerance": c.band.tolerance}
-                if c.band.midpoint is not None
-                else {}
-            ),
-        }
-        for c in cfg.schedule
-    ]
-    return target
+    return TargetRecord(
+        lower=band.lower,
+        upper=band.upper,
+        midpoint=band.midpoint,
+        tolerance=band.tolerance,
+        basis=cfg.basis,
+        edges="inclusive",
+        schedule=tuple(
+            ScheduledBand(
+                start=periods.label(c.start, cfg.frequency),
+                lower=c.band.lower,
+                upper=c.band.upper,
+                midpoint=c.band.midpoint,
+                tolerance=c.band.tolerance,
+            )
+            for c in cfg.schedule
+        ),
+    )
 
 
 def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> dict[str, object]:

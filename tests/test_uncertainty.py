@@ -114,7 +114,7 @@ def test_annual_results_in_the_assessment(case: Case) -> None:
         "tolerance = 1.0", 'tolerance = 1.0\nbasis = "calendar-year-average"'
     )
     a = riskreport.assess(case.write())
-    assert a.target["basis"] == "calendar-year-average"
+    assert a.target.basis == "calendar-year-average"
     bases = {(r.year, r.basis) for r in a.annual}
     # as_of 2024-12 with h = 0..3: 2024 is complete (Jan-Nov observed, Dec simulated);
     # 2025 is not (only Jan-Mar are reported), so it is left out.
@@ -143,7 +143,7 @@ def test_target_schedule_changes_the_band_from_its_period(case: Case) -> None:
     for r in a.horizons:
         expected = (1.0, 3.0) if r.period < "2025-02" else (1.0, 2.0)
         assert r.band == expected
-    assert a.target["schedule"][0]["from"] == "2025-02"
+    assert a.target.schedule[0].start == "2025-02"
 
 
 def test_two_piece_errors_from_a_known_law(tmp_path: Path) -> None:

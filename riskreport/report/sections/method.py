@@ -33,7 +33,7 @@ TESTS_METHOD = (
 
 def basis_text(a: Assessment) -> str:
     """How the target's basis is measured, for the method page."""
-    basis = a.target["basis"]
+    basis = a.target.basis
     if basis == "period":
         return "per period: the rate of each reported period against the band in force then"
     rates = "12 monthly" if a.frequency == "monthly" else "4 quarterly"
