@@ -9,7 +9,7 @@ from __future__ import annotations
 import dataclasses
 import json
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
@@ -22,8 +22,10 @@ if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scip
     from riskreport.track_record import AccuracyRow, TestRow
 
 
-def json_field(*, name: str | None = None, skip: bool = False, omit_none: bool = False) -> Any:
-    """A dataclass field with how :func:`plain` writes it.
+def json_key(
+    *, name: str | None = None, skip: bool = False, omit_none: bool = False
+) -> dict[str, tuple[str | None, bool, bool]]:
+    """A dataclass field's metadata saying how :func:`plain` writes it.
 
     Parameters
     ----------
@@ -34,18 +36,18 @@ def json_field(*, name: str | None = None, skip: bool = False, omit_none: bool =
     omit_none
         The key is left out of the JSON when the value is None.
     """
-    return dataclasses.field(metadata={"json": (name, skip, omit_none)})
+    return {"json": (name, skip, omit_none)}
 
 
 @dataclass(frozen=True)
 class ScheduledBand:
     """A band of the target's schedule, in force from the period ``start`` on."""
 
-    start: str = json_field(name="from")
-    lower: float = json_field()
-    upper: float = json_field()
-    midpoint: float | None = json_field(omit_none=True)
-    tolerance: float | None = json_field(omit_none=True)
+    start: str = field(metadata=json_key(name="from"))
+    lower: float
+    upper: float
+    midpoint: float | None = field(metadata=json_key(omit_none=True))
+    tolerance: float | None = field(metadata=json_key(omit_none=True))
 
 
 @dataclass(frozen=True)
@@ -53,13 +55,49 @@ class TargetRecord:
     """The target: its band (midpoint and tolerance where it was given so), the measure it is
     defined on (``basis``), its edges and the schedule of later bands."""
 
-    lower: float = json_field()
-    upper: float = json_field()
-    midpoint: float | None = json_field(omit_none=True)
-    tolerance: float | None = json_field(omit_none=True)
-    basis: str = json_field()
-    edges: str = json_field()
-    schedule: tuple[ScheduledBand, ...] = json_field()
+    lower: float
+    upper: float
+    midpoint: float | None = field(metadata=json_key(omit_none=True))
+    tolerance: float | None = field(metadata=json_key(omit_none=True))
+    basis: str
+    edges: str
+    schedule: tuple[ScheduledBand, ...]
+
+
+@dataclass(frozen=True)
+class FamilySource:
+    """The error distribution's family at one horizon and where its errors came from."""
+
+    h: int
+    family: str
+    source: str
+
+
+@dataclass(frozen=True)
+class SelectionRecord:
+    """The automatic choice of family: chosen, runner-up and each family's total log score."""
+
+    chosen: str
+    runner_up: str | None
+    total_log_score: dict[str, float]
+
+
+@dataclass(frozen=True)
+class UncertaintyRecord:
+    """How the error distributions were built (the ``[uncertainty]`` settings used)."""
+
+    distribution: str
+    families: tuple[FamilySource, ...]
+    window: int
+    centre: str
+    monotone: bool
+    min_errors: int
+    bootstrap_replicates: int
+    interval_level: float
+    simulations: int
+    seed: int
+    verbal_scale: str
+    selection: SelectionRecord | None = field(metadata=json_key(omit_none=True))
 
 
 @dataclass(frozen=True)
@@ -237,7 +275,7 @@ class Assessment:
     accuracy: tuple[AccuracyRow, ...]
     tests: tuple[TestRow, ...]
     calibration: dict[str, Any]
-    uncertainty: dict[str, Any]
+    uncertainty: UncertaintyRecord
     history: tuple[Observation, ...]
     change: dict[str, Any] | None
     inputs: tuple[InputRecord, ...]

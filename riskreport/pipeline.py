@@ -38,6 +38,7 @@ from riskreport.assessment import (
     Assessment,
     BasisResult,
     CombinationRecord,
+    FamilySource,
     HorizonResult,
     InputRecord,
     InterceptRow,
@@ -47,7 +48,9 @@ from riskreport.assessment import (
     ScenarioHorizon,
     ScenarioResult,
     ScheduledBand,
+    SelectionRecord,
     TargetRecord,
+    UncertaintyRecord,
     WeightRow,
 )
 from riskreport.config import Config
@@ -347,30 +350,27 @@ def _target(cfg: Config) -> TargetRecord:
     )
 
 
-def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> dict[str, object]:
-    record: dict[str, object] = {
-        "distribution": cfg.distribution,
-        "families": [
-            {"h": h, "family": f, "source": s}
+def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> UncertaintyRecord:
+    choice = margins.choice
+    return UncertaintyRecord(
+        distribution=cfg.distribution,
+        families=tuple(
+            FamilySource(h, f, s)
             for h, (f, s) in enumerate(zip(margins.families, margins.sources, strict=True))
-        ],
-        "window": cfg.window,
-        "centre": cfg.centre,
-        "monotone": cfg.monotone,
-        "min_errors": cfg.min_errors,
-        "bootstrap_replicates": cfg.bootstrap_replicates,
-        "interval_level": 0.9,
-        "simulations": cfg.simulations,
-        "seed": cfg.seed,
-        "verbal_scale": cfg.verbal_scale,
-    }
-    if margins.choice is not None:
-        record["selection"] = {
-            "chosen": margins.choice.chosen,
-            "runner_up": margins.choice.runner_up,
-            "total_log_score": margins.choice.total,
-        }
-    return record
+        ),
+        window=cfg.window,
+        centre=cfg.centre,
+        monotone=cfg.monotone,
+        min_errors=cfg.min_errors,
+        bootstrap_replicates=cfg.bootstrap_replicates,
+        interval_level=0.9,
+        simulations=cfg.simulations,
+        seed=cfg.seed,
+        verbal_scale=cfg.verbal_scale,
+        selection=None
+        if choice is None
+        else SelectionRecord(choice.chosen, choice.runner_up, choice.total),
+    )
 
 
 def _adjustments(

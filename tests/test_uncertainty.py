@@ -67,7 +67,7 @@ def test_thin_horizon_borrows_with_a_warning(case: Case) -> None:
     a = riskreport.assess(case.write())
     assert a.horizons[3].n_errors < 20
     assert any("borrow" in w for w in a.warnings)
-    assert "borrowing" in a.uncertainty["families"][3]["source"]
+    assert "borrowing" in a.uncertainty.families[3].source
 
 
 def test_error_quantiles_route(case: Case, run: Callable[..., Result]) -> None:

@@ -103,7 +103,7 @@ def centre_label(a: Assessment) -> str:
     policy = a.policy
     moved = policy.centre - policy.point_forecast
     judged = any(policy.period in j.periods for j in a.judgement)
-    if a.uncertainty["centre"] == "estimated":
+    if a.uncertainty.centre == "estimated":
         why = "their average past miss" + (" and staff judgement" if judged else "")
         size = (
             "under 0.05 percentage points, pp, here"
