@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
     from riskreport.adjustments import Adjustments
     from riskreport.annual import AnnualResult
+    from riskreport.change import ChangeRecord
     from riskreport.density import DensityCurve
     from riskreport.history import RoundPoint, YearPoint
     from riskreport.overlay import AppliedJudgement
@@ -277,7 +278,7 @@ class Assessment:
     calibration: dict[str, Any]
     uncertainty: UncertaintyRecord
     history: tuple[Observation, ...]
-    change: dict[str, Any] | None
+    change: ChangeRecord | None
     inputs: tuple[InputRecord, ...]
     software: dict[str, str]
     warnings: tuple[str, ...]

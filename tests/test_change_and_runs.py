@@ -108,12 +108,10 @@ def test_band_change_between_briefs_goes_to_the_band(case: Case, tmp_path: Path)
     case.config = case.config.replace("tolerance = 1.0", "tolerance = 1.5")
     second = riskreport.assess(case.write(), previous=tmp_path / "assessment-2024-12.json")
     assert second.change is not None
-    for row in second.change["horizons"]:
-        assert row["due_to_centre"] == 0.0
-        assert row["due_to_spread"] == 0.0
-        assert row["due_to_band"] == pytest.approx(
-            row["p_inside_now"] - row["p_inside_before"], abs=1e-12
-        )
+    for row in second.change.horizons:
+        assert row.due_to_centre == 0.0
+        assert row.due_to_spread == 0.0
+        assert row.due_to_band == pytest.approx(row.p_inside_now - row.p_inside_before, abs=1e-12)
 
 
 def test_scenarios_are_overlays_on_the_baseline(case: Case) -> None:

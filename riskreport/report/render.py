@@ -68,7 +68,7 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
 
     if round_history.shown(a):
         made.append((round_history.chart(a), round_history.alt_text(a), round_history.CAPTION))
-    if a.change and a.change["horizons"]:
+    if a.change and a.change.horizons:
         made.append(
             (charts_module.change_parts(a), summary.change_alt(a), summary.change_caption(a))
         )

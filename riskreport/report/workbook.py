@@ -247,14 +247,14 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             ),
             [
                 (
-                    r["period"],
-                    r["p_inside_before"],
-                    r["p_inside_now"],
-                    r["due_to_centre"],
-                    r["due_to_spread"],
-                    r["due_to_band"],
+                    r.period,
+                    r.p_inside_before,
+                    r.p_inside_now,
+                    r.due_to_centre,
+                    r.due_to_spread,
+                    r.due_to_band,
                 )
-                for r in (a.change["horizons"] if a.change else [])
+                for r in (a.change.horizons if a.change else ())
             ],
         ),
         table(
@@ -295,7 +295,7 @@ def notes(a: Assessment) -> tuple[tuple[str, str], ...]:
             "change",
             "Empty when there is no previous brief to compare with."
             if a.change is None
-            else f"Compared with the brief of {a.change['previous_as_of']}.",
+            else f"Compared with the brief of {a.change.previous_as_of}.",
         ),
     ]
     lines += [("caution", c) for c in summary.CAUTIONS]

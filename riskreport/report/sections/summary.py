@@ -232,16 +232,16 @@ def track_text(a: Assessment) -> str:
 
 def change_text(a: Assessment) -> str:
     """The change since the previous brief, at the policy horizon's target period, in words."""
-    if not a.change or not a.change["horizons"]:
+    if not a.change or not a.change.horizons:
         return "No earlier brief was available for comparison, so the change since the last meeting is not shown."
-    rows = {r["period"]: r for r in a.change["horizons"]}
-    r = rows.get(a.policy.period) or a.change["horizons"][-1]
-    total = r["p_inside_now"] - r["p_inside_before"]
+    rows = {r.period: r for r in a.change.horizons}
+    r = rows.get(a.policy.period) or a.change.horizons[-1]
+    total = r.p_inside_now - r.p_inside_before
     since = (
-        f"Since the brief of {a.change['previous_as_of']}, the probability of being inside the "
-        f"band in {r['period']}"
+        f"Since the brief of {a.change.previous_as_of}, the probability of being inside the "
+        f"band in {r.period}"
     )
-    before, now = fmt.single_percent(r["p_inside_before"]), fmt.single_percent(r["p_inside_now"])
+    before, now = fmt.single_percent(r.p_inside_before), fmt.single_percent(r.p_inside_now)
     if abs(total) < CHANGE_NOISE:
         return (
             f"{since} is essentially unchanged: {now} against {before} (changes under "
@@ -249,16 +249,16 @@ def change_text(a: Assessment) -> str:
             "noise, so they are not split into causes)."
         )
     parts = {
-        "the centre moving": r["due_to_centre"],
-        "the spread and shape": r["due_to_spread"],
-        "the band": r["due_to_band"],
+        "the centre moving": r.due_to_centre,
+        "the spread and shape": r.due_to_spread,
+        "the band": r.due_to_band,
     }
     main = max(parts, key=lambda k: abs(parts[k]))
     direction = "rose" if total > 0 else "fell"
     return (
         f"{since} {direction} from {before} to {now} ({fmt.points(total)}): centre "
-        f"{fmt.points(r['due_to_centre'])}, spread and shape {fmt.points(r['due_to_spread'])}, "
-        f"band {fmt.points(r['due_to_band'])}. Most of it came from {main}."
+        f"{fmt.points(r.due_to_centre)}, spread and shape {fmt.points(r.due_to_spread)}, "
+        f"band {fmt.points(r.due_to_band)}. Most of it came from {main}."
     )
 
 
@@ -299,7 +299,7 @@ def change_caption(a: Assessment) -> str:
     """Caption of the change chart."""
     assert a.change is not None
     return (
-        f"Change in the probability of being inside since {a.change['previous_as_of']}, "
+        f"Change in the probability of being inside since {a.change.previous_as_of}, "
         "by target period, split into centre, spread and shape, and band (a part that is zero "
         "in every period shown is left out); the diamond is the total."
     )
@@ -309,12 +309,12 @@ def change_alt(a: Assessment) -> str:
     """Alt text of the change chart."""
     assert a.change is not None
     parts = [
-        f"{r['period']}: {fmt.points(r['p_inside_now'] - r['p_inside_before'])} "
-        f"(centre {fmt.points(r['due_to_centre'])}, spread {fmt.points(r['due_to_spread'])}, band {fmt.points(r['due_to_band'])})"
-        for r in a.change["horizons"]
+        f"{r.period}: {fmt.points(r.p_inside_now - r.p_inside_before)} "
+        f"(centre {fmt.points(r.due_to_centre)}, spread {fmt.points(r.due_to_spread)}, band {fmt.points(r.due_to_band)})"
+        for r in a.change.horizons
     ]
     return (
-        f"Bar chart of the change in the probability of being inside since {a.change['previous_as_of']}: "
+        f"Bar chart of the change in the probability of being inside since {a.change.previous_as_of}: "
         + "; ".join(parts)
         + "."
     )
