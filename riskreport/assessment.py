@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
     from riskreport.adjustments import Adjustments
     from riskreport.annual import AnnualResult
+    from riskreport.calibration import CalibrationRecord
     from riskreport.change import ChangeRecord
     from riskreport.density import DensityCurve
     from riskreport.history import RoundPoint, YearPoint
@@ -275,7 +276,7 @@ class Assessment:
     models: tuple[ModelStatus, ...]
     accuracy: tuple[AccuracyRow, ...]
     tests: tuple[TestRow, ...]
-    calibration: dict[str, Any]
+    calibration: CalibrationRecord
     uncertainty: UncertaintyRecord
     history: tuple[Observation, ...]
     change: ChangeRecord | None

@@ -297,13 +297,13 @@ def band_probabilities_figure(
 
 def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: float = 40) -> Chart:
     """PIT histograms by horizon group: a flat histogram means well-calibrated densities."""
-    groups = assessment.calibration["pit"]
+    groups = assessment.calibration.pit
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         axes = fig.subplots(1, max(len(groups), 1), sharey=True)
         axes = np.atleast_1d(axes)
         for ax, group in zip(axes, groups, strict=True):
-            counts = np.array(group["counts"], dtype=float)
+            counts = np.array(group.counts, dtype=float)
             share = counts / counts.sum() * len(counts)
             edges = np.linspace(0, 1, len(counts) + 1)
             ax.bar(
@@ -317,9 +317,9 @@ def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: flo
             )
             ax.axhline(1.0, color=INK, lw=0.8, ls=(0, (3, 2)))
             ax.set_title(
-                f"{group['h_from']}\u2013{group['h_to']} {_units(assessment)} ahead"
-                if group["h_from"] != group["h_to"]
-                else f"{group['h_from']} {_units(assessment)} ahead",
+                f"{group.h_from}\u2013{group.h_to} {_units(assessment)} ahead"
+                if group.h_from != group.h_to
+                else f"{group.h_from} {_units(assessment)} ahead",
                 fontsize=7.5,
             )
             ax.set_xticks([0, 0.5, 1], ["0", "0.5", "1"])
@@ -332,15 +332,15 @@ def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: flo
 def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float = 62) -> Chart:
     """Said-versus-happened for P(inside): the forecast probability against the observed
     frequency, bins of 10 points, each labelled with its count."""
-    table = assessment.calibration["brier"]["reliability"]
+    table = assessment.calibration.brier.reliability
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         ax = fig.add_subplot()
         ax.plot(
             [0, 100], [0, 100], color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)), label="said = happened"
         )
-        x = [100 * r["forecast_mean"] for r in table]
-        y = [100 * r["observed_frequency"] for r in table]
+        x = [100 * r.forecast_mean for r in table]
+        y = [100 * r.observed_frequency for r in table]
         ax.plot(
             x,
             y,
@@ -355,7 +355,7 @@ def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float =
             # on the said = happened line.
             above = yi >= xi
             ax.annotate(
-                str(r["n"]),
+                str(r.n),
                 (xi, yi),
                 xytext=(-3, 4) if above else (3, -4),
                 textcoords="offset points",

@@ -76,11 +76,11 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
         made.append(
             (charts_module.weights(a), track_record.weights_alt(a), track_record.weights_caption(a))
         )
-    if a.calibration["pit"]:
+    if a.calibration.pit:
         made.append(
             (charts_module.pit_histograms(a), calibration.pit_alt(a), calibration.PIT_CAPTION)
         )
-    if a.calibration["brier"]["reliability"]:
+    if a.calibration.brier.reliability:
         made.append(
             (
                 charts_module.reliability(a),

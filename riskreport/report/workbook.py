@@ -108,25 +108,25 @@ def _horizon_columns(a: Assessment) -> tuple[str, ...]:
 
 def _calibration(a: Assessment) -> Table:
     cal = a.calibration
-    nominals = sorted({row["nominal"] for row in cal["coverage"]})
-    coverage = {(row["h"], row["nominal"]): row["observed"] for row in cal["coverage"]}
-    rps = {row["h"]: row for row in cal["rps"]["by_horizon"]}
+    nominals = sorted({row.nominal for row in cal.coverage})
+    coverage = {(row.h, row.nominal): row.observed for row in cal.coverage}
+    rps = {row.h: row for row in cal.rps.by_horizon}
     rows = []
-    for b in cal["brier"]["by_horizon"]:
-        h = b["h"]
-        r = rps.get(h, {})
+    for b in cal.brier.by_horizon:
+        h = b.h
+        r = rps.get(h)
         rows.append(
             (
                 h,
-                b["n"],
+                b.n,
                 *(coverage.get((h, q)) for q in nominals),
-                b["brier"],
-                b["reliability"],
-                b["resolution"],
-                b["uncertainty"],
-                r.get("rps"),
-                r.get("rps_climatology"),
-                r.get("skill"),
+                b.brier,
+                b.reliability,
+                b.resolution,
+                b.uncertainty,
+                r.rps if r else None,
+                r.rps_climatology if r else None,
+                r.skill if r else None,
             )
         )
     columns = (

@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 import math
-from typing import Any
 
 from riskreport import verbal
 from riskreport.assessment import Assessment
+from riskreport.calibration import ReliabilityBin
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.calibration import COVERAGE_TOO_NARROW, COVERAGE_TOO_WIDE, coverage
 from riskreport.report.sections.common import (
@@ -172,13 +172,13 @@ def messages(a: Assessment) -> tuple[str, ...]:
     return tuple(lines)
 
 
-def nearest_bin(a: Assessment) -> dict[str, Any] | None:
+def nearest_bin(a: Assessment) -> ReliabilityBin | None:
     """The reliability bin whose stated probability is nearest today's headline P(inside)."""
-    rows = a.calibration["brier"]["reliability"]
+    rows = a.calibration.brier.reliability
     if not rows:
         return None
     today = a.headline.p_inside
-    return min(rows, key=lambda r: abs(r["forecast_mean"] - today))
+    return min(rows, key=lambda r: abs(r.forecast_mean - today))
 
 
 def _held(said: float, happened: float) -> str:
@@ -197,8 +197,8 @@ def _calibration_sentence(a: Assessment) -> str:
     r = nearest_bin(a)
     if cover is None or r is None:
         return "There are too few past rounds to check how past probability statements held."
-    said, happened = r["forecast_mean"], r["observed_frequency"]
-    held = cover["observed"]
+    said, happened = r.forecast_mean, r.observed_frequency
+    held = cover.observed
     ranges = (
         "too narrow"
         if held < COVERAGE_TOO_NARROW
@@ -207,7 +207,7 @@ def _calibration_sentence(a: Assessment) -> str:
         else "about right"
     )
     return (
-        f"In a replay over {cover['n']} past rounds, statements like today's "
+        f"In a replay over {cover.n} past rounds, statements like today's "
         f"({fmt.single_percent(said)} inside) came true {fmt.single_percent(happened)} of the "
         f"time, {_held(said, happened)}. {ahead(a, a.policy_horizon).capitalize()}, the 90% "
         f"ranges held the outcome {fmt.single_percent(held)} of the time: {ranges}."
