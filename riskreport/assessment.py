@@ -247,6 +247,26 @@ class InputRecord:
 
 
 @dataclass(frozen=True)
+class SoftwareVersions:
+    """Versions of Python and of the libraries a brief was computed with ("not installed"
+    where one is missing)."""
+
+    python: str
+    riskreport: str
+    numpy: str
+    scipy: str
+    pandas: str
+    statsmodels: str
+    matplotlib: str
+    jinja2: str
+    weasyprint: str
+
+    def items(self) -> tuple[tuple[str, str], ...]:
+        """(name, version) pairs in the JSON's order."""
+        return tuple((f.name, getattr(self, f.name)) for f in dataclasses.fields(self))
+
+
+@dataclass(frozen=True)
 class Observation:
     """One outcome of the history shown in the outlook chart."""
 
@@ -281,7 +301,7 @@ class Assessment:
     history: tuple[Observation, ...]
     change: ChangeRecord | None
     inputs: tuple[InputRecord, ...]
-    software: dict[str, str]
+    software: SoftwareVersions
     warnings: tuple[str, ...]
     adjustments: Adjustments | None = None
     thresholds: tuple[ThresholdResult, ...] = ()

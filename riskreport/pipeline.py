@@ -49,6 +49,7 @@ from riskreport.assessment import (
     ScenarioResult,
     ScheduledBand,
     SelectionRecord,
+    SoftwareVersions,
     TargetRecord,
     UncertaintyRecord,
     WeightRow,
@@ -81,24 +82,17 @@ def _sha256(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
-def _software() -> dict[str, str]:
-    names = [
-        "riskreport",
-        "numpy",
-        "scipy",
-        "pandas",
-        "statsmodels",
-        "matplotlib",
-        "jinja2",
-        "weasyprint",
-    ]
-    versions = {"python": platform.python_version()}
-    for name in names:
+def _software() -> SoftwareVersions:
+    def version(name: str) -> str:
         try:
-            versions[name] = metadata.version(name)
+            return metadata.version(name)
         except metadata.PackageNotFoundError:
-            versions[name] = "not installed"
-    return versions
+            return "not installed"
+
+    names = [f.name for f in dataclasses.fields(SoftwareVersions) if f.name != "python"]
+    return SoftwareVersions(
+        python=platform.python_version(), **{name: version(name) for name in names}
+    )
 
 
 def _input_records(
