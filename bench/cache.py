@@ -2,7 +2,7 @@
 
 Every command runs in a fresh process on the demo scenario, like a scheduler would run it:
 
-- import floor: ``import numpy, pandas, scipy, statsmodels, matplotlib, weasyprint, jinja2``;
+- import floor: the same bare import of the dependency stack as ``bench/generation.py``;
 - fresh build: ``riskreport build --no-cache`` of round 2026-11 into a folder holding round
   2026-10 (so both builds compare with the previous brief);
 - next round: the same build with the cache left by building 2026-10 there;
@@ -26,7 +26,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 CONFIG = ROOT / "example_inputs" / "config.toml"
 RISKREPORT = [sys.executable, "-m", "riskreport"]
-FLOOR = "import numpy, pandas, scipy, statsmodels, matplotlib, weasyprint, jinja2"
+# One floor for every benchmark: the same imports as bench/generation.py (the stack a build loads).
+from generation import FLOOR  # noqa: E402
+
 REPEATS = 3
 
 

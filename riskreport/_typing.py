@@ -37,6 +37,8 @@ DISTRIBUTION_CHOICES: tuple[DistributionChoice, ...] = get_args(DistributionChoi
 COMBINATION_METHODS: tuple[CombinationMethod, ...] = get_args(CombinationMethod)
 OUTPUT_FORMATS: tuple[OutputFormat, ...] = get_args(OutputFormat)
 FAMILIES: tuple[Family, ...] = get_args(Family)
+# The families the EWMA (time-varying) spread is offered with: their replay stays batched.
+EWMA_FAMILIES: tuple[Family, ...] = ("normal", "two-piece-normal")
 SPREAD_CHOICES: tuple[SpreadChoice, ...] = get_args(SpreadChoice)
 RECALIBRATION_METHODS: tuple[RecalibrationMethod, ...] = get_args(RecalibrationMethod)
 SCORE_AGAINST: tuple[ScoreAgainst, ...] = get_args(ScoreAgainst)

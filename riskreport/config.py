@@ -12,12 +12,13 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any, TypeVar, cast
 
-from riskreport import dynamics, periods
+from riskreport import periods
 from riskreport._typing import (
     BASES,
     CENTRES,
     COMBINATION_METHODS,
     DISTRIBUTION_CHOICES,
+    EWMA_FAMILIES,
     FREQUENCIES,
     OUTPUT_FORMATS,
     RECALIBRATION_METHODS,
@@ -484,12 +485,12 @@ def load(path: str | Path) -> Config:
     directory = output._get("directory", str, "a folder path", "out")
     shrinkage = _shrinkage(combination)
     spread = cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant"))
-    if spread == "ewma" and distribution not in ("auto", *dynamics.FAMILIES):
+    if spread == "ewma" and distribution not in ("auto", *EWMA_FAMILIES):
         # The replay offers the time-varying spread only with these laws: no candidate
         # would be left to choose from (was an IndexError, exit 1).
         raise uncertainty.error(
             "spread",
-            f"'ewma' is offered with distribution = {' or '.join(dynamics.FAMILIES)} "
+            f"'ewma' is offered with distribution = {' or '.join(EWMA_FAMILIES)} "
             f"(or auto), not {distribution}; use spread = 'auto' or 'constant'",
         )
 

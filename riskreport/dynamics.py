@@ -22,12 +22,12 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import signal
 
-from riskreport._typing import Family, SpreadKind
+from riskreport._typing import EWMA_FAMILIES, Family, SpreadKind
 
 LAMBDAS: tuple[float, ...] = (0.8, 0.9, 0.95)  # smoothing constants the replay chooses among
 # The families offered with a time-varying spread: closed-form fits and CRPS keep the
 # replay of every smoothing constant within the build's time.
-FAMILIES: tuple[Family, ...] = ("normal", "two-piece-normal")
+FAMILIES: tuple[Family, ...] = EWMA_FAMILIES
 FLOOR = 1e-6  # smallest volatility used (guards a run of exact nowcasts)
 
 

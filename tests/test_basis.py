@@ -16,6 +16,7 @@ import pytest
 from scipy import stats
 
 import riskreport
+import riskreport.cli
 from riskreport.report import context
 from tests import quarterly_world as qw
 
@@ -161,3 +162,21 @@ def test_policy_year_not_in_view_falls_back_with_a_warning(tmp_path: Path) -> No
     a = riskreport.assess(cfg)
     assert a.headline.label == "2025 average"
     assert any("do not reach the end of 2026" in w for w in a.warnings)
+
+
+def test_annual_basis_summary_fits_on_the_first_page(tmp_path: Path) -> None:
+    # With an annual basis page 1 carries the table by year; the per-period table is the
+    # supporting detail at the head of the outlook, so the cautions box stays on page 1
+    # (it spilled onto an otherwise empty page 2 when both tables were on page 1).
+    from pypdf import PdfReader
+
+    qw.write(tmp_path, basis="calendar-year-average", simulations=2000)
+    config = tmp_path / "config.toml"
+    config.write_text(config.read_text().replace('formats = ["json"]', 'formats = ["pdf"]'))
+    assert riskreport.cli.main(["build", str(config), "--out", str(tmp_path / "o"), "-q"]) == 0
+    reader = PdfReader(next((tmp_path / "o").glob("brief-*.pdf")))
+    first, second = (" ".join(reader.pages[i].extract_text().split()) for i in (0, 1))
+    assert "The calendar-year average" in first
+    assert "does not replace, the judgement of the policy committee" in first
+    assert "Per period (supporting detail)" not in first
+    assert "Per period (supporting detail)" in second
