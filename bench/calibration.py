@@ -91,9 +91,9 @@ def _groups(
     assessment: pipeline.Assessment, frequency: str
 ) -> list[tuple[str, float, float, float]]:
     cal = assessment.calibration
-    graded = cal["distribution"]
-    cover = {(c["h"], c["nominal"]): c["observed"] for c in cal["coverage"]}
-    logs = {s["h"]: s["log_score"] for s in cal["scores"] if s["distribution"] == graded}
+    graded = cal.distribution
+    cover = {(c.h, c.nominal): c.observed for c in cal.coverage}
+    logs = {s.h: s.log_score for s in cal.scores if s.distribution == graded}
     out = []
     hs_all = sorted(logs)
     for first, last in (*calibration.HORIZON_GROUPS[frequency], (min(hs_all), max(hs_all))):  # type: ignore[index]

@@ -9,16 +9,97 @@ from __future__ import annotations
 import dataclasses
 import json
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
     from riskreport.adjustments import Adjustments
+    from riskreport.annual import AnnualResult
+    from riskreport.calibration import CalibrationRecord
+    from riskreport.change import ChangeRecord
     from riskreport.density import DensityCurve
     from riskreport.history import RoundPoint, YearPoint
     from riskreport.overlay import AppliedJudgement
     from riskreport.thresholds import ThresholdResult
     from riskreport.track_record import AccuracyRow, TestRow
+
+
+def json_key(
+    *, name: str | None = None, skip: bool = False, omit_none: bool = False
+) -> dict[str, tuple[str | None, bool, bool]]:
+    """A dataclass field's metadata saying how :func:`plain` writes it.
+
+    Parameters
+    ----------
+    name
+        The JSON key, where it differs from the attribute (``from`` is a Python keyword).
+    skip
+        Kept on the object only, not written to the JSON.
+    omit_none
+        The key is left out of the JSON when the value is None.
+    """
+    return {"json": (name, skip, omit_none)}
+
+
+@dataclass(frozen=True)
+class ScheduledBand:
+    """A band of the target's schedule, in force from the period ``start`` on."""
+
+    start: str = field(metadata=json_key(name="from"))
+    lower: float
+    upper: float
+    midpoint: float | None = field(metadata=json_key(omit_none=True))
+    tolerance: float | None = field(metadata=json_key(omit_none=True))
+
+
+@dataclass(frozen=True)
+class TargetRecord:
+    """The target: its band (midpoint and tolerance where it was given so), the measure it is
+    defined on (``basis``), its edges and the schedule of later bands."""
+
+    lower: float
+    upper: float
+    midpoint: float | None = field(metadata=json_key(omit_none=True))
+    tolerance: float | None = field(metadata=json_key(omit_none=True))
+    basis: str
+    edges: str
+    schedule: tuple[ScheduledBand, ...]
+
+
+@dataclass(frozen=True)
+class FamilySource:
+    """The error distribution's family at one horizon and where its errors came from."""
+
+    h: int
+    family: str
+    source: str
+
+
+@dataclass(frozen=True)
+class SelectionRecord:
+    """The automatic choice of family: chosen, runner-up and each family's total log score."""
+
+    chosen: str
+    runner_up: str | None
+    total_log_score: dict[str, float]
+
+
+@dataclass(frozen=True)
+class UncertaintyRecord:
+    """How the error distributions were built (the ``[uncertainty]`` settings used)."""
+
+    distribution: str
+    families: tuple[FamilySource, ...]
+    window: int
+    centre: str
+    monotone: bool
+    min_errors: int
+    bootstrap_replicates: int
+    interval_level: float
+    simulations: int
+    seed: int
+    verbal_scale: str
+    selection: SelectionRecord | None = field(metadata=json_key(omit_none=True))
 
 
 @dataclass(frozen=True)
@@ -86,12 +167,61 @@ class PathResult:
 
 
 @dataclass(frozen=True)
+class ScenarioHorizon:
+    """Band probabilities of one scenario at one reported period."""
+
+    period: str
+    h: int
+    centre: float
+    p_below: float
+    p_inside: float
+    p_above: float
+
+
+@dataclass(frozen=True)
+class ScenarioResult:
+    """One named scenario: its reasons and its probabilities per reported period."""
+
+    name: str
+    reasons: tuple[str, ...]
+    horizons: tuple[ScenarioHorizon, ...]
+
+
+@dataclass(frozen=True)
 class WeightRow:
     """One model's weight at one horizon in the current round."""
 
     h: int
     model: str
     weight: float
+
+
+@dataclass(frozen=True)
+class InterceptRow:
+    """The intercept of the ``ols`` combination at one horizon."""
+
+    h: int
+    intercept: float
+
+
+@dataclass(frozen=True)
+class RowCount:
+    """How many past rounds the combination's weights at one horizon were estimated from."""
+
+    h: int
+    n: int
+
+
+@dataclass(frozen=True)
+class CombinationRecord:
+    """How the forecasts were combined in the current round."""
+
+    method: str
+    window: int | None
+    shrinkage: float | None
+    weights: tuple[WeightRow, ...]
+    intercepts: tuple[InterceptRow, ...]
+    rows: tuple[RowCount, ...]
 
 
 @dataclass(frozen=True)
@@ -117,6 +247,26 @@ class InputRecord:
 
 
 @dataclass(frozen=True)
+class SoftwareVersions:
+    """Versions of Python and of the libraries a brief was computed with ("not installed"
+    where one is missing)."""
+
+    python: str
+    riskreport: str
+    numpy: str
+    scipy: str
+    pandas: str
+    statsmodels: str
+    matplotlib: str
+    jinja2: str
+    weasyprint: str
+
+    def items(self) -> tuple[tuple[str, str], ...]:
+        """(name, version) pairs in the JSON's order."""
+        return tuple((f.name, getattr(self, f.name)) for f in dataclasses.fields(self))
+
+
+@dataclass(frozen=True)
 class Observation:
     """One outcome of the history shown in the outlook chart."""
 
@@ -132,26 +282,26 @@ class Assessment:
     frequency: str
     title: str
     institution: str
-    target: dict[str, Any]
+    target: TargetRecord
     policy_horizon: int
     headline: BasisResult
     basis_results: tuple[BasisResult, ...]
     horizons: tuple[HorizonResult, ...]
     model_based_horizons: tuple[HorizonResult, ...]
     judgement: tuple[AppliedJudgement, ...]
-    scenarios: tuple[dict[str, Any], ...]
+    scenarios: tuple[ScenarioResult, ...]
     path: tuple[PathResult, ...]
-    annual: tuple[dict[str, Any], ...]
-    combination: dict[str, Any]
+    annual: tuple[AnnualResult, ...]
+    combination: CombinationRecord
     models: tuple[ModelStatus, ...]
     accuracy: tuple[AccuracyRow, ...]
     tests: tuple[TestRow, ...]
-    calibration: dict[str, Any]
-    uncertainty: dict[str, Any]
+    calibration: CalibrationRecord
+    uncertainty: UncertaintyRecord
     history: tuple[Observation, ...]
-    change: dict[str, Any] | None
+    change: ChangeRecord | None
     inputs: tuple[InputRecord, ...]
-    software: dict[str, str]
+    software: SoftwareVersions
     warnings: tuple[str, ...]
     adjustments: Adjustments | None = None
     thresholds: tuple[ThresholdResult, ...] = ()
@@ -175,15 +325,37 @@ class Assessment:
 
     def to_dict(self) -> dict[str, Any]:
         """The contract's JSON structure, as plain Python values."""
-        return _clean(dataclasses.asdict(self))
+        result: dict[str, Any] = plain(self)
+        return result
 
     def to_json(self) -> str:
         """The assessment as JSON text (UTF-8, sorted nowhere, stable for identical inputs)."""
         return json.dumps(self.to_dict(), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
+def plain(value: Any) -> Any:
+    """Any part of an assessment as plain JSON values: the one place results are flattened.
+
+    Dataclasses become objects with their fields in declaration order (see
+    :func:`json_field`), tuples become lists and floats are rounded to 12 significant digits
+    (stable across BLAS); a non-finite float becomes None (JSON null).
+    """
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        out: dict[str, Any] = {}
+        for f in dataclasses.fields(value):
+            name, skip, omit_none = f.metadata.get("json", (None, False, False))
+            item = getattr(value, f.name)
+            if skip or (omit_none and item is None):
+                continue
+            out[name or f.name] = plain(item)
+        return out
+    return _clean(value)
+
+
 def _clean(value: Any) -> Any:
     """Tuples to lists and floats rounded to 12 significant digits (stable across BLAS)."""
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return plain(value)
     if isinstance(value, dict):
         return {str(k): _clean(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):

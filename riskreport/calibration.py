@@ -13,7 +13,7 @@ from __future__ import annotations
 import dataclasses
 import warnings
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -21,6 +21,7 @@ from scipy import stats as st
 
 from riskreport import periods, scores, stats
 from riskreport._typing import Family, Frequency
+from riskreport.assessment import json_key
 from riskreport.config import Band
 from riskreport.distributions import FAMILIES, fit_batch
 from riskreport.errors import SmallSampleWarning
@@ -31,6 +32,126 @@ NOMINAL = (0.5, 0.9)
 PIT_BINS = 10
 CHUNK = 128  # origins fitted at once in the replay
 PAD = 32  # training samples are NaN padded to a multiple of this many columns
+
+
+@dataclass(frozen=True)
+class CoverageResult:
+    """How often the central range of ``nominal`` probability held at horizon h."""
+
+    h: int
+    nominal: float
+    observed: float
+    n: int
+
+
+@dataclass(frozen=True)
+class PitGroup:
+    """PIT histogram of a group of horizons and its chi-square test against the uniform."""
+
+    h_from: int
+    h_to: int
+    counts: tuple[int, ...]
+    n: int
+    chi2: float
+    pvalue: float
+    note: str
+
+
+@dataclass(frozen=True)
+class BrierRow:
+    """The Brier score of P(inside) at one horizon and its decomposition."""
+
+    h: int
+    brier: float
+    reliability: float
+    resolution: float
+    uncertainty: float
+    within_bin: float
+    n: int
+
+
+@dataclass(frozen=True)
+class ReliabilityBin:
+    """One bin of the reliability diagram: stated probabilities against frequencies."""
+
+    bin: tuple[float, float]
+    forecast_mean: float
+    observed_frequency: float
+    n: int
+
+
+@dataclass(frozen=True)
+class BrierRecord:
+    """Brier scores by horizon and the reliability table over all horizons."""
+
+    by_horizon: tuple[BrierRow, ...]
+    reliability: tuple[ReliabilityBin, ...]
+
+
+@dataclass(frozen=True)
+class RpsRow:
+    """The ranked probability score of the three categories at one horizon, with skill
+    against climatology."""
+
+    h: int
+    rps: float
+    rps_climatology: float
+    skill: float
+    n: int
+
+
+@dataclass(frozen=True)
+class RpsRecord:
+    """Ranked probability scores by horizon, with the categories and convention used."""
+
+    by_horizon: tuple[RpsRow, ...]
+    categories: tuple[str, ...]
+    convention: str
+
+
+@dataclass(frozen=True)
+class CalibrationTest:
+    """A calibration test of the PITs at one horizon, with what :class:`stats.TestResult`
+    carries (``alternative`` is kept on the object, not written to the JSON)."""
+
+    __test__ = False  # not a pytest test class
+
+    name: str
+    h: int
+    statistic: float
+    pvalue: float
+    nobs: int
+    null: str
+    method: str
+    df: tuple[float, ...]
+    notes: tuple[str, ...]
+    alternative: str = field(default="", metadata=json_key(skip=True))
+
+
+@dataclass(frozen=True)
+class FamilyScore:
+    """Mean log score and CRPS of one family's replay at one horizon."""
+
+    distribution: str
+    h: int
+    log_score: float
+    crps: float
+    n: int
+
+
+@dataclass(frozen=True)
+class CalibrationRecord:
+    """The calibration record of the graded family plus the scores of every family."""
+
+    distribution: str
+    coverage: tuple[CoverageResult, ...]
+    pit: tuple[PitGroup, ...]
+    brier: BrierRecord
+    rps: RpsRecord
+    tests: tuple[CalibrationTest, ...]
+    scores: tuple[FamilyScore, ...]
+
+
 HORIZON_GROUPS: dict[Frequency, tuple[tuple[int, int], ...]] = {
     "monthly": ((0, 2), (3, 5), (6, 11), (12, 17), (18, 24)),
     "quarterly": ((0, 0), (1, 2), (3, 4), (5, 8)),
@@ -228,7 +349,7 @@ def replay(
     return out
 
 
-def _pit_groups(runs: list[HorizonReplay], frequency: Frequency) -> list[dict[str, Any]]:
+def _pit_groups(runs: list[HorizonReplay], frequency: Frequency) -> list[PitGroup]:
     groups = []
     for first, last in HORIZON_GROUPS[frequency]:
         pits = np.concatenate([r.pit for r in runs if first <= r.h <= last] or [np.empty(0)])
@@ -237,15 +358,15 @@ def _pit_groups(runs: list[HorizonReplay], frequency: Frequency) -> list[dict[st
         counts = np.histogram(pits, bins=PIT_BINS, range=(0, 1))[0]
         chi2 = st.chisquare(counts)
         groups.append(
-            {
-                "h_from": first,
-                "h_to": last,
-                "counts": counts.tolist(),
-                "n": int(pits.size),
-                "chi2": float(chi2.statistic),
-                "pvalue": float(chi2.pvalue),
-                "note": "Pearson chi-square against the uniform (Wallis 2003); overlapping multi-step PITs are dependent, so the p-value is indicative only",
-            }
+            PitGroup(
+                h_from=first,
+                h_to=last,
+                counts=tuple(int(c) for c in counts),
+                n=int(pits.size),
+                chi2=float(chi2.statistic),
+                pvalue=float(chi2.pvalue),
+                note="Pearson chi-square against the uniform (Wallis 2003); overlapping multi-step PITs are dependent, so the p-value is indicative only",
+            )
         )
     return groups
 
@@ -253,7 +374,7 @@ def _pit_groups(runs: list[HorizonReplay], frequency: Frequency) -> list[dict[st
 MIN_TEST_ROUNDS = 12  # fewer replayed rounds make the calibration tests meaningless
 
 
-def _reliability(runs: list[HorizonReplay], bins: int = 10) -> list[dict[str, Any]]:
+def _reliability(runs: list[HorizonReplay], bins: int = 10) -> list[ReliabilityBin]:
     if not runs:  # too short a track record for any past origin to be replayed
         return []
     p = np.concatenate([r.probabilities[:, 1] for r in runs])
@@ -264,72 +385,73 @@ def _reliability(runs: list[HorizonReplay], bins: int = 10) -> list[dict[str, An
         members = which == k
         if members.any():
             table.append(
-                {
-                    "bin": [k / bins, (k + 1) / bins],
-                    "forecast_mean": float(p[members].mean()),
-                    "observed_frequency": float(o[members].mean()),
-                    "n": int(members.sum()),
-                }
+                ReliabilityBin(
+                    bin=(k / bins, (k + 1) / bins),
+                    forecast_mean=float(p[members].mean()),
+                    observed_frequency=float(o[members].mean()),
+                    n=int(members.sum()),
+                )
             )
     return table
 
 
-def _test_entry(name: str, h: int, result: stats.TestResult) -> dict[str, Any]:
-    return {
-        "name": name,
-        "h": h,
-        "statistic": result.statistic,
-        "pvalue": result.pvalue,
-        "nobs": result.nobs,
-        "null": result.null,
-        "method": result.method,
-        "df": list(result.df),
-        "notes": list(result.notes),
-    }
+def _test_entry(name: str, h: int, result: stats.TestResult) -> CalibrationTest:
+    return CalibrationTest(
+        name=name,
+        h=h,
+        statistic=result.statistic,
+        pvalue=result.pvalue,
+        nobs=result.nobs,
+        null=result.null,
+        method=result.method,
+        df=tuple(result.df),
+        notes=tuple(result.notes),
+        alternative=result.alternative,
+    )
 
 
 def summarise(
     runs: dict[tuple[str, int], HorizonReplay], family: str, frequency: Frequency
-) -> dict[str, Any]:
-    """The calibration record of one family plus the scores of every family (JSON-ready)."""
+) -> CalibrationRecord:
+    """The calibration record of one family plus the scores of every family."""
     mine = sorted((r for (f, _), r in runs.items() if f == family), key=lambda r: r.h)
-    coverage = [
-        {
-            "h": r.h,
-            "nominal": nominal,
-            "observed": float(np.mean(np.abs(r.pit - 0.5) <= nominal / 2)),
-            "n": int(r.pit.size),
-        }
+    coverage = tuple(
+        CoverageResult(
+            h=r.h,
+            nominal=nominal,
+            observed=float(np.mean(np.abs(r.pit - 0.5) <= nominal / 2)),
+            n=int(r.pit.size),
+        )
         for r in mine
         for nominal in NOMINAL
-    ]
-    brier_rows = []
-    rps_rows = []
-    tests = []
+    )
+    brier_rows: list[BrierRow] = []
+    rps_rows: list[RpsRow] = []
+    tests: list[CalibrationTest] = []
     short: list[int] = []
     for r in mine:
         d = scores.brier(r.probabilities[:, 1], (r.category == 1).astype(float))
         brier_rows.append(
-            {
-                "h": r.h,
-                "brier": d.brier,
-                "reliability": d.reliability,
-                "resolution": d.resolution,
-                "uncertainty": d.uncertainty,
-                "within_bin": d.within_bin,
-                "n": d.n,
-            }
+            BrierRow(
+                h=r.h,
+                brier=d.brier,
+                reliability=d.reliability,
+                resolution=d.resolution,
+                uncertainty=d.uncertainty,
+                within_bin=d.within_bin,
+                n=d.n,
+            )
         )
         ours = float(np.mean(scores.rps(r.probabilities, r.category)))
         clim = float(np.mean(scores.rps(r.climatology, r.category)))
         rps_rows.append(
-            {
-                "h": r.h,
-                "rps": ours,
-                "rps_climatology": clim,
-                "skill": 1 - ours / clim if clim > 0 else float("nan"),
-                "n": int(r.pit.size),
-            }
+            RpsRow(
+                h=r.h,
+                rps=ours,
+                rps_climatology=clim,
+                skill=1 - ours / clim if clim > 0 else float("nan"),
+                n=int(r.pit.size),
+            )
         )
         if r.pit.size >= MIN_TEST_ROUNDS:
             if r.h == 0:
@@ -347,25 +469,25 @@ def summarise(
             SmallSampleWarning,
             stacklevel=2,
         )
-    return {
-        "distribution": family,
-        "coverage": coverage,
-        "pit": _pit_groups(mine, frequency),
-        "brier": {"by_horizon": brier_rows, "reliability": _reliability(mine)},
-        "rps": {
-            "by_horizon": rps_rows,
-            "categories": ["below", "inside", "above"],
-            "convention": "sum over the three categories of the squared differences of cumulative probabilities, not divided by the number of categories minus one",
-        },
-        "tests": tests,
-        "scores": [
-            {
-                "distribution": f,
-                "h": h,
-                "log_score": float(np.mean(r.log_score)),
-                "crps": float(np.mean(r.crps)),
-                "n": int(r.pit.size),
-            }
+    return CalibrationRecord(
+        distribution=family,
+        coverage=coverage,
+        pit=tuple(_pit_groups(mine, frequency)),
+        brier=BrierRecord(tuple(brier_rows), tuple(_reliability(mine))),
+        rps=RpsRecord(
+            by_horizon=tuple(rps_rows),
+            categories=("below", "inside", "above"),
+            convention="sum over the three categories of the squared differences of cumulative probabilities, not divided by the number of categories minus one",
+        ),
+        tests=tuple(tests),
+        scores=tuple(
+            FamilyScore(
+                distribution=f,
+                h=h,
+                log_score=float(np.mean(r.log_score)),
+                crps=float(np.mean(r.crps)),
+                n=int(r.pit.size),
+            )
             for (f, h), r in sorted(runs.items(), key=lambda item: (item[0][1], item[0][0]))
-        ],
-    }
+        ),
+    )

@@ -70,6 +70,28 @@ class Side:
         return cdf(band[1] - centre) - cdf(band[0] - centre)
 
 
+@dataclass(frozen=True)
+class ChangeHorizon:
+    """The change in P(inside) for one target period in both briefs, and its Shapley parts."""
+
+    period: str
+    p_inside_before: float
+    p_inside_now: float
+    due_to_centre: float
+    due_to_spread: float
+    due_to_band: float
+    centre_before: float
+    centre_now: float
+
+
+@dataclass(frozen=True)
+class ChangeRecord:
+    """The change since the brief of ``previous_as_of``, by target period in both."""
+
+    previous_as_of: str
+    horizons: tuple[ChangeHorizon, ...]
+
+
 def side(row: dict[str, Any]) -> Side:
     """A horizon row of an assessment JSON as a :class:`Side`."""
     if row.get("percentiles"):
@@ -233,7 +255,7 @@ def _check_row(path: Path, i: int, row: object) -> None:
         raise bad("percentiles", "finite quantiles, non-decreasing, at levels inside (0, 1)")
 
 
-def compare(previous: dict[str, Any], current_rows: list[dict[str, Any]]) -> dict[str, Any]:
+def compare(previous: dict[str, Any], current_rows: list[dict[str, Any]]) -> ChangeRecord:
     """The ``change`` record: by target period present in both briefs."""
     before = {row["period"]: row for row in previous["horizons"]}
     rows = []
@@ -243,15 +265,15 @@ def compare(previous: dict[str, Any], current_rows: list[dict[str, Any]]) -> dic
             continue
         centre, spread, band = decompose(side(old), side(row))
         rows.append(
-            {
-                "period": row["period"],
-                "p_inside_before": float(old["p_inside"]),
-                "p_inside_now": float(row["p_inside"]),
-                "due_to_centre": centre,
-                "due_to_spread": spread,
-                "due_to_band": band,
-                "centre_before": float(old["centre"]),
-                "centre_now": float(row["centre"]),
-            }
+            ChangeHorizon(
+                period=row["period"],
+                p_inside_before=float(old["p_inside"]),
+                p_inside_now=float(row["p_inside"]),
+                due_to_centre=centre,
+                due_to_spread=spread,
+                due_to_band=band,
+                centre_before=float(old["centre"]),
+                centre_now=float(row["centre"]),
+            )
         )
-    return {"previous_as_of": previous["as_of"], "horizons": rows}
+    return ChangeRecord(str(previous["as_of"]), tuple(rows))

@@ -22,10 +22,13 @@ import traceback
 from collections.abc import Sequence
 from importlib import resources
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from riskreport import __version__, progress
 from riskreport.errors import EnvironmentFailure, InputError
+
+if TYPE_CHECKING:  # annotations only: `check` runs without loading the pipeline
+    from riskreport.assessment import Assessment
 
 log = logging.getLogger("riskreport")
 
@@ -134,7 +137,7 @@ def _sha256(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
-def _headline(assessment: Any) -> dict[str, Any]:
+def _headline(assessment: Assessment) -> dict[str, Any]:
     r = assessment.policy
     head = assessment.headline  # the measure of [target] basis (the period, or a year)
     return {

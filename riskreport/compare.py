@@ -87,14 +87,14 @@ def compare_files(old: Path, new: Path) -> Comparison:
         new_as_of=str(now["as_of"]),
         rows=tuple(
             ChangeRow(
-                period=r["period"],
-                p_inside_before=r["p_inside_before"],
-                p_inside_now=r["p_inside_now"],
-                due_to_centre=r["due_to_centre"],
-                due_to_spread=r["due_to_spread"],
-                due_to_band=r["due_to_band"],
+                period=r.period,
+                p_inside_before=r.p_inside_before,
+                p_inside_now=r.p_inside_now,
+                due_to_centre=r.due_to_centre,
+                due_to_spread=r.due_to_spread,
+                due_to_band=r.due_to_band,
             )
-            for r in record["horizons"]
+            for r in record.horizons
         ),
     )
 

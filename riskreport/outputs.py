@@ -11,14 +11,13 @@ from __future__ import annotations
 import csv
 import hashlib
 import io
-import json
 import logging
 from collections.abc import Iterable
 from pathlib import Path
 
 from riskreport import folder
 from riskreport._typing import OUTPUT_FORMATS, OutputFormat
-from riskreport.assessment import Assessment
+from riskreport.assessment import Assessment, HorizonResult, plain
 
 log = logging.getLogger("riskreport")
 
@@ -38,34 +37,33 @@ def _csv(rows: Iterable[dict[str, object]]) -> bytes:
     return buffer.getvalue().encode("utf-8")
 
 
-def _horizon_rows(rows: list[dict[str, object]]) -> list[dict[str, object]]:
-    flat = []
-    for r in rows:
-        band = r["band"]
-        interval = r["p_inside_interval"]
-        quantiles = r["quantiles"]
-        assert isinstance(band, list)
-        assert isinstance(interval, list)
-        assert isinstance(quantiles, dict)
-        flat.append(
+def _rows(items: Iterable[object]) -> list[dict[str, object]]:
+    """Result objects as CSV rows, flattened as in the JSON (:func:`plain`)."""
+    return [plain(item) for item in items]
+
+
+def _horizon_rows(rows: Iterable[HorizonResult]) -> list[dict[str, object]]:
+    return [
+        plain(
             {
-                "period": r["period"],
-                "h": r["h"],
-                "lower": band[0],
-                "upper": band[1],
-                "centre": r["centre"],
-                "point_forecast": r["point_forecast"],
-                "p_below": r["p_below"],
-                "p_inside": r["p_inside"],
-                "p_above": r["p_above"],
-                "p_inside_lo": interval[0],
-                "p_inside_hi": interval[1],
-                **{f"q{k}": v for k, v in quantiles.items()},
-                "distribution": r["distribution"],
-                "n_errors": r["n_errors"],
+                "period": r.period,
+                "h": r.h,
+                "lower": r.band[0],
+                "upper": r.band[1],
+                "centre": r.centre,
+                "point_forecast": r.point_forecast,
+                "p_below": r.p_below,
+                "p_inside": r.p_inside,
+                "p_above": r.p_above,
+                "p_inside_lo": r.p_inside_interval[0],
+                "p_inside_hi": r.p_inside_interval[1],
+                **{f"q{k}": v for k, v in r.quantiles.items()},
+                "distribution": r.distribution,
+                "n_errors": r.n_errors,
             }
         )
-    return flat
+        for r in rows
+    ]
 
 
 def _digits(value: float) -> float:
@@ -98,39 +96,40 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         raise ValueError(f"formats: expected items from {OUTPUT_FORMATS}, got {sorted(unknown)}")
     as_of = assessment.as_of
     text = assessment.to_json()
-    data = json.loads(text)
     files: dict[str, bytes] = {}
     if "json" in chosen:
         files[f"assessment-{as_of}.json"] = text.encode("utf-8")
     if "csv" in chosen:
-        files[f"tables/horizons-{as_of}.csv"] = _csv(_horizon_rows(data["horizons"]))
+        a = assessment
+        files[f"tables/horizons-{as_of}.csv"] = _csv(_horizon_rows(a.horizons))
         files[f"tables/model-based-horizons-{as_of}.csv"] = _csv(
-            _horizon_rows(data["model_based_horizons"])
+            _horizon_rows(a.model_based_horizons)
         )
-        files[f"tables/path-{as_of}.csv"] = _csv(data["path"])
-        files[f"tables/accuracy-{as_of}.csv"] = _csv(data["accuracy"])
+        files[f"tables/path-{as_of}.csv"] = _csv(_rows(a.path))
+        files[f"tables/accuracy-{as_of}.csv"] = _csv(_rows(a.accuracy))
         files[f"tables/tests-{as_of}.csv"] = _csv(
-            {**t, "models": " vs ".join(t["models"]), "notes": "; ".join(t["notes"])}
-            for t in data["tests"]
+            {**plain(t), "models": " vs ".join(t.models), "notes": "; ".join(t.notes)}
+            for t in a.tests
         )
-        files[f"tables/weights-{as_of}.csv"] = _csv(data["combination"]["weights"])
+        files[f"tables/weights-{as_of}.csv"] = _csv(_rows(a.combination.weights))
         files[f"tables/annual-{as_of}.csv"] = _csv(
-            {**r, "band": "..".join(map(str, r["band"]))} for r in data["annual"]
+            {**plain(r), "band": "..".join(map(str, plain(r.band)))} for r in a.annual
         )
-        calibration = data["calibration"]
-        files[f"tables/coverage-{as_of}.csv"] = _csv(calibration["coverage"])
-        files[f"tables/scores-{as_of}.csv"] = _csv(calibration["scores"])
-        files[f"tables/brier-{as_of}.csv"] = _csv(calibration["brier"]["by_horizon"])
+        calibration = a.calibration
+        files[f"tables/coverage-{as_of}.csv"] = _csv(_rows(calibration.coverage))
+        files[f"tables/scores-{as_of}.csv"] = _csv(_rows(calibration.scores))
+        files[f"tables/brier-{as_of}.csv"] = _csv(_rows(calibration.brier.by_horizon))
         files[f"tables/reliability-{as_of}.csv"] = _csv(
-            {**r, "bin": "..".join(map(str, r["bin"]))} for r in calibration["brier"]["reliability"]
+            {**plain(r), "bin": "..".join(map(str, plain(r.bin)))}
+            for r in calibration.brier.reliability
         )
         files[f"tables/scenarios-{as_of}.csv"] = _csv(
-            {"scenario": sc["name"], **row} for sc in data["scenarios"] for row in sc["horizons"]
+            {"scenario": sc.name, **plain(row)} for sc in a.scenarios for row in sc.horizons
         )
-        if assessment.thresholds:
-            files[f"tables/thresholds-{as_of}.csv"] = _csv(threshold_rows(assessment))
-        if data["change"]:
-            files[f"tables/change-{as_of}.csv"] = _csv(data["change"]["horizons"])
+        if a.thresholds:
+            files[f"tables/thresholds-{as_of}.csv"] = _csv(threshold_rows(a))
+        if a.change:
+            files[f"tables/change-{as_of}.csv"] = _csv(_rows(a.change.horizons))
     if "xlsx" in chosen:
         from riskreport.report import workbook
 

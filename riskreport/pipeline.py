@@ -37,10 +37,21 @@ from riskreport import thresholds as thresholds_module
 from riskreport.assessment import (
     Assessment,
     BasisResult,
+    CombinationRecord,
+    FamilySource,
     HorizonResult,
     InputRecord,
+    InterceptRow,
     Observation,
     PathResult,
+    RowCount,
+    ScenarioHorizon,
+    ScenarioResult,
+    ScheduledBand,
+    SelectionRecord,
+    SoftwareVersions,
+    TargetRecord,
+    UncertaintyRecord,
     WeightRow,
 )
 from riskreport.config import Config
@@ -71,24 +82,17 @@ def _sha256(path: Path) -> str:
     return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
-def _software() -> dict[str, str]:
-    names = [
-        "riskreport",
-        "numpy",
-        "scipy",
-        "pandas",
-        "statsmodels",
-        "matplotlib",
-        "jinja2",
-        "weasyprint",
-    ]
-    versions = {"python": platform.python_version()}
-    for name in names:
+def _software() -> SoftwareVersions:
+    def version(name: str) -> str:
         try:
-            versions[name] = metadata.version(name)
+            return metadata.version(name)
         except metadata.PackageNotFoundError:
-            versions[name] = "not installed"
-    return versions
+            return "not installed"
+
+    names = [f.name for f in dataclasses.fields(SoftwareVersions) if f.name != "python"]
+    return SoftwareVersions(
+        python=platform.python_version(), **{name: version(name) for name in names}
+    )
 
 
 def _input_records(
@@ -182,22 +186,22 @@ def _horizon_results(
 
 def _scenario_record(
     cfg: Config, name: str, reasons: tuple[str, ...], dists: list[Distribution], ordinals: list[int]
-) -> dict[str, object]:
+) -> ScenarioResult:
     rows = []
     for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
         band = cfg.band_for(ordinal)
         p = probabilities.band_probabilities(dist, band.lower, band.upper)
         rows.append(
-            {
-                "period": periods.label(ordinal, cfg.frequency),
-                "h": h,
-                "centre": float(dist.mode),
-                "p_below": p.p_below,
-                "p_inside": p.p_inside,
-                "p_above": p.p_above,
-            }
+            ScenarioHorizon(
+                period=periods.label(ordinal, cfg.frequency),
+                h=h,
+                centre=float(dist.mode),
+                p_below=p.p_below,
+                p_inside=p.p_inside,
+                p_above=p.p_above,
+            )
         )
-    return {"name": name, "reasons": list(reasons), "horizons": rows}
+    return ScenarioResult(name, tuple(reasons), tuple(rows))
 
 
 def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:
@@ -318,53 +322,49 @@ def _history(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
     )
 
 
-def _target(cfg: Config) -> dict[str, object]:
+def _target(cfg: Config) -> TargetRecord:
     band = cfg.band
-    target: dict[str, object] = {"lower": band.lower, "upper": band.upper}
-    if band.midpoint is not None:
-        target.update(midpoint=band.midpoint, tolerance=band.tolerance)
-    target["basis"] = cfg.basis
-    target["edges"] = "inclusive"
-    target["schedule"] = [
-        {
-            "from": periods.label(c.start, cfg.frequency),
-            "lower": c.band.lower,
-            "upper": c.band.upper,
-            **(
-                {"midpoint": c.band.midpoint, "tolerance": c.band.tolerance}
-                if c.band.midpoint is not None
-                else {}
-            ),
-        }
-        for c in cfg.schedule
-    ]
-    return target
+    return TargetRecord(
+        lower=band.lower,
+        upper=band.upper,
+        midpoint=band.midpoint,
+        tolerance=band.tolerance,
+        basis=cfg.basis,
+        edges="inclusive",
+        schedule=tuple(
+            ScheduledBand(
+                start=periods.label(c.start, cfg.frequency),
+                lower=c.band.lower,
+                upper=c.band.upper,
+                midpoint=c.band.midpoint,
+                tolerance=c.band.tolerance,
+            )
+            for c in cfg.schedule
+        ),
+    )
 
 
-def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> dict[str, object]:
-    record: dict[str, object] = {
-        "distribution": cfg.distribution,
-        "families": [
-            {"h": h, "family": f, "source": s}
+def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> UncertaintyRecord:
+    choice = margins.choice
+    return UncertaintyRecord(
+        distribution=cfg.distribution,
+        families=tuple(
+            FamilySource(h, f, s)
             for h, (f, s) in enumerate(zip(margins.families, margins.sources, strict=True))
-        ],
-        "window": cfg.window,
-        "centre": cfg.centre,
-        "monotone": cfg.monotone,
-        "min_errors": cfg.min_errors,
-        "bootstrap_replicates": cfg.bootstrap_replicates,
-        "interval_level": 0.9,
-        "simulations": cfg.simulations,
-        "seed": cfg.seed,
-        "verbal_scale": cfg.verbal_scale,
-    }
-    if margins.choice is not None:
-        record["selection"] = {
-            "chosen": margins.choice.chosen,
-            "runner_up": margins.choice.runner_up,
-            "total_log_score": margins.choice.total,
-        }
-    return record
+        ),
+        window=cfg.window,
+        centre=cfg.centre,
+        monotone=cfg.monotone,
+        min_errors=cfg.min_errors,
+        bootstrap_replicates=cfg.bootstrap_replicates,
+        interval_level=0.9,
+        simulations=cfg.simulations,
+        seed=cfg.seed,
+        verbal_scale=cfg.verbal_scale,
+        selection=None
+        if choice is None
+        else SelectionRecord(choice.chosen, choice.runner_up, choice.total),
+    )
 
 
 def _adjustments(
@@ -458,11 +458,11 @@ def _year_history(
     when the target is per period) across the rounds in the output folder."""
     year = periods.year_of(cfg.as_of, cfg.frequency)
     basis = "year-end" if cfg.basis == "year-end" else "calendar-year-average"
-    now = next((r for r in assessment.annual if r["year"] == year and r["basis"] == basis), None)
+    now = next((r for r in assessment.annual if r.year == year and r.basis == basis), None)
     if now is None:
         return ()
     return history_module.year_points(
-        directory or cfg.output_directory, assessment.as_of, year, basis, float(now["p_inside"])
+        directory or cfg.output_directory, assessment.as_of, year, basis, now.p_inside
     )
 
 
@@ -614,19 +614,19 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             for name, reasons, dists in scenario_dists
         ),
         path=_path(cfg, draws, ordinals),
-        annual=tuple(dataclasses.asdict(a) for a in yearly),
-        combination={
-            "method": method,
-            "window": cfg.combination_window,
-            "shrinkage": cfg.combination_shrinkage,
-            "weights": [w.__dict__ for w in weights],
-            "intercepts": [
-                {"h": h, "intercept": float(combo.intercepts[h])}
+        annual=tuple(yearly),
+        combination=CombinationRecord(
+            method=method,
+            window=cfg.combination_window,
+            shrinkage=cfg.combination_shrinkage,
+            weights=tuple(weights),
+            intercepts=tuple(
+                InterceptRow(h, float(combo.intercepts[h]))
                 for h in range(cfg.horizons + 1)
                 if method == "ols"
-            ],
-            "rows": [{"h": h, "n": int(combo.rows[h])} for h in range(cfg.horizons + 1)],
-        },
+            ),
+            rows=tuple(RowCount(h, int(combo.rows[h])) for h in range(cfg.horizons + 1)),
+        ),
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,

@@ -10,12 +10,13 @@ the tests use h lags (``stats`` functions take steps = h + 1).
 from __future__ import annotations
 
 import warnings
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
 import numpy as np
 
 from riskreport import benchmarks, periods
+from riskreport.assessment import json_key
 from riskreport.combination import Combination
 from riskreport.errors import SmallSampleWarning
 from riskreport.panel import Panel, window_mask
@@ -53,6 +54,9 @@ class TestRow:
     null: str
     method: str
     notes: tuple[str, ...]
+    # Kept on the object, not written to the JSON (its keys are fixed):
+    alternative: str = field(default="", metadata=json_key(skip=True))
+    df: tuple[float, ...] = field(default=(), metadata=json_key(skip=True))
 
 
 @dataclass(frozen=True)
@@ -109,6 +113,8 @@ def _row(name: str, models: tuple[str, ...], h: int, result: stats.TestResult) -
         null=result.null,
         method=result.method,
         notes=result.notes,
+        alternative=result.alternative,
+        df=tuple(result.df),
     )
 
 

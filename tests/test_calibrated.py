@@ -177,7 +177,7 @@ def test_raw_and_recalibrated_probabilities_are_both_reported(tmp_path: Path) ->
     adj = result.adjustments
     assert adj is not None
     assert adj.recalibrate
-    assert result.calibration["distribution"] == "auto, recalibrated"
+    assert result.calibration.distribution == "auto, recalibrated"
     for row in adj.recalibration:
         model = result.horizon_result(row.h, model_based=True)
         assert model.p_inside == pytest.approx(row.p_inside, abs=1e-9)

@@ -26,28 +26,28 @@ def _world(tmp_path: Path, errors: np.ndarray) -> dict:
 def test_correctly_specified_world_is_calibrated(tmp_path: Path) -> None:
     errors = np.random.default_rng(42).normal(0.0, 0.8, 500)
     cal = _world(tmp_path, errors)
-    for row in cal["coverage"]:
-        se = np.sqrt(row["nominal"] * (1 - row["nominal"]) / row["n"])
+    for row in cal.coverage:
+        se = np.sqrt(row.nominal * (1 - row.nominal) / row.n)
         # Fitted (not known) parameters make predictive ranges a little narrow while the
         # training samples are short, hence the small allowance beyond sampling error.
-        assert abs(row["observed"] - row["nominal"]) < 3 * se + 0.02
-    for group in cal["pit"]:
-        assert group["pvalue"] > 0.001
-    for test in cal["tests"]:
-        assert test["pvalue"] > 0.001, test
-    reliability = cal["brier"]["reliability"]
-    big = [r for r in reliability if r["n"] >= 50]
-    assert all(abs(r["forecast_mean"] - r["observed_frequency"]) < 0.12 for r in big)
+        assert abs(row.observed - row.nominal) < 3 * se + 0.02
+    for group in cal.pit:
+        assert group.pvalue > 0.001
+    for test in cal.tests:
+        assert test.pvalue > 0.001, test
+    reliability = cal.brier.reliability
+    big = [r for r in reliability if r.n >= 50]
+    assert all(abs(r.forecast_mean - r.observed_frequency) < 0.12 for r in big)
 
 
 def test_errors_that_widen_halfway_are_detected(tmp_path: Path) -> None:
     rng = np.random.default_rng(43)
     errors = np.concatenate([rng.normal(0.0, 0.4, 250), rng.normal(0.0, 1.6, 250)])
     cal = _world(tmp_path, errors)
-    ninety = [r for r in cal["coverage"] if r["nominal"] == 0.9]
-    assert all(r["observed"] < 0.85 for r in ninety)
-    assert any(t["pvalue"] < 0.01 for t in cal["tests"])
-    assert any(g["pvalue"] < 0.01 for g in cal["pit"])
+    ninety = [r for r in cal.coverage if r.nominal == 0.9]
+    assert all(r.observed < 0.85 for r in ninety)
+    assert any(t.pvalue < 0.01 for t in cal.tests)
+    assert any(g.pvalue < 0.01 for g in cal.pit)
 
 
 def _macrodata_case(tmp_path: Path) -> tuple[Path, np.ndarray]:
@@ -104,22 +104,20 @@ def test_us_cpi_replay_matches_an_independent_recomputation(tmp_path: Path) -> N
         )
         inside_o.append(1.0 <= outcome[j] <= 3.0)
     pits_arr = np.array(pits)
-    ninety = next(r for r in cal["coverage"] if r["h"] == 0 and r["nominal"] == 0.9)
-    assert ninety["n"] == pits_arr.size
-    assert ninety["observed"] == pytest.approx(np.mean(np.abs(pits_arr - 0.5) <= 0.45), abs=1e-12)
-    brier = cal["brier"]["by_horizon"][0]
+    ninety = next(r for r in cal.coverage if r.h == 0 and r.nominal == 0.9)
+    assert ninety.n == pits_arr.size
+    assert ninety.observed == pytest.approx(np.mean(np.abs(pits_arr - 0.5) <= 0.45), abs=1e-12)
+    brier = cal.brier.by_horizon[0]
     expected = np.mean((np.array(inside_p) - np.array(inside_o, dtype=float)) ** 2)
-    assert brier["brier"] == pytest.approx(expected, abs=1e-10)
-    counts = next(g for g in cal["pit"] if g["h_from"] == 0)["counts"]
-    assert counts == np.histogram(pits_arr, bins=10, range=(0, 1))[0].tolist()
-    knuppel = next(t for t in cal["tests"] if t["name"] == "knuppel" and t["h"] == 0)
+    assert brier.brier == pytest.approx(expected, abs=1e-10)
+    counts = next(g for g in cal.pit if g.h_from == 0).counts
+    assert list(counts) == np.histogram(pits_arr, bins=10, range=(0, 1))[0].tolist()
+    knuppel = next(t for t in cal.tests if t.name == "knuppel" and t.h == 0)
     u = np.sqrt(12) * (pits_arr - 0.5)
     d = np.column_stack([u, u**2 - 1])
     omega = np.cov(d.T, bias=True)
     wald = d.shape[0] * d.mean(0) @ np.linalg.solve(omega, d.mean(0))
     # One step ahead: Hotelling's F = (T - q)/(q T) W ~ F(q, T - q) (Anderson 2003, Thm 5.2.2).
     t = d.shape[0]
-    assert knuppel["statistic"] == pytest.approx((t - 2) / (2 * t) * wald, rel=1e-9)
-    assert knuppel["pvalue"] == pytest.approx(
-        stats.f.sf((t - 2) / (2 * t) * wald, 2, t - 2), rel=1e-9
-    )
+    assert knuppel.statistic == pytest.approx((t - 2) / (2 * t) * wald, rel=1e-9)
+    assert knuppel.pvalue == pytest.approx(stats.f.sf((t - 2) / (2 * t) * wald, 2, t - 2), rel=1e-9)

@@ -108,12 +108,10 @@ def test_band_change_between_briefs_goes_to_the_band(case: Case, tmp_path: Path)
     case.config = case.config.replace("tolerance = 1.0", "tolerance = 1.5")
     second = riskreport.assess(case.write(), previous=tmp_path / "assessment-2024-12.json")
     assert second.change is not None
-    for row in second.change["horizons"]:
-        assert row["due_to_centre"] == 0.0
-        assert row["due_to_spread"] == 0.0
-        assert row["due_to_band"] == pytest.approx(
-            row["p_inside_now"] - row["p_inside_before"], abs=1e-12
-        )
+    for row in second.change.horizons:
+        assert row.due_to_centre == 0.0
+        assert row.due_to_spread == 0.0
+        assert row.due_to_band == pytest.approx(row.p_inside_now - row.p_inside_before, abs=1e-12)
 
 
 def test_scenarios_are_overlays_on_the_baseline(case: Case) -> None:
@@ -123,15 +121,15 @@ def test_scenarios_are_overlays_on_the_baseline(case: Case) -> None:
         '\n[[scenario]]\nname = "lower"\nfrom = "2024-12"\nto = "2025-03"\nshift = -0.5\nreason = "r3"\n'
     )
     a = riskreport.assess(case.write())
-    names = [s["name"] for s in a.scenarios]
+    names = [s.name for s in a.scenarios]
     assert names == ["higher", "lower"]
     higher = a.scenarios[0]
-    assert higher["reasons"] == ["r1", "r2"]
-    for base, row in zip(a.horizons, higher["horizons"], strict=True):
-        if row["period"] == "2024-12":
-            assert row["p_inside"] == pytest.approx(base.p_inside, abs=1e-12)
+    assert higher.reasons == ("r1", "r2")
+    for base, row in zip(a.horizons, higher.horizons, strict=True):
+        if row.period == "2024-12":
+            assert row.p_inside == pytest.approx(base.p_inside, abs=1e-12)
         else:
-            assert row["centre"] == pytest.approx(base.centre + 0.5, abs=1e-12)
+            assert row.centre == pytest.approx(base.centre + 0.5, abs=1e-12)
 
 
 def test_scenario_needs_a_name(case: Case, run: Callable[..., Result]) -> None:

@@ -143,13 +143,13 @@ def test_the_shrinkage_constant_is_a_config_key(tmp_path: Path) -> None:
     path = macrodata_world(tmp_path, "shrink", horizons=1, extra="shrinkage = 2.0\n")
     assert config.load(path).combination_shrinkage == 2.0
     shrunk = riskreport.assess(path)
-    assert shrunk.combination["shrinkage"] == 2.0
+    assert shrunk.combination.shrinkage == 2.0
     base = riskreport.assess(macrodata_world(tmp_path, "ols-sum-to-one", horizons=1))
     for h in (0, 1):
-        rows = shrunk.combination["rows"][h]["n"]
+        rows = shrunk.combination.rows[h].n
         lam = 1 - 2.0 * 4 / (rows - 4)  # Stock & Watson (2004), kappa = 2, k = 4, by hand
-        ols = np.array([w["weight"] for w in base.combination["weights"] if w["h"] == h])
-        ours = np.array([w["weight"] for w in shrunk.combination["weights"] if w["h"] == h])
+        ols = np.array([w.weight for w in base.combination.weights if w.h == h])
+        ours = np.array([w.weight for w in shrunk.combination.weights if w.h == h])
         assert ours == pytest.approx(lam * ols + (1 - lam) / 4, abs=1e-12)
     assert config.load(macrodata_world(tmp_path, "shrink")).combination_shrinkage == 0.25
 
@@ -182,7 +182,7 @@ def test_real_history_ols_leaves_the_models_range_and_says_so(tmp_path: Path) ->
         past = past[[_add(o, h) in act.index for o in past.index]]
         y = np.array([act[_add(o, h)] for o in past.index])
         fit = sm.OLS(y, sm.add_constant(past.to_numpy())).fit()
-        ours = {w["model"]: w["weight"] for w in a.combination["weights"] if w["h"] == h}
+        ours = {w.model: w.weight for w in a.combination.weights if w.h == h}
         assert [ours[m] for m in rows.columns] == pytest.approx(fit.params[1:], abs=1e-8)
         value = fit.params[0] + current.to_numpy() @ fit.params[1:]
         assert a.horizons[h].point_forecast == pytest.approx(value, abs=1e-8)

@@ -14,6 +14,7 @@ from xml.etree import ElementTree
 import openpyxl
 import pytest
 
+from riskreport.assessment import WeightRow
 from riskreport.errors import InputError
 from riskreport.inputs import read_actuals, read_forecasts
 from riskreport.report import charts
@@ -222,11 +223,9 @@ NAMES = ("$x$", "cost $5", "a_b", "c^2", "back\\slash", r"$\frac{1}{2}$")
 def test_model_names_with_mathtext_characters_in_chart_legend() -> None:
     hs = [0, 1]
     assessment = SimpleNamespace(
-        combination={
-            "weights": [
-                {"model": name, "h": h, "weight": 1 / len(NAMES)} for name in NAMES for h in hs
-            ]
-        },
+        combination=SimpleNamespace(
+            weights=[WeightRow(h, name, 1 / len(NAMES)) for name in NAMES for h in hs]
+        ),
         horizons=[SimpleNamespace(h=h) for h in hs],
         frequency="monthly",
     )

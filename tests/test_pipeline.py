@@ -13,6 +13,7 @@ from scipy import stats
 
 import riskreport
 from riskreport import combination
+from riskreport.assessment import ScheduledBand, plain
 from tests.conftest import Case, Result, constant_forecast_world
 
 
@@ -105,9 +106,9 @@ def test_spread_does_not_shrink_with_horizon(case: Case) -> None:
 def test_model_without_current_round_is_left_out(case: Case) -> None:
     case.forecasts = [r for r in case.forecasts if not (r[2] == "c" and r[0] == "2024-12")]
     assessment = riskreport.assess(case.write())
-    weights = assessment.combination["weights"]
-    assert {w["model"] for w in weights} == {"a", "b"}
-    assert all(w["weight"] == pytest.approx(0.5) for w in weights)
+    weights = assessment.combination.weights
+    assert {w.model for w in weights} == {"a", "b"}
+    assert all(w.weight == pytest.approx(0.5) for w in weights)
     assert any("'c' has no forecast in the current round" in w for w in assessment.warnings)
 
 
@@ -201,3 +202,33 @@ def test_outcome_for_as_of_is_ignored_everywhere_with_a_warning(case: Case) -> N
     assert all(o["period"] != "2024-12" for o in after["history"])
     assert not any("2024-12" in w for w in before["warnings"])
     assert any("outcome(s) for 2024-12" in w and "ignored" in w for w in after["warnings"])
+
+
+def test_test_rows_carry_the_reference_distribution(case: Case) -> None:
+    """Every Diebold-Mariano row keeps what stats.TestResult said: the alternative and the
+    Student t with T - 1 degrees of freedom of the small-sample correction (Harvey,
+    Leybourne and Newbold 1997, Int. J. Forecasting 13, eq. 9); the JSON keeps its keys."""
+    a = riskreport.assess(case.write())
+    dm = [t for t in a.tests if t.name == "diebold-mariano"]
+    assert dm
+    for t in dm:
+        assert t.df == (t.nobs - 1,)
+        assert t.alternative
+    written = json.loads(a.to_json())["tests"]
+    assert set(written[0]) == {
+        "name",
+        "models",
+        "h",
+        "statistic",
+        "pvalue",
+        "nobs",
+        "null",
+        "method",
+        "notes",
+    }
+
+
+def test_plain_writes_keyword_keys_and_leaves_out_absent_values() -> None:
+    """A scheduled band given as lower/upper has no midpoint key; its start is "from"."""
+    band = ScheduledBand(start="2026-01", lower=1.0, upper=3.0, midpoint=None, tolerance=None)
+    assert plain(band) == {"from": "2026-01", "lower": 1.0, "upper": 3.0}

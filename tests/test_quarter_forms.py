@@ -57,7 +57,7 @@ def test_undashed_quarters_give_the_same_assessment(tmp_path: Path) -> None:
     assert _numbers(plain) == _numbers(dashed)
     assert plain.as_of == "2024-Q3"
     assert plain.judgement[0].start == "2025-Q1"
-    assert plain.target["schedule"][0]["from"] == "2026-Q1"
+    assert plain.target.schedule[0].start == "2026-Q1"
     assert plain.horizons[0].period == "2024-Q3"
 
 

@@ -67,7 +67,7 @@ def test_thin_horizon_borrows_with_a_warning(case: Case) -> None:
     a = riskreport.assess(case.write())
     assert a.horizons[3].n_errors < 20
     assert any("borrow" in w for w in a.warnings)
-    assert "borrowing" in a.uncertainty["families"][3]["source"]
+    assert "borrowing" in a.uncertainty.families[3].source
 
 
 def test_error_quantiles_route(case: Case, run: Callable[..., Result]) -> None:
@@ -114,13 +114,13 @@ def test_annual_results_in_the_assessment(case: Case) -> None:
         "tolerance = 1.0", 'tolerance = 1.0\nbasis = "calendar-year-average"'
     )
     a = riskreport.assess(case.write())
-    assert a.target["basis"] == "calendar-year-average"
-    bases = {(r["year"], r["basis"]) for r in a.annual}
+    assert a.target.basis == "calendar-year-average"
+    bases = {(r.year, r.basis) for r in a.annual}
     # as_of 2024-12 with h = 0..3: 2024 is complete (Jan-Nov observed, Dec simulated);
     # 2025 is not (only Jan-Mar are reported), so it is left out.
     assert bases == {(2024, "calendar-year-average"), (2024, "year-end")}
     for r in a.annual:
-        assert r["p_below"] + r["p_inside"] + r["p_above"] == pytest.approx(1.0)
+        assert r.p_below + r.p_inside + r.p_above == pytest.approx(1.0)
 
 
 @pytest.mark.parametrize("family", ["two-piece-normal", "skew-normal", "empirical"])
@@ -143,7 +143,7 @@ def test_target_schedule_changes_the_band_from_its_period(case: Case) -> None:
     for r in a.horizons:
         expected = (1.0, 3.0) if r.period < "2025-02" else (1.0, 2.0)
         assert r.band == expected
-    assert a.target["schedule"][0]["from"] == "2025-02"
+    assert a.target.schedule[0].start == "2025-02"
 
 
 def test_two_piece_errors_from_a_known_law(tmp_path: Path) -> None:

@@ -9,6 +9,8 @@ A term's side is read from the published range.
 
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 import pytest
 
 from riskreport import verbal
@@ -45,7 +47,7 @@ def test_the_middle_term_is_kept_only_at_fifty(key: str) -> None:
 
 class _Stub:
     def __init__(self) -> None:
-        self.uncertainty = {"verbal_scale": "ipcc-ar5"}
+        self.uncertainty = SimpleNamespace(verbal_scale="ipcc-ar5")
 
 
 def test_the_printed_split_names_the_likelier_side() -> None:

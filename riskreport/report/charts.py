@@ -11,8 +11,9 @@ marker, labelled directly on the chart.
 from __future__ import annotations
 
 import io
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import matplotlib
 import numpy as np
@@ -23,6 +24,9 @@ from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.assessment import Assessment, HorizonResult
 from riskreport.report.sections.common import summary_horizons
+
+if TYPE_CHECKING:
+    from riskreport.change import ChangeHorizon
 
 MM = 1 / 25.4  # inches per millimetre: figures are sized to their box in the page CSS
 
@@ -293,13 +297,13 @@ def band_probabilities_figure(
 
 def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: float = 40) -> Chart:
     """PIT histograms by horizon group: a flat histogram means well-calibrated densities."""
-    groups = assessment.calibration["pit"]
+    groups = assessment.calibration.pit
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         axes = fig.subplots(1, max(len(groups), 1), sharey=True)
         axes = np.atleast_1d(axes)
         for ax, group in zip(axes, groups, strict=True):
-            counts = np.array(group["counts"], dtype=float)
+            counts = np.array(group.counts, dtype=float)
             share = counts / counts.sum() * len(counts)
             edges = np.linspace(0, 1, len(counts) + 1)
             ax.bar(
@@ -313,9 +317,9 @@ def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: flo
             )
             ax.axhline(1.0, color=INK, lw=0.8, ls=(0, (3, 2)))
             ax.set_title(
-                f"{group['h_from']}\u2013{group['h_to']} {_units(assessment)} ahead"
-                if group["h_from"] != group["h_to"]
-                else f"{group['h_from']} {_units(assessment)} ahead",
+                f"{group.h_from}\u2013{group.h_to} {_units(assessment)} ahead"
+                if group.h_from != group.h_to
+                else f"{group.h_from} {_units(assessment)} ahead",
                 fontsize=7.5,
             )
             ax.set_xticks([0, 0.5, 1], ["0", "0.5", "1"])
@@ -328,15 +332,15 @@ def pit_histograms(assessment: Assessment, width_mm: float = 170, height_mm: flo
 def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float = 62) -> Chart:
     """Said-versus-happened for P(inside): the forecast probability against the observed
     frequency, bins of 10 points, each labelled with its count."""
-    table = assessment.calibration["brier"]["reliability"]
+    table = assessment.calibration.brier.reliability
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         ax = fig.add_subplot()
         ax.plot(
             [0, 100], [0, 100], color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)), label="said = happened"
         )
-        x = [100 * r["forecast_mean"] for r in table]
-        y = [100 * r["observed_frequency"] for r in table]
+        x = [100 * r.forecast_mean for r in table]
+        y = [100 * r.observed_frequency for r in table]
         ax.plot(
             x,
             y,
@@ -351,7 +355,7 @@ def reliability(assessment: Assessment, width_mm: float = 80, height_mm: float =
             # on the said = happened line.
             above = yi >= xi
             ax.annotate(
-                str(r["n"]),
+                str(r.n),
                 (xi, yi),
                 xytext=(-3, 4) if above else (3, -4),
                 textcoords="offset points",
@@ -381,27 +385,27 @@ PART_STYLE: dict[str, dict[str, Any]] = {
 
 def change_parts(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Chart:
     """Change in P(inside) since the previous brief, split into its three parts, by period."""
-    change = assessment.change or {"horizons": []}
+    change = assessment.change.horizons if assessment.change else ()
     wanted = set(summary_horizons(assessment))
     shown = {r.period for r in assessment.horizons if r.h in wanted}
-    rows = [r for r in change["horizons"] if r["period"] in shown]
+    rows = [r for r in change if r.period in shown]
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)
         ax = fig.add_subplot()
         x = np.arange(len(rows))
-        keys: tuple[tuple[str, str], ...] = (
-            ("centre", "due_to_centre"),
-            ("spread and shape", "due_to_spread"),
-            ("band", "due_to_band"),
+        keys: tuple[tuple[str, Callable[[ChangeHorizon], float]], ...] = (
+            ("centre", lambda r: r.due_to_centre),
+            ("spread and shape", lambda r: r.due_to_spread),
+            ("band", lambda r: r.due_to_band),
         )
         # A part that is zero everywhere gets no bars, so it gets no legend entry either.
-        keys = tuple(k for k in keys if any(abs(r[k[1]]) >= 0.005 for r in rows)) or keys[:1]
+        keys = tuple(k for k in keys if any(abs(k[1](r)) >= 0.005 for r in rows)) or keys[:1]
         width = 0.78 / len(keys)
-        for i, (label, key) in enumerate(keys):
+        for i, (label, part) in enumerate(keys):
             style = PART_STYLE[label]
             ax.bar(
                 x + (i - (len(keys) - 1) / 2) * width,
-                [100 * r[key] for r in rows],
+                [100 * part(r) for r in rows],
                 width=width,
                 color=style["color"],
                 hatch=style["hatch"],
@@ -409,10 +413,10 @@ def change_parts(assessment: Assessment, width_mm: float = 170, height_mm: float
                 linewidth=0.3,
                 label=label,
             )
-        total = [100 * (r["p_inside_now"] - r["p_inside_before"]) for r in rows]
+        total = [100 * (r.p_inside_now - r.p_inside_before) for r in rows]
         ax.plot(x, total, linestyle="none", marker="D", markersize=3, color=INK, label="total")
         ax.axhline(0, color=INK, lw=0.6)
-        ax.set_xticks(x, [r["period"] for r in rows])
+        ax.set_xticks(x, [r.period for r in rows])
         ax.set_ylabel("change in inside,\npercentage points")
         ax.grid(axis="y", color=GRID, lw=0.4)
         ax.spines[["top", "right"]].set_visible(False)
@@ -438,8 +442,8 @@ MODEL_HATCHES = ("", "////", "\\\\", "..", "xx", "--", "++", "oo")
 def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Chart:
     """The current round's combination weights by horizon, stacked (negative ones below 0)."""
     table: dict[str, dict[int, float]] = {}
-    for w in assessment.combination["weights"]:
-        table.setdefault(w["model"], {})[w["h"]] = w["weight"]
+    for w in assessment.combination.weights:
+        table.setdefault(w.model, {})[w.h] = w.weight
     hs = [r.h for r in assessment.horizons]
     with matplotlib.rc_context(_RC):
         fig = _figure(width_mm, height_mm)

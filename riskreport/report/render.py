@@ -68,19 +68,19 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
 
     if round_history.shown(a):
         made.append((round_history.chart(a), round_history.alt_text(a), round_history.CAPTION))
-    if a.change and a.change["horizons"]:
+    if a.change and a.change.horizons:
         made.append(
             (charts_module.change_parts(a), summary.change_alt(a), summary.change_caption(a))
         )
-    if a.combination["method"] not in ("equal", "given"):
+    if a.combination.method not in ("equal", "given"):
         made.append(
             (charts_module.weights(a), track_record.weights_alt(a), track_record.weights_caption(a))
         )
-    if a.calibration["pit"]:
+    if a.calibration.pit:
         made.append(
             (charts_module.pit_histograms(a), calibration.pit_alt(a), calibration.PIT_CAPTION)
         )
-    if a.calibration["brier"]["reliability"]:
+    if a.calibration.brier.reliability:
         made.append(
             (
                 charts_module.reliability(a),

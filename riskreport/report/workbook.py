@@ -108,25 +108,25 @@ def _horizon_columns(a: Assessment) -> tuple[str, ...]:
 
 def _calibration(a: Assessment) -> Table:
     cal = a.calibration
-    nominals = sorted({row["nominal"] for row in cal["coverage"]})
-    coverage = {(row["h"], row["nominal"]): row["observed"] for row in cal["coverage"]}
-    rps = {row["h"]: row for row in cal["rps"]["by_horizon"]}
+    nominals = sorted({row.nominal for row in cal.coverage})
+    coverage = {(row.h, row.nominal): row.observed for row in cal.coverage}
+    rps = {row.h: row for row in cal.rps.by_horizon}
     rows = []
-    for b in cal["brier"]["by_horizon"]:
-        h = b["h"]
-        r = rps.get(h, {})
+    for b in cal.brier.by_horizon:
+        h = b.h
+        r = rps.get(h)
         rows.append(
             (
                 h,
-                b["n"],
+                b.n,
                 *(coverage.get((h, q)) for q in nominals),
-                b["brier"],
-                b["reliability"],
-                b["resolution"],
-                b["uncertainty"],
-                r.get("rps"),
-                r.get("rps_climatology"),
-                r.get("skill"),
+                b.brier,
+                b.reliability,
+                b.resolution,
+                b.uncertainty,
+                r.rps if r else None,
+                r.rps_climatology if r else None,
+                r.skill if r else None,
             )
         )
     columns = (
@@ -189,15 +189,7 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             "annual",
             ("year", "basis", "lower", "upper", "p_below", "p_inside", "p_above"),
             [
-                (
-                    r["year"],
-                    r["basis"],
-                    r["band"][0],
-                    r["band"][1],
-                    r["p_below"],
-                    r["p_inside"],
-                    r["p_above"],
-                )
+                (r.year, r.basis, r.band[0], r.band[1], r.p_below, r.p_inside, r.p_above)
                 for r in a.annual
             ],
         ),
@@ -231,16 +223,16 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             ("scenario", "period", "h", "centre", "p_below", "p_inside", "p_above"),
             [
                 (
-                    s["name"],
-                    r["period"],
-                    r["h"],
-                    r["centre"],
-                    r["p_below"],
-                    r["p_inside"],
-                    r["p_above"],
+                    s.name,
+                    r.period,
+                    r.h,
+                    r.centre,
+                    r.p_below,
+                    r.p_inside,
+                    r.p_above,
                 )
                 for s in a.scenarios
-                for r in s["horizons"]
+                for r in s.horizons
             ],
         ),
         table(
@@ -255,20 +247,20 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             ),
             [
                 (
-                    r["period"],
-                    r["p_inside_before"],
-                    r["p_inside_now"],
-                    r["due_to_centre"],
-                    r["due_to_spread"],
-                    r["due_to_band"],
+                    r.period,
+                    r.p_inside_before,
+                    r.p_inside_now,
+                    r.due_to_centre,
+                    r.due_to_spread,
+                    r.due_to_band,
                 )
-                for r in (a.change["horizons"] if a.change else [])
+                for r in (a.change.horizons if a.change else ())
             ],
         ),
         table(
             "weights",
             ("h", "model", "weight"),
-            [(w["h"], w["model"], w["weight"]) for w in a.combination["weights"]],
+            [(w.h, w.model, w.weight) for w in a.combination.weights],
         ),
         table(
             "accuracy",
@@ -303,7 +295,7 @@ def notes(a: Assessment) -> tuple[tuple[str, str], ...]:
             "change",
             "Empty when there is no previous brief to compare with."
             if a.change is None
-            else f"Compared with the brief of {a.change['previous_as_of']}.",
+            else f"Compared with the brief of {a.change.previous_as_of}.",
         ),
     ]
     lines += [("caution", c) for c in summary.CAUTIONS]

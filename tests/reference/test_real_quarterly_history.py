@@ -240,7 +240,7 @@ def test_every_combination_method_builds(history: History, method: str) -> None:
     point = np.array([r.point_forecast for r in a.horizons])
     if method == "median":
         np.testing.assert_allclose(point, np.median(current, axis=0), atol=1e-9)
-    weights = {(w["h"], w["model"]): w["weight"] for w in a.combination["weights"]}
+    weights = {(w.h, w.model): w.weight for w in a.combination.weights}
     if method not in ("median", "trimmed", "ols"):
         # A linear combination without intercept: the point is the weighted sum.
         for h in range(H + 1):

@@ -39,11 +39,11 @@ def pit_rows(a: Assessment) -> tuple[PitRow, ...]:
     """The PIT counts behind the histograms."""
     return tuple(
         PitRow(
-            f"{g['h_from']}\u2013{g['h_to']}" if g["h_from"] != g["h_to"] else str(g["h_from"]),
-            tuple(str(c) for c in g["counts"]),
-            str(g["n"]),
+            f"{g.h_from}\u2013{g.h_to}" if g.h_from != g.h_to else str(g.h_from),
+            tuple(str(c) for c in g.counts),
+            str(g.n),
         )
-        for g in a.calibration["pit"]
+        for g in a.calibration.pit
     )
 
 
@@ -51,9 +51,9 @@ def reliability_rows(a: Assessment) -> tuple[ReliabilityRow, ...]:
     """The bins behind the reliability chart."""
     return tuple(
         ReliabilityRow(
-            fmt.single_percent(r["forecast_mean"]),
-            fmt.single_percent(r["observed_frequency"]),
-            str(r["n"]),
+            fmt.single_percent(r.forecast_mean),
+            fmt.single_percent(r.observed_frequency),
+            str(r.n),
         )
-        for r in a.calibration["brier"]["reliability"]
+        for r in a.calibration.brier.reliability
     )

@@ -3,18 +3,15 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
 from riskreport.assessment import Assessment
-from riskreport.calibration import MIN_TEST_ROUNDS
+from riskreport.calibration import MIN_TEST_ROUNDS, CoverageResult
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import FAMILY_NAMES, SIGNIFICANCE, join_h, units
 
 
-def coverage(a: Assessment, h: int, nominal: float) -> dict[str, Any] | None:
-    return next(
-        (c for c in a.calibration["coverage"] if c["h"] == h and c["nominal"] == nominal), None
-    )
+def coverage(a: Assessment, h: int, nominal: float) -> CoverageResult | None:
+    return next((c for c in a.calibration.coverage if c.h == h and c.nominal == nominal), None)
 
 
 COVERAGE_TOO_NARROW = 0.85  # 90% ranges holding less often than this were too narrow
@@ -31,8 +28,8 @@ def _coverage_lines(a: Assessment, shown: tuple[int, ...]) -> list[str]:
             "There are too few past rounds to replay the method, so how its 90% ranges held "
             "cannot be checked."
         ]
-    narrow = [h for h, cv in checked.items() if cv["observed"] < COVERAGE_TOO_NARROW]
-    wide = [h for h, cv in checked.items() if cv["observed"] > COVERAGE_TOO_WIDE]
+    narrow = [h for h, cv in checked.items() if cv.observed < COVERAGE_TOO_NARROW]
+    wide = [h for h, cv in checked.items() if cv.observed > COVERAGE_TOO_WIDE]
     lines = []
     if narrow:
         lines.append(
@@ -76,27 +73,27 @@ def calibration(
             rows.append(
                 CoverageRow(
                     str(h),
-                    fmt.single_percent(half["observed"]),
-                    fmt.single_percent(ninety["observed"]),
-                    str(ninety["n"]),
+                    fmt.single_percent(half.observed),
+                    fmt.single_percent(ninety.observed),
+                    str(ninety.n),
                 )
             )
     lines = [
-        f"The replay fits the {FAMILY_NAMES.get(c['distribution'], c['distribution'])} error distribution at every past round "
+        f"The replay fits the {FAMILY_NAMES.get(c.distribution, c.distribution)} error distribution at every past round "
         "from the errors known then and scores the outcome that followed; the judgement "
         "overlay is not replayed."
     ]
     lines.extend(_coverage_lines(a, shown))
-    tests = {(t["name"], t["h"]): t for t in c["tests"]}
+    tests = {(t.name, t.h): t for t in c.tests}
     berk = tests.get(("berkowitz", 0))
     if berk:
-        verdict = "rejects" if berk["pvalue"] < SIGNIFICANCE else "does not reject"
+        verdict = "rejects" if berk.pvalue < SIGNIFICANCE else "does not reject"
         lines.append(
             f"For the nowcast, the Berkowitz test {verdict} well-calibrated, independent PITs "
-            f"({fmt.p_value(berk['pvalue'])})."
+            f"({fmt.p_value(berk.pvalue)})."
         )
     run = [h for h in shown if ("knuppel", h) in tests]
-    rejected = [h for h in run if tests[("knuppel", h)]["pvalue"] < SIGNIFICANCE]
+    rejected = [h for h in run if tests[("knuppel", h)].pvalue < SIGNIFICANCE]
     if run:
         lines.append(
             "A raw-moment test that allows for the overlap of multi-step errors (Knueppel 2015) "
@@ -111,7 +108,7 @@ def calibration(
             "The calibration tests were not run: they need at least "
             f"{MIN_TEST_ROUNDS} replayed rounds at a horizon."
         )
-    skill = {r["h"]: r["skill"] for r in c["rps"]["by_horizon"]}
+    skill = {r.h: r.skill for r in c.rps.by_horizon}
     scored = [h for h in shown if h in skill]
     better = [h for h in scored if skill[h] > 0]
     if scored:
@@ -138,11 +135,11 @@ RELIABILITY_CAPTION = (
 def pit_alt(a: Assessment) -> str:
     """Alt text of the PIT histograms."""
     parts = []
-    for g in a.calibration["pit"]:
-        counts = g["counts"]
+    for g in a.calibration.pit:
+        counts = g.counts
         n = sum(counts)
         parts.append(
-            f"{g['h_from']} to {g['h_to']} {units(a)} ahead: {fmt.single_percent(counts[0] / n)} in the lowest tenth and "
+            f"{g.h_from} to {g.h_to} {units(a)} ahead: {fmt.single_percent(counts[0] / n)} in the lowest tenth and "
             f"{fmt.single_percent(counts[-1] / n)} in the highest (10% each if calibrated)"
         )
     return (
@@ -154,9 +151,9 @@ def pit_alt(a: Assessment) -> str:
 
 def reliability_alt(a: Assessment) -> str:
     """Alt text of the reliability chart."""
-    rows = a.calibration["brier"]["reliability"]
+    rows = a.calibration.brier.reliability
     parts = [
-        f"said {fmt.single_percent(r['forecast_mean'])}, happened {fmt.single_percent(r['observed_frequency'])} ({r['n']} rounds)"
+        f"said {fmt.single_percent(r.forecast_mean)}, happened {fmt.single_percent(r.observed_frequency)} ({r.n} rounds)"
         for r in rows
     ]
     return "Reliability of the probability of being inside the band: " + "; ".join(parts) + "."

@@ -78,7 +78,7 @@ def band_label(band: tuple[float, float]) -> str:
 
 def scale_of(a: Assessment) -> verbal.Scale:
     """The verbal probability scale the configuration chose."""
-    return verbal.SCALES[a.uncertainty["verbal_scale"]]
+    return verbal.SCALES[a.uncertainty.verbal_scale]
 
 
 def shown_probability(whole: str) -> float:

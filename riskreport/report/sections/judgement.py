@@ -3,9 +3,8 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
-from riskreport.assessment import Assessment, HorizonResult
+from riskreport.assessment import Assessment, HorizonResult, ScenarioHorizon
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import triple
 
@@ -87,9 +86,9 @@ def scenario_horizons(a: Assessment) -> tuple[int, int]:
     )
 
 
-def _scenario_cell(row: dict[str, Any], base: HorizonResult) -> str:
-    texts = fmt.outcome_texts(row["p_below"], row["p_inside"], row["p_above"])
-    return " / ".join(texts) + f" (inside {fmt.points(row['p_inside'] - base.p_inside)})"
+def _scenario_cell(row: ScenarioHorizon, base: HorizonResult) -> str:
+    texts = fmt.outcome_texts(row.p_below, row.p_inside, row.p_above)
+    return " / ".join(texts) + f" (inside {fmt.points(row.p_inside - base.p_inside)})"
 
 
 def scenario_rows(a: Assessment) -> tuple[ScenarioRow, ...]:
@@ -101,11 +100,11 @@ def scenario_rows(a: Assessment) -> tuple[ScenarioRow, ...]:
         )
     ]
     for sc in a.scenarios:
-        by_h = {x["h"]: x for x in sc["horizons"]}
+        by_h = {x.h: x for x in sc.horizons}
         rows.append(
             ScenarioRow(
-                sc["name"],
-                " ".join(sc["reasons"]),
+                sc.name,
+                " ".join(sc.reasons),
                 _scenario_cell(by_h[h1], b1),
                 _scenario_cell(by_h[h2], b2),
             )

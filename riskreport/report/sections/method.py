@@ -33,7 +33,7 @@ TESTS_METHOD = (
 
 def basis_text(a: Assessment) -> str:
     """How the target's basis is measured, for the method page."""
-    basis = a.target["basis"]
+    basis = a.target.basis
     if basis == "period":
         return "per period: the rate of each reported period against the band in force then"
     rates = "12 monthly" if a.frequency == "monthly" else "4 quarterly"
@@ -63,12 +63,12 @@ def distribution_text(a: Assessment) -> str:
         "given error quantiles": "as given",
     }
     text = "; ".join(f"{name} ({how[name]})" for name in used) + ", per horizon"
-    selection = u.get("selection")
-    if selection:
-        runner = selection["runner_up"]
+    if u.selection is not None:
+        runner = u.selection.runner_up
+        runner_name = str(FAMILY_NAMES.get(runner, runner)) if runner is not None else "None"
         text += (
             f". Chosen automatically by out-of-sample log score over past rounds "
-            f"(runner-up: {FAMILY_NAMES.get(runner, runner)})"
+            f"(runner-up: {runner_name})"
         )
     return text + "."
 
@@ -160,18 +160,18 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
     u = a.uncertainty
     given = [r.h for r in a.horizons if r.n_errors is None]
     return (
-        KeyValue("Combination", f"{a.combination['method']} weights, per horizon"),
+        KeyValue("Combination", f"{a.combination.method} weights, per horizon"),
         KeyValue("Error distribution", distribution_text(a)),
         KeyValue(
             "Error window",
             "all past origins"
-            if u["window"] == 0
-            else f"last {u['window']} origins with a known outcome, per horizon",
+            if u.window == 0
+            else f"last {u.window} origins with a known outcome, per horizon",
         ),
         KeyValue(
             "Centre",
             "estimated: past average errors (bias) carry over into the centre"
-            if u["centre"] == "estimated"
+            if u.centre == "estimated"
             else "the point forecast is the mode of the distribution",
         ),
         KeyValue("Target basis", basis_text(a)),
@@ -181,7 +181,7 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
                 "not allowed to shrink as the horizon lengthens"
                 + (" (learned horizons only)" if given else "")
             )
-            if u["monotone"]
+            if u.monotone
             else "as fitted",
         ),
         *(
@@ -197,12 +197,12 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
         ),
         KeyValue(
             "Plausible range of inside",
-            f"{int(100 * u['interval_level'])}% of {u['bootstrap_replicates']} moving-block "
+            f"{int(100 * u.interval_level)}% of {u.bootstrap_replicates} moving-block "
             "bootstrap resamples of the past errors",
         ),
         KeyValue(
             "Path probabilities",
-            f"Gaussian copula on rank correlations of same-origin errors, {u['simulations']} simulated paths, seed {u['seed']}",
+            f"Gaussian copula on rank correlations of same-origin errors, {u.simulations} simulated paths, seed {u.seed}",
         ),
         KeyValue("Accuracy tests", TESTS_METHOD),
         KeyValue("Verbal scale", verbal_text(a)),
@@ -307,7 +307,7 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         return ()
     v = adj.verdict
     lines = [_spread_sentence(adj)]
-    if a.uncertainty.get("selection"):
+    if a.uncertainty.selection is not None:
         lines.append(
             f"The method ({_method_name(adj.method)}) was chosen by log score; in the replay "
             "each past round used the method that was best on the scores known at that "

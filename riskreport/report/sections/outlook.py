@@ -2,10 +2,11 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
 
-from riskreport.assessment import Assessment
+from riskreport.annual import AnnualResult
+from riskreport.assessment import Assessment, BasisResult
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
     band_label,
@@ -30,24 +31,22 @@ class AnnualRow:
 
 
 def annual_rows(
-    a: Assessment, results: list[dict[str, Any]] | None = None
+    a: Assessment, results: Sequence[AnnualResult | BasisResult] | None = None
 ) -> tuple[AnnualRow, ...]:
     rows = []
     unit = "months" if a.frequency == "monthly" else "quarters"
     for r in a.annual if results is None else results:
-        texts = fmt.outcome_texts(r["p_below"], r["p_inside"], r["p_above"])
+        texts = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
         rows.append(
             AnnualRow(
-                year=str(r["year"]),
-                basis="calendar-year average"
-                if r["basis"] == "calendar-year-average"
-                else "year end",
-                band=band_label(tuple(r["band"])),
+                year=str(r.year),
+                basis="calendar-year average" if r.basis == "calendar-year-average" else "year end",
+                band=band_label(r.band),
                 below=texts[0],
                 inside=texts[1],
                 above=texts[2],
-                observed=f"{r['observed_periods']} {unit} observed"
-                if r["observed_periods"]
+                observed=f"{r.observed_periods} {unit} observed"
+                if r.observed_periods
                 else "none observed",
             )
         )

@@ -2,12 +2,11 @@
 
 from __future__ import annotations
 
-import dataclasses
 import math
-from typing import Any
 
 from riskreport import verbal
 from riskreport.assessment import Assessment
+from riskreport.calibration import ReliabilityBin
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.calibration import COVERAGE_TOO_NARROW, COVERAGE_TOO_WIDE, coverage
 from riskreport.report.sections.common import (
@@ -104,7 +103,7 @@ def centre_label(a: Assessment) -> str:
     policy = a.policy
     moved = policy.centre - policy.point_forecast
     judged = any(policy.period in j.periods for j in a.judgement)
-    if a.uncertainty["centre"] == "estimated":
+    if a.uncertainty.centre == "estimated":
         why = "their average past miss" + (" and staff judgement" if judged else "")
         size = (
             "under 0.05 percentage points, pp, here"
@@ -173,13 +172,13 @@ def messages(a: Assessment) -> tuple[str, ...]:
     return tuple(lines)
 
 
-def nearest_bin(a: Assessment) -> dict[str, Any] | None:
+def nearest_bin(a: Assessment) -> ReliabilityBin | None:
     """The reliability bin whose stated probability is nearest today's headline P(inside)."""
-    rows = a.calibration["brier"]["reliability"]
+    rows = a.calibration.brier.reliability
     if not rows:
         return None
     today = a.headline.p_inside
-    return min(rows, key=lambda r: abs(r["forecast_mean"] - today))
+    return min(rows, key=lambda r: abs(r.forecast_mean - today))
 
 
 def _held(said: float, happened: float) -> str:
@@ -198,8 +197,8 @@ def _calibration_sentence(a: Assessment) -> str:
     r = nearest_bin(a)
     if cover is None or r is None:
         return "There are too few past rounds to check how past probability statements held."
-    said, happened = r["forecast_mean"], r["observed_frequency"]
-    held = cover["observed"]
+    said, happened = r.forecast_mean, r.observed_frequency
+    held = cover.observed
     ranges = (
         "too narrow"
         if held < COVERAGE_TOO_NARROW
@@ -208,7 +207,7 @@ def _calibration_sentence(a: Assessment) -> str:
         else "about right"
     )
     return (
-        f"In a replay over {cover['n']} past rounds, statements like today's "
+        f"In a replay over {cover.n} past rounds, statements like today's "
         f"({fmt.single_percent(said)} inside) came true {fmt.single_percent(happened)} of the "
         f"time, {_held(said, happened)}. {ahead(a, a.policy_horizon).capitalize()}, the 90% "
         f"ranges held the outcome {fmt.single_percent(held)} of the time: {ranges}."
@@ -233,16 +232,16 @@ def track_text(a: Assessment) -> str:
 
 def change_text(a: Assessment) -> str:
     """The change since the previous brief, at the policy horizon's target period, in words."""
-    if not a.change or not a.change["horizons"]:
+    if not a.change or not a.change.horizons:
         return "No earlier brief was available for comparison, so the change since the last meeting is not shown."
-    rows = {r["period"]: r for r in a.change["horizons"]}
-    r = rows.get(a.policy.period) or a.change["horizons"][-1]
-    total = r["p_inside_now"] - r["p_inside_before"]
+    rows = {r.period: r for r in a.change.horizons}
+    r = rows.get(a.policy.period) or a.change.horizons[-1]
+    total = r.p_inside_now - r.p_inside_before
     since = (
-        f"Since the brief of {a.change['previous_as_of']}, the probability of being inside the "
-        f"band in {r['period']}"
+        f"Since the brief of {a.change.previous_as_of}, the probability of being inside the "
+        f"band in {r.period}"
     )
-    before, now = fmt.single_percent(r["p_inside_before"]), fmt.single_percent(r["p_inside_now"])
+    before, now = fmt.single_percent(r.p_inside_before), fmt.single_percent(r.p_inside_now)
     if abs(total) < CHANGE_NOISE:
         return (
             f"{since} is essentially unchanged: {now} against {before} (changes under "
@@ -250,16 +249,16 @@ def change_text(a: Assessment) -> str:
             "noise, so they are not split into causes)."
         )
     parts = {
-        "the centre moving": r["due_to_centre"],
-        "the spread and shape": r["due_to_spread"],
-        "the band": r["due_to_band"],
+        "the centre moving": r.due_to_centre,
+        "the spread and shape": r.due_to_spread,
+        "the band": r.due_to_band,
     }
     main = max(parts, key=lambda k: abs(parts[k]))
     direction = "rose" if total > 0 else "fell"
     return (
         f"{since} {direction} from {before} to {now} ({fmt.points(total)}): centre "
-        f"{fmt.points(r['due_to_centre'])}, spread and shape {fmt.points(r['due_to_spread'])}, "
-        f"band {fmt.points(r['due_to_band'])}. Most of it came from {main}."
+        f"{fmt.points(r.due_to_centre)}, spread and shape {fmt.points(r.due_to_spread)}, "
+        f"band {fmt.points(r.due_to_band)}. Most of it came from {main}."
     )
 
 
@@ -293,14 +292,14 @@ BASIS_CAPTIONS = {
 
 def basis_rows(a: Assessment) -> tuple[AnnualRow, ...]:
     """The summary table on a calendar-year basis: one row per year in view."""
-    return annual_rows(a, [dataclasses.asdict(r) for r in a.basis_results])
+    return annual_rows(a, a.basis_results)
 
 
 def change_caption(a: Assessment) -> str:
     """Caption of the change chart."""
     assert a.change is not None
     return (
-        f"Change in the probability of being inside since {a.change['previous_as_of']}, "
+        f"Change in the probability of being inside since {a.change.previous_as_of}, "
         "by target period, split into centre, spread and shape, and band (a part that is zero "
         "in every period shown is left out); the diamond is the total."
     )
@@ -310,12 +309,12 @@ def change_alt(a: Assessment) -> str:
     """Alt text of the change chart."""
     assert a.change is not None
     parts = [
-        f"{r['period']}: {fmt.points(r['p_inside_now'] - r['p_inside_before'])} "
-        f"(centre {fmt.points(r['due_to_centre'])}, spread {fmt.points(r['due_to_spread'])}, band {fmt.points(r['due_to_band'])})"
-        for r in a.change["horizons"]
+        f"{r.period}: {fmt.points(r.p_inside_now - r.p_inside_before)} "
+        f"(centre {fmt.points(r.due_to_centre)}, spread {fmt.points(r.due_to_spread)}, band {fmt.points(r.due_to_band)})"
+        for r in a.change.horizons
     ]
     return (
-        f"Bar chart of the change in the probability of being inside since {a.change['previous_as_of']}: "
+        f"Bar chart of the change in the probability of being inside since {a.change.previous_as_of}: "
         + "; ".join(parts)
         + "."
     )

@@ -183,16 +183,16 @@ def weights(
     a: Assessment, shown: tuple[int, ...]
 ) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
     table: dict[str, dict[int, float]] = {}
-    for w in a.combination["weights"]:
-        table.setdefault(w["model"], {})[w["h"]] = w["weight"]
+    for w in a.combination.weights:
+        table.setdefault(w.model, {})[w.h] = w.weight
     lines = tuple(
         AccuracyLine(
             model, tuple(fmt.number(by_h[h], 2) if h in by_h else "\u2013" for h in shown), False
         )
         for model, by_h in table.items()
     )
-    method = a.combination["method"]
-    rows = [r["n"] for r in a.combination.get("rows", []) if r["h"] in shown]
+    method = a.combination.method
+    rows = [r.n for r in a.combination.rows if r.h in shown]
     text = f"Method: {method}."
     if method not in ("equal", "given", "median", "trimmed") and rows:
         text += (
@@ -201,7 +201,7 @@ def weights(
         )
     if method in ("median", "trimmed"):
         text += " The weights show which models set the combined value in the current round."
-    values = {round(w["weight"], 6) for w in a.combination["weights"]}
+    values = {round(w.weight, 6) for w in a.combination.weights}
     if len(values) == 1:
         # Equal weights: one sentence, no table of identical numbers.
         text = (
@@ -222,16 +222,14 @@ def accuracy_caption(a: Assessment) -> str:
 
 def weights_caption(a: Assessment) -> str:
     """Caption of the weights chart."""
-    return (
-        f"Combination weights of the current round by {units(a)} ahead ({a.combination['method']})."
-    )
+    return f"Combination weights of the current round by {units(a)} ahead ({a.combination.method})."
 
 
 def weights_alt(a: Assessment) -> str:
     """Alt text of the weights chart."""
     by_model: dict[str, list[float]] = {}
-    for w in a.combination["weights"]:
-        by_model.setdefault(w["model"], []).append(w["weight"])
+    for w in a.combination.weights:
+        by_model.setdefault(w.model, []).append(w.weight)
     parts = [
         f"{m} from {fmt.number(min(ws), 2)} to {fmt.number(max(ws), 2)}"
         for m, ws in by_model.items()
