@@ -167,3 +167,19 @@ def constant_forecast_world(
         "bootstrap_replicates = 100\nsimulations = 1000\n"
     )
     return config
+
+
+def build_fails(run: Callable[..., Result], case: Case, *expected: str) -> str:
+    """Build a case that must be refused: exit 2, one line naming each ``expected`` text,
+    no traceback, no output folder."""
+    config = case.write()
+    out = case.folder / "out"
+    result = run("build", config, "--out", out)
+    assert result.code == 2, result.stderr
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1, result.stderr
+    assert "Traceback" not in result.stderr
+    for text in expected:
+        assert text in lines[0], lines[0]
+    assert not out.exists(), "bad input must leave no output"
+    return lines[0]

@@ -19,21 +19,7 @@ from riskreport.errors import InputError
 from riskreport.inputs import read_actuals, read_forecasts
 from riskreport.report import charts
 from tests.conftest import Case, Result
-
-
-def _fails(run: Callable[..., Result], case: Case, *expected: str) -> str:
-    config = case.write()
-    out = case.folder / "out"
-    result = run("build", config, "--out", out)
-    assert result.code == 2, result.stderr
-    lines = result.stderr.strip().splitlines()
-    assert len(lines) == 1, result.stderr
-    assert "Traceback" not in result.stderr
-    for text in expected:
-        assert text in lines[0], lines[0]
-    assert not out.exists(), "bad input must leave no output"
-    return lines[0]
-
+from tests.conftest import build_fails as _fails
 
 # --- implausible magnitudes and years ---------------------------------------------------
 

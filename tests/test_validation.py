@@ -9,20 +9,7 @@ from pathlib import Path
 import pytest
 
 from tests.conftest import Case, Result
-
-
-def _fails(run: Callable[..., Result], case: Case, *expected: str) -> str:
-    config = case.write()
-    out = case.folder / "out"
-    result = run("build", config, "--out", out)
-    assert result.code == 2, result.stderr
-    lines = result.stderr.strip().splitlines()
-    assert len(lines) == 1, result.stderr
-    assert "Traceback" not in result.stderr
-    for text in expected:
-        assert text in lines[0], lines[0]
-    assert not out.exists(), "bad input must leave no output"
-    return lines[0]
+from tests.conftest import build_fails as _fails
 
 
 def test_good_case_builds(run: Callable[..., Result], case: Case) -> None:

@@ -16,6 +16,7 @@ from statsmodels.stats.multivariate import test_mvmean as hotelling_test
 from statsmodels.stats.sandwich_covariance import S_hac_simple, weights_uniform
 
 from riskreport import stats
+from tests.reference.test_scores import PIT as BERKOWITZ_PITS
 
 # Oracle data for Diebold-Mariano with the HLN factor (T = 24, h = 3).
 E1 = np.array(
@@ -260,30 +261,7 @@ def test_knuppel_against_hotelling_and_the_periodogram(rng: np.random.Generator)
     # The 20 PITs of the Berkowitz oracle; h = 1: Hotelling on (u, u^2 - 1) (statsmodels
     # test_mvmean);
     # h = 3: the fixed-smoothing F by the FFT route.
-    pit = np.array(
-        [
-            0.12,
-            0.55,
-            0.81,
-            0.34,
-            0.67,
-            0.91,
-            0.45,
-            0.23,
-            0.78,
-            0.60,
-            0.05,
-            0.39,
-            0.72,
-            0.88,
-            0.51,
-            0.29,
-            0.63,
-            0.97,
-            0.41,
-            0.18,
-        ]
-    )
+    pit = np.array(BERKOWITZ_PITS)
     u = np.sqrt(12) * (pit - 0.5)
     d = np.column_stack([u, u**2 - 1])
     one = stats.knuppel(pit, h=1, moments=2)
