@@ -113,16 +113,11 @@ def current_map(run: HorizonReplay) -> BetaMap:
 
 
 @dataclass(frozen=True)
-class Recalibrated:
-    """A distribution with its CDF passed through a beta CDF: G(F(x)).
-
-    ``ppf`` is F^-1(G^-1(q)); ``logpdf`` is log g(F(x)) + log f(x). The mode is kept as the
-    base's (the anchor of any judgement overlay).
-    """
+class _OnBase:
+    """A map applied to a base distribution's CDF: family and mode stay the base's (the
+    mode anchors any judgement overlay)."""
 
     base: Distribution
-    a: float
-    b: float
 
     @property
     def family(self) -> str:
@@ -133,6 +128,18 @@ class Recalibrated:
     def mode(self) -> float:
         """The base distribution's mode."""
         return self.base.mode
+
+
+@dataclass(frozen=True)
+class Recalibrated(_OnBase):
+    """A distribution with its CDF passed through a beta CDF: G(F(x)).
+
+    ``ppf`` is F^-1(G^-1(q)); ``logpdf`` is log g(F(x)) + log f(x). The mode is kept as the
+    base's (the anchor of any judgement overlay).
+    """
+
+    a: float
+    b: float
 
     def with_base(self, base: Distribution) -> Recalibrated:
         """The same map on another base (the bootstrap's replicates)."""
@@ -232,23 +239,12 @@ def track_replay(run: HorizonReplay) -> HorizonReplay:
 
 
 @dataclass(frozen=True)
-class Tracked:
+class Tracked(_OnBase):
     """A distribution with its CDF passed through a piecewise-linear increasing map G of
     [0, 1] (knots ``u`` -> ``v``): G(F(x)), a coherent CDF."""
 
-    base: Distribution
     u: tuple[float, ...]
     v: tuple[float, ...]
-
-    @property
-    def family(self) -> str:
-        """The family of the base distribution."""
-        return self.base.family
-
-    @property
-    def mode(self) -> float:
-        """The base distribution's mode."""
-        return self.base.mode
 
     def with_base(self, base: Distribution) -> Tracked:
         """The same map on another base."""
