@@ -18,24 +18,12 @@ ROW_KEYS = ("period", "p_inside", "centre", "band")
 
 
 @dataclass(frozen=True)
-class ChangeRow:
-    """The change in P(inside) for one target period present in both rounds."""
-
-    period: str
-    p_inside_before: float
-    p_inside_now: float
-    due_to_centre: float
-    due_to_spread: float
-    due_to_band: float
-
-
-@dataclass(frozen=True)
 class Comparison:
     """Two rounds compared by target period."""
 
     old_as_of: str
     new_as_of: str
-    rows: tuple[ChangeRow, ...]
+    rows: tuple[change.ChangeHorizon, ...]  # the brief's own change rows
 
 
 def _read(path: Path) -> dict[str, Any]:
@@ -85,17 +73,7 @@ def compare_files(old: Path, new: Path) -> Comparison:
     return Comparison(
         old_as_of=str(before["as_of"]),
         new_as_of=str(now["as_of"]),
-        rows=tuple(
-            ChangeRow(
-                period=r.period,
-                p_inside_before=r.p_inside_before,
-                p_inside_now=r.p_inside_now,
-                due_to_centre=r.due_to_centre,
-                due_to_spread=r.due_to_spread,
-                due_to_band=r.due_to_band,
-            )
-            for r in record.horizons
-        ),
+        rows=record.horizons,
     )
 
 
