@@ -38,7 +38,7 @@ DEMO_PREVIOUS_ROUND = "2026-10"
 
 def demo_config() -> Path:
     """The bundled, invented demo scenario's configuration."""
-    return Path(str(resources.files("example_inputs"))) / "config.toml"
+    return Path(str(resources.files("riskreport.example_inputs"))) / "config.toml"
 
 
 def _cache_option(parser: argparse.ArgumentParser) -> None:

@@ -39,7 +39,7 @@ import os
 import platform
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from importlib import metadata
+from importlib import metadata, resources
 from pathlib import Path
 from typing import Any
 
@@ -72,7 +72,7 @@ def fingerprint() -> str:
     """
     digest = hashlib.sha256(f"format {FORMAT}\n".encode())
     package = Path(__file__).resolve().parent
-    templates = package.parent / "report_templates"
+    templates = Path(str(resources.files("riskreport.report_templates")))
     for root in (package, templates):
         for path in sorted(root.rglob("*")):
             if path.suffix in (".py", ".html", ".css") and path.is_file():

@@ -24,7 +24,7 @@ STYLESHEET = "brief.css"
 
 
 def _templates_dir() -> Path:
-    return Path(str(resources.files("report_templates")))
+    return Path(str(resources.files("riskreport.report_templates")))
 
 
 def _environment() -> jinja2.Environment:
