@@ -7,10 +7,7 @@ validate -> combine -> errors -> distributions -> judgement overlay -> probabili
 from __future__ import annotations
 
 import dataclasses
-import hashlib
-import platform
 import warnings
-from importlib import metadata
 from pathlib import Path
 
 import numpy as np
@@ -19,10 +16,10 @@ from riskreport import adjustments as adjustments_module
 from riskreport import annual as annual_module
 from riskreport import (
     calibration,
-    dynamics,
     overlay,
     periods,
     probabilities,
+    records,
     screening,
     selection,
     uncertainty,
@@ -31,177 +28,23 @@ from riskreport import change as change_module
 from riskreport import combination as combination_module
 from riskreport import config as config_module
 from riskreport import density as density_module
+from riskreport import headline as headline_module
 from riskreport import history as history_module
 from riskreport import panel as panel_module
 from riskreport import thresholds as thresholds_module
-from riskreport.assessment import (
-    Assessment,
-    BasisResult,
-    CombinationRecord,
-    FamilySource,
-    HorizonResult,
-    InputRecord,
-    InterceptRow,
-    Observation,
-    PathResult,
-    RowCount,
-    ScenarioHorizon,
-    ScenarioResult,
-    ScheduledBand,
-    SelectionRecord,
-    SoftwareVersions,
-    TargetRecord,
-    UncertaintyRecord,
-    WeightRow,
-)
+from riskreport.assessment import Assessment
 from riskreport.config import Config
 from riskreport.distributions import GIVEN_FAMILY, Distribution
 from riskreport.errors import (
     CombinationFallbackWarning,
     CombinationRangeWarning,
-    HeadlineBasisWarning,
     InputError,
     RiskReportWarning,
 )
-from riskreport.inputs import (
-    Actuals,
-    ErrorQuantiles,
-    Forecasts,
-    read_actuals,
-    read_error_quantiles,
-    read_forecasts,
-)
+from riskreport.inputs import read_actuals, read_error_quantiles, read_forecasts
 from riskreport.panel import window_mask
 from riskreport.replay_cache import ReplayCache
 from riskreport.track_record import error_matrix, evaluate
-
-HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
-
-
-def _sha256(path: Path) -> str:
-    return hashlib.sha256(path.read_bytes()).hexdigest()
-
-
-def _software() -> SoftwareVersions:
-    def version(name: str) -> str:
-        try:
-            return metadata.version(name)
-        except metadata.PackageNotFoundError:
-            return "not installed"
-
-    names = [f.name for f in dataclasses.fields(SoftwareVersions) if f.name != "python"]
-    return SoftwareVersions(
-        python=platform.python_version(), **{name: version(name) for name in names}
-    )
-
-
-def _input_records(
-    cfg: Config, fc: Forecasts, act: Actuals, given: ErrorQuantiles | None
-) -> tuple[InputRecord, ...]:
-    def rel(path: Path) -> str:
-        try:
-            return path.relative_to(cfg.path.parent).as_posix()
-        except ValueError:
-            return path.name
-
-    f = cfg.frequency
-    records = [
-        InputRecord("config", rel(cfg.path), _sha256(cfg.path), None, None, None),
-        InputRecord(
-            "forecasts",
-            rel(fc.file),
-            _sha256(fc.file),
-            int(fc.value.size),
-            periods.label(int(fc.origin.min()), f),
-            periods.label(int(fc.period.max()), f),
-        ),
-        InputRecord(
-            "actuals",
-            rel(act.file),
-            _sha256(act.file),
-            int(act.value.size),
-            periods.label(int(act.period.min()), f),
-            periods.label(int(act.period.max()), f),
-        ),
-    ]
-    if given is not None:
-        rows = sum(len(levels) for levels, _ in given.by_horizon.values())
-        records.append(
-            InputRecord("error_quantiles", rel(given.file), _sha256(given.file), rows, None, None)
-        )
-    return tuple(records)
-
-
-def _horizon_results(
-    cfg: Config,
-    margins: uncertainty.Margins,
-    dists: list[Distribution],
-    ordinals: list[int],
-) -> tuple[HorizonResult, ...]:
-    rows = []
-    for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
-        band = cfg.band_for(ordinal)
-        probs = probabilities.band_probabilities(dist, band.lower, band.upper)
-        family = margins.families[h]
-        if family == GIVEN_FAMILY:
-            interval = (probs.p_inside, probs.p_inside)
-        else:
-            interval = probabilities.bootstrap_p_inside(
-                margins.samples[h],
-                dist,
-                band.lower,
-                band.upper,
-                h=h,
-                family=family,  # type: ignore[arg-type]
-                mode=margins.mode,
-                replicates=cfg.bootstrap_replicates,
-                rng=np.random.default_rng([cfg.seed, h]),
-            )
-        quantiles = dist.ppf(np.array(probabilities.QUANTILE_LEVELS))
-        rows.append(
-            HorizonResult(
-                period=periods.label(ordinal, cfg.frequency),
-                h=h,
-                band=(band.lower, band.upper),
-                centre=float(dist.mode),
-                point_forecast=float(margins.point[h]),
-                p_below=probs.p_below,
-                p_inside=probs.p_inside,
-                p_above=probs.p_above,
-                p_inside_interval=interval,
-                quantiles={
-                    f"{q:g}": float(v)
-                    for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
-                },
-                distribution=family,
-                n_errors=None if family == GIVEN_FAMILY else margins.own[h],
-                spread=float(np.std(dist.ppf(probabilities.SPREAD_GRID))),
-                percentiles=tuple(
-                    float(v) for v in dist.ppf(np.array(change_module.PERCENTILES) / 100)
-                ),
-            )
-        )
-    return tuple(rows)
-
-
-def _scenario_record(
-    cfg: Config, name: str, reasons: tuple[str, ...], dists: list[Distribution], ordinals: list[int]
-) -> ScenarioResult:
-    rows = []
-    for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
-        band = cfg.band_for(ordinal)
-        p = probabilities.band_probabilities(dist, band.lower, band.upper)
-        rows.append(
-            ScenarioHorizon(
-                period=periods.label(ordinal, cfg.frequency),
-                h=h,
-                centre=float(dist.mode),
-                p_below=p.p_below,
-                p_inside=p.p_inside,
-                p_above=p.p_above,
-            )
-        )
-    return ScenarioResult(name, tuple(reasons), tuple(rows))
 
 
 def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:
@@ -210,197 +53,6 @@ def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.
     corr = probabilities.normal_scores_correlation(errors)
     return probabilities.simulate_joint(
         dists, corr, cfg.simulations, np.random.default_rng([cfg.seed, 7])
-    )
-
-
-def _path(cfg: Config, draws: np.ndarray, ordinals: list[int]) -> tuple[PathResult, ...]:
-    bands = [cfg.band_for(o) for o in ordinals]
-    throughout, back_by = probabilities.path_probabilities(
-        draws, np.array([b.lower for b in bands]), np.array([b.upper for b in bands])
-    )
-    return tuple(
-        PathResult(periods.label(o, cfg.frequency), h, float(t), float(b))
-        for h, (o, t, b) in enumerate(zip(ordinals, throughout, back_by, strict=True))
-    )
-
-
-BASIS_WORDS = {"calendar-year-average": "average", "year-end": "year end"}
-
-
-def _basis_results(
-    cfg: Config, yearly: tuple[annual_module.AnnualResult, ...]
-) -> tuple[BasisResult, ...]:
-    """The calendar years in view on the configured basis (empty on the ``period`` basis)."""
-    if cfg.basis == "period":
-        return ()
-    per_year = periods.PERIODS_PER_YEAR[cfg.frequency]
-    rows = []
-    for r in yearly:
-        if r.basis != cfg.basis:
-            continue
-        last = _year_start(r.year, cfg) + per_year - 1
-        rows.append(
-            BasisResult(
-                basis=r.basis,
-                label=f"{r.year} {BASIS_WORDS[r.basis]}",
-                period=periods.label(last, cfg.frequency),
-                year=r.year,
-                band=r.band,
-                p_below=r.p_below,
-                p_inside=r.p_inside,
-                p_above=r.p_above,
-                p_inside_interval=None,
-                observed_periods=r.observed_periods,
-                simulated_periods=r.simulated_periods,
-            )
-        )
-    return tuple(rows)
-
-
-def _year_start(year: int, cfg: Config) -> int:
-    start = periods.parse(f"{year}-01" if cfg.frequency == "monthly" else f"{year}-Q1")
-    assert start is not None
-    return start.ordinal
-
-
-def _period_headline(row: HorizonResult) -> BasisResult:
-    return BasisResult(
-        basis="period",
-        label=row.period,
-        period=row.period,
-        year=None,
-        band=row.band,
-        p_below=row.p_below,
-        p_inside=row.p_inside,
-        p_above=row.p_above,
-        p_inside_interval=row.p_inside_interval,
-        observed_periods=0,
-        simulated_periods=1,
-    )
-
-
-def _headline(cfg: Config, policy: HorizonResult, years: tuple[BasisResult, ...]) -> BasisResult:
-    """The measure the headline speaks of: the policy-horizon period on the ``period`` basis,
-    else the calendar year of the policy horizon on the configured basis.
-
-    When that year is not wholly observed or reported, the latest earlier year that is
-    stands in, with a warning; with no such year, the policy-horizon period does.
-    """
-    if cfg.basis == "period":
-        return _period_headline(policy)
-    year = periods.year_of(cfg.as_of + cfg.policy_horizon, cfg.frequency)
-    for row in years:
-        if row.year == year:
-            return row
-    earlier = [row for row in years if row.year is not None and row.year < year]
-    word = BASIS_WORDS[cfg.basis]
-    if earlier:
-        chosen = earlier[-1]
-        warnings.warn(
-            f"The target is on a calendar-year basis ({cfg.basis}), but the reported horizons "
-            f"do not reach the end of {year}, the year of the policy horizon; the headline "
-            f"speaks of the {chosen.year} {word} instead.",
-            HeadlineBasisWarning,
-            stacklevel=3,
-        )
-        return chosen
-    warnings.warn(
-        f"The target is on a calendar-year basis ({cfg.basis}), but no calendar year is wholly "
-        "observed or reported; the headline speaks of the policy-horizon period instead.",
-        HeadlineBasisWarning,
-        stacklevel=3,
-    )
-    return _period_headline(policy)
-
-
-def _history(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
-    start = cfg.as_of - HISTORY_YEARS * periods.PERIODS_PER_YEAR[cfg.frequency]
-    keep = (act.period >= start) & (act.period < cfg.as_of)
-    return tuple(
-        Observation(periods.label(int(p), cfg.frequency), float(v))
-        for p, v in zip(act.period[keep], act.value[keep], strict=True)
-    )
-
-
-def _target(cfg: Config) -> TargetRecord:
-    band = cfg.band
-    return TargetRecord(
-        lower=band.lower,
-        upper=band.upper,
-        midpoint=band.midpoint,
-        tolerance=band.tolerance,
-        basis=cfg.basis,
-        edges="inclusive",
-        schedule=tuple(
-            ScheduledBand(
-                start=periods.label(c.start, cfg.frequency),
-                lower=c.band.lower,
-                upper=c.band.upper,
-                midpoint=c.band.midpoint,
-                tolerance=c.band.tolerance,
-            )
-            for c in cfg.schedule
-        ),
-    )
-
-
-def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> UncertaintyRecord:
-    choice = margins.choice
-    return UncertaintyRecord(
-        distribution=cfg.distribution,
-        families=tuple(
-            FamilySource(h, f, s)
-            for h, (f, s) in enumerate(zip(margins.families, margins.sources, strict=True))
-        ),
-        window=cfg.window,
-        centre=cfg.centre,
-        monotone=cfg.monotone,
-        min_errors=cfg.min_errors,
-        bootstrap_replicates=cfg.bootstrap_replicates,
-        interval_level=0.9,
-        simulations=cfg.simulations,
-        seed=cfg.seed,
-        verbal_scale=cfg.verbal_scale,
-        selection=None
-        if choice is None
-        else SelectionRecord(choice.chosen, choice.runner_up, choice.total),
-    )
-
-
-def _adjustments(
-    cfg: Config,
-    replayed: adjustments_module.Replays,
-    errors: np.ndarray,
-    margins: uncertainty.Margins,
-    recalibrated: tuple[adjustments_module.RecalibrationRow, ...],
-    panel: panel_module.Panel,
-    given: ErrorQuantiles | None,
-) -> adjustments_module.Adjustments:
-    chosen = replayed.selection
-    band = cfg.band_for(cfg.as_of + cfg.policy_horizon)
-    headline = probabilities.band_probabilities(
-        margins.outcome[cfg.policy_horizon], band.lower, band.upper
-    ).p_inside
-    label = periods.label
-    return adjustments_module.Adjustments(
-        spread_option=cfg.spread,
-        spread=chosen.current.spread.label,
-        volatility=dynamics.current(errors[:, : cfg.horizons + 1], chosen.current.spread),
-        method=chosen.current.label,
-        runner_up=chosen.runner_up.label if chosen.runner_up else None,
-        graded=replayed.graded,
-        choices=tuple(
-            adjustments_module.MethodSpell(
-                label(int(panel.origins[s.first_origin]), cfg.frequency),
-                label(int(panel.origins[s.last_origin]), cfg.frequency),
-                s.candidate,
-            )
-            for s in chosen.spells
-        ),
-        recalibrate=cfg.recalibrate,
-        recalibration=recalibrated,
-        verdict=adjustments_module.verdict(replayed),
-        sensitivity=adjustments_module.sensitivity(cfg, replayed, errors, margins.point, headline),
     )
 
 
@@ -583,26 +235,20 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     scenario_dists = overlay.scenarios(
         final, ordinals, cfg.scenarios, frequency=cfg.frequency, config_file=str(cfg.path)
     )
-    model_based = _horizon_results(cfg, margins, list(margins.outcome), ordinals)
-    adjusted = _horizon_results(cfg, margins, final, ordinals) if cfg.judgements else model_based
+    model_based = records.horizons(cfg, margins, list(margins.outcome), ordinals)
+    adjusted = records.horizons(cfg, margins, final, ordinals) if cfg.judgements else model_based
     draws = _simulate(cfg, errors, final)
     known = {int(p): float(v) for p, v in zip(act.period, act.value, strict=True) if p < cfg.as_of}
     yearly = annual_module.annual(draws, ordinals, known, cfg.frequency, cfg.band_for)
-    basis_rows = _basis_results(cfg, yearly)
-    headline = _headline(cfg, adjusted[cfg.policy_horizon], basis_rows)
+    basis_rows = headline_module.basis_results(cfg, yearly)
+    headline = headline_module.headline(cfg, adjusted[cfg.policy_horizon], basis_rows)
     record = evaluate(panel, combo, cfg.window, cfg.horizons)
-    weights = [
-        WeightRow(h, name, float(combo.current_weights[k, h]))
-        for h in range(cfg.horizons + 1)
-        for k, name in enumerate(panel.models)
-        if combo.included[k, h]
-    ]
     return Assessment(
         as_of=periods.label(cfg.as_of, cfg.frequency),
         frequency=cfg.frequency,
         title=cfg.title,
         institution=cfg.institution,
-        target=_target(cfg),
+        target=records.target(cfg),
         policy_horizon=cfg.policy_horizon,
         headline=headline,
         basis_results=basis_rows,
@@ -610,34 +256,23 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         model_based_horizons=model_based,
         judgement=tuple(applied),
         scenarios=tuple(
-            _scenario_record(cfg, name, reasons, dists, ordinals)
+            records.scenario(cfg, name, reasons, dists, ordinals)
             for name, reasons, dists in scenario_dists
         ),
-        path=_path(cfg, draws, ordinals),
+        path=records.path(cfg, draws, ordinals),
         annual=tuple(yearly),
-        combination=CombinationRecord(
-            method=method,
-            window=cfg.combination_window,
-            shrinkage=cfg.combination_shrinkage,
-            weights=tuple(weights),
-            intercepts=tuple(
-                InterceptRow(h, float(combo.intercepts[h]))
-                for h in range(cfg.horizons + 1)
-                if method == "ols"
-            ),
-            rows=tuple(RowCount(h, int(combo.rows[h])) for h in range(cfg.horizons + 1)),
-        ),
+        combination=records.combination(cfg, method, combo, panel),
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,
         calibration=calibration.summarise(runs, replayed.graded, cfg.frequency),
-        uncertainty=_uncertainty_record(cfg, margins),
-        history=_history(act, cfg),
+        uncertainty=records.uncertainty(cfg, margins),
+        history=records.observations(act, cfg),
         change=None,
-        inputs=_input_records(cfg, fc, act, given),
-        software=_software(),
+        inputs=records.inputs(cfg, fc, act, given),
+        software=records.software(),
         warnings=(),
-        adjustments=_adjustments(cfg, replayed, errors, margins, recalibrated, panel, given),
+        adjustments=records.adjustments(cfg, replayed, errors, margins, recalibrated, panel, given),
         thresholds=thresholds_module.evaluate(
             cfg.thresholds, final, draws, [r.period for r in adjusted]
         ),

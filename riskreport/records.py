@@ -1,0 +1,296 @@
+"""The assessment's records built from the pipeline's results: the inputs and software
+used, the target, the method, and the rows per horizon, scenario and path.
+
+:mod:`riskreport.pipeline` runs the steps; this module only turns their results into the
+frozen dataclasses of :mod:`riskreport.assessment`.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import hashlib
+import platform
+from importlib import metadata
+from pathlib import Path
+
+import numpy as np
+
+from riskreport import adjustments as adjustments_module
+from riskreport import change as change_module
+from riskreport import combination as combination_module
+from riskreport import distributions, dynamics, periods, probabilities
+from riskreport.assessment import (
+    CombinationRecord,
+    FamilySource,
+    HorizonResult,
+    InputRecord,
+    InterceptRow,
+    Observation,
+    PathResult,
+    RowCount,
+    ScenarioHorizon,
+    ScenarioResult,
+    ScheduledBand,
+    SelectionRecord,
+    SoftwareVersions,
+    TargetRecord,
+    UncertaintyRecord,
+    WeightRow,
+)
+from riskreport.config import Config
+from riskreport.distributions import GIVEN_FAMILY, Distribution
+from riskreport.inputs import Actuals, ErrorQuantiles, Forecasts
+from riskreport.panel import Panel
+from riskreport.uncertainty import Margins
+
+HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
+
+
+def _sha256(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def software() -> SoftwareVersions:
+    def version(name: str) -> str:
+        try:
+            return metadata.version(name)
+        except metadata.PackageNotFoundError:
+            return "not installed"
+
+    names = [f.name for f in dataclasses.fields(SoftwareVersions) if f.name != "python"]
+    return SoftwareVersions(
+        python=platform.python_version(), **{name: version(name) for name in names}
+    )
+
+
+def inputs(
+    cfg: Config, fc: Forecasts, act: Actuals, given: ErrorQuantiles | None
+) -> tuple[InputRecord, ...]:
+    def rel(path: Path) -> str:
+        try:
+            return path.relative_to(cfg.path.parent).as_posix()
+        except ValueError:
+            return path.name
+
+    f = cfg.frequency
+    records = [
+        InputRecord("config", rel(cfg.path), _sha256(cfg.path), None, None, None),
+        InputRecord(
+            "forecasts",
+            rel(fc.file),
+            _sha256(fc.file),
+            int(fc.value.size),
+            periods.label(int(fc.origin.min()), f),
+            periods.label(int(fc.period.max()), f),
+        ),
+        InputRecord(
+            "actuals",
+            rel(act.file),
+            _sha256(act.file),
+            int(act.value.size),
+            periods.label(int(act.period.min()), f),
+            periods.label(int(act.period.max()), f),
+        ),
+    ]
+    if given is not None:
+        rows = sum(len(levels) for levels, _ in given.by_horizon.values())
+        records.append(
+            InputRecord("error_quantiles", rel(given.file), _sha256(given.file), rows, None, None)
+        )
+    return tuple(records)
+
+
+def horizons(
+    cfg: Config,
+    margins: Margins,
+    dists: list[Distribution],
+    ordinals: list[int],
+) -> tuple[HorizonResult, ...]:
+    rows = []
+    for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
+        band = cfg.band_for(ordinal)
+        probs = probabilities.band_probabilities(dist, band.lower, band.upper)
+        family = margins.families[h]
+        if family == GIVEN_FAMILY:
+            interval = (probs.p_inside, probs.p_inside)
+        else:
+            interval = probabilities.bootstrap_p_inside(
+                margins.samples[h],
+                dist,
+                band.lower,
+                band.upper,
+                h=h,
+                family=family,  # type: ignore[arg-type]
+                mode=margins.mode,
+                replicates=cfg.bootstrap_replicates,
+                rng=np.random.default_rng([cfg.seed, h]),
+            )
+        quantiles = dist.ppf(np.array(probabilities.QUANTILE_LEVELS))
+        rows.append(
+            HorizonResult(
+                period=periods.label(ordinal, cfg.frequency),
+                h=h,
+                band=(band.lower, band.upper),
+                centre=float(dist.mode),
+                point_forecast=float(margins.point[h]),
+                p_below=probs.p_below,
+                p_inside=probs.p_inside,
+                p_above=probs.p_above,
+                p_inside_interval=interval,
+                quantiles={
+                    f"{q:g}": float(v)
+                    for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
+                },
+                distribution=family,
+                n_errors=None if family == GIVEN_FAMILY else margins.own[h],
+                spread=distributions.spread(dist),
+                percentiles=tuple(
+                    float(v) for v in dist.ppf(np.array(change_module.PERCENTILES) / 100)
+                ),
+            )
+        )
+    return tuple(rows)
+
+
+def scenario(
+    cfg: Config, name: str, reasons: tuple[str, ...], dists: list[Distribution], ordinals: list[int]
+) -> ScenarioResult:
+    rows = []
+    for h, (dist, ordinal) in enumerate(zip(dists, ordinals, strict=True)):
+        band = cfg.band_for(ordinal)
+        p = probabilities.band_probabilities(dist, band.lower, band.upper)
+        rows.append(
+            ScenarioHorizon(
+                period=periods.label(ordinal, cfg.frequency),
+                h=h,
+                centre=float(dist.mode),
+                p_below=p.p_below,
+                p_inside=p.p_inside,
+                p_above=p.p_above,
+            )
+        )
+    return ScenarioResult(name, tuple(reasons), tuple(rows))
+
+
+def path(cfg: Config, draws: np.ndarray, ordinals: list[int]) -> tuple[PathResult, ...]:
+    bands = [cfg.band_for(o) for o in ordinals]
+    throughout, back_by = probabilities.path_probabilities(
+        draws, np.array([b.lower for b in bands]), np.array([b.upper for b in bands])
+    )
+    return tuple(
+        PathResult(periods.label(o, cfg.frequency), h, float(t), float(b))
+        for h, (o, t, b) in enumerate(zip(ordinals, throughout, back_by, strict=True))
+    )
+
+
+def observations(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
+    start = cfg.as_of - HISTORY_YEARS * periods.PERIODS_PER_YEAR[cfg.frequency]
+    keep = (act.period >= start) & (act.period < cfg.as_of)
+    return tuple(
+        Observation(periods.label(int(p), cfg.frequency), float(v))
+        for p, v in zip(act.period[keep], act.value[keep], strict=True)
+    )
+
+
+def target(cfg: Config) -> TargetRecord:
+    band = cfg.band
+    return TargetRecord(
+        lower=band.lower,
+        upper=band.upper,
+        midpoint=band.midpoint,
+        tolerance=band.tolerance,
+        basis=cfg.basis,
+        edges="inclusive",
+        schedule=tuple(
+            ScheduledBand(
+                start=periods.label(c.start, cfg.frequency),
+                lower=c.band.lower,
+                upper=c.band.upper,
+                midpoint=c.band.midpoint,
+                tolerance=c.band.tolerance,
+            )
+            for c in cfg.schedule
+        ),
+    )
+
+
+def uncertainty(cfg: Config, margins: Margins) -> UncertaintyRecord:
+    choice = margins.choice
+    return UncertaintyRecord(
+        distribution=cfg.distribution,
+        families=tuple(
+            FamilySource(h, f, s)
+            for h, (f, s) in enumerate(zip(margins.families, margins.sources, strict=True))
+        ),
+        window=cfg.window,
+        centre=cfg.centre,
+        monotone=cfg.monotone,
+        min_errors=cfg.min_errors,
+        bootstrap_replicates=cfg.bootstrap_replicates,
+        interval_level=0.9,
+        simulations=cfg.simulations,
+        seed=cfg.seed,
+        verbal_scale=cfg.verbal_scale,
+        selection=None
+        if choice is None
+        else SelectionRecord(choice.chosen, choice.runner_up, choice.total),
+    )
+
+
+def adjustments(
+    cfg: Config,
+    replayed: adjustments_module.Replays,
+    errors: np.ndarray,
+    margins: Margins,
+    recalibrated: tuple[adjustments_module.RecalibrationRow, ...],
+    panel: Panel,
+    given: ErrorQuantiles | None,
+) -> adjustments_module.Adjustments:
+    chosen = replayed.selection
+    band = cfg.band_for(cfg.as_of + cfg.policy_horizon)
+    headline = probabilities.band_probabilities(
+        margins.outcome[cfg.policy_horizon], band.lower, band.upper
+    ).p_inside
+    label = periods.label
+    return adjustments_module.Adjustments(
+        spread_option=cfg.spread,
+        spread=chosen.current.spread.label,
+        volatility=dynamics.current(errors[:, : cfg.horizons + 1], chosen.current.spread),
+        method=chosen.current.label,
+        runner_up=chosen.runner_up.label if chosen.runner_up else None,
+        graded=replayed.graded,
+        choices=tuple(
+            adjustments_module.MethodSpell(
+                label(int(panel.origins[s.first_origin]), cfg.frequency),
+                label(int(panel.origins[s.last_origin]), cfg.frequency),
+                s.candidate,
+            )
+            for s in chosen.spells
+        ),
+        recalibrate=cfg.recalibrate,
+        recalibration=recalibrated,
+        verdict=adjustments_module.verdict(replayed),
+        sensitivity=adjustments_module.sensitivity(cfg, replayed, errors, margins.point, headline),
+    )
+
+
+def combination(
+    cfg: Config, method: str, combo: combination_module.Combination, panel: Panel
+) -> CombinationRecord:
+    """The weighting method and today's weights, intercepts and row counts per horizon."""
+    horizons = range(cfg.horizons + 1)
+    return CombinationRecord(
+        method=method,
+        window=cfg.combination_window,
+        shrinkage=cfg.combination_shrinkage,
+        weights=tuple(
+            WeightRow(h, name, float(combo.current_weights[k, h]))
+            for h in horizons
+            for k, name in enumerate(panel.models)
+            if combo.included[k, h]
+        ),
+        intercepts=tuple(
+            InterceptRow(h, float(combo.intercepts[h])) for h in horizons if method == "ols"
+        ),
+        rows=tuple(RowCount(h, int(combo.rows[h])) for h in horizons),
+    )
