@@ -118,7 +118,7 @@ class HorizonResult:
     quantiles: dict[str, float]
     distribution: str
     n_errors: int | None  # None where the error distribution is given (error_quantiles)
-    spread: float
+    spread: float  # standard deviation of the outcome distribution (distributions.spread)
     percentiles: tuple[float, ...]
 
 

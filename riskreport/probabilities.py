@@ -11,7 +11,6 @@ from riskreport._typing import Family
 from riskreport.distributions import Distribution, fit_batch, rebase
 
 QUANTILE_LEVELS: tuple[float, ...] = (0.05, 0.1, 0.25, 0.5, 0.75, 0.9, 0.95)
-SPREAD_GRID = (np.arange(2000) + 0.5) / 2000  # probabilities for the spread by quantile integration
 
 
 @dataclass(frozen=True)
