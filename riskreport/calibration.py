@@ -25,7 +25,7 @@ from riskreport.assessment import json_key
 from riskreport.config import Band
 from riskreport.distributions import FAMILIES, fit_batch
 from riskreport.errors import SmallSampleWarning
-from riskreport.panel import Panel
+from riskreport.panel import Panel, steps_ahead
 
 MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common practice, no source)
 NOMINAL = (0.5, 0.9)
@@ -456,8 +456,8 @@ def summarise(
         if r.pit.size >= MIN_TEST_ROUNDS:
             if r.h == 0:
                 tests.append(_test_entry("berkowitz", r.h, stats.berkowitz(r.pit)))
-            if stats.too_short(r.pit.size, r.h + 1) is None:
-                result = stats.knuppel(r.pit, h=r.h + 1, moments=2)
+            if stats.too_short(r.pit.size, steps_ahead(r.h)) is None:
+                result = stats.knuppel(r.pit, h=steps_ahead(r.h), moments=2)
                 tests.append(_test_entry("knuppel", r.h, result))
             else:
                 short.append(r.h)

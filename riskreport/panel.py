@@ -88,6 +88,18 @@ def build(forecasts: Forecasts, actuals: Actuals, *, as_of: int, max_h: int) -> 
     )
 
 
+def steps_ahead(h: int) -> int:
+    """The steps ahead of a forecast of horizon ``h``, as :mod:`riskreport.stats` counts them.
+
+    A forecast of horizon h made at origin o uses data up to o - 1, so it is an
+    (h + 1)-step forecast: its errors overlap over h periods.
+
+    >>> steps_ahead(0)
+    1
+    """
+    return h + 1
+
+
 def window_mask(errors: np.ndarray, window: int) -> np.ndarray:
     """origins x horizons: True for the last ``window`` known errors of each horizon.
 

@@ -29,8 +29,13 @@ class TestResult:
         The hypotheses in words.
     method
         The test and the reference distribution used.
-    nobs, h
-        Sample size and forecast horizon.
+    nobs
+        Sample size.
+    h
+        Steps ahead, as the literature counts them (1: one step ahead; h - 1 overlapping
+        lags). The pipeline's horizon index is one less: a forecast of horizon 0 made at
+        origin o uses data up to o - 1 and is one step ahead
+        (:func:`riskreport.panel.steps_ahead` converts).
     df
         Degrees of freedom of the reference distribution.
     notes

@@ -4,7 +4,7 @@ every forecaster and the comparative tests.
 Errors are e(o, h) = actual(o + h) - forecast(o, o + h); only outcomes known at ``as_of``
 enter (the panel holds no later outcome). A forecast of horizon h made at origin o uses
 data up to o - 1, so it is an (h + 1)-step forecast: its errors overlap over h periods and
-the tests use h lags (``stats`` functions take steps = h + 1).
+the tests use h lags (``stats`` functions take ``panel.steps_ahead(h)`` = h + 1 steps).
 """
 
 from __future__ import annotations
@@ -19,7 +19,7 @@ from riskreport import benchmarks, periods
 from riskreport.assessment import json_key
 from riskreport.combination import Combination
 from riskreport.errors import SmallSampleWarning
-from riskreport.panel import Panel, window_mask
+from riskreport.panel import Panel, steps_ahead, window_mask
 
 if TYPE_CHECKING:  # the tests (scipy.stats) load only when run: `check` needs none of them
     from riskreport import stats
@@ -142,7 +142,7 @@ def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: in
     skipped: set[int] = set()
     crowded: set[int] = set()
     for h in range(horizons + 1):
-        steps = h + 1
+        steps = steps_ahead(h)
         comb, naive = errors["combination"][:, h], errors["no-change"][:, h]
         for model in current[h]:
             e = errors[model][:, h]
