@@ -114,7 +114,7 @@ def _run(name: str, path: Path, frequency: str) -> None:
         f"{'method':<22} {'horizons':<9} {'|cov50-0.5|':>11} {'|cov90-0.9|':>11} {'log score':>10}"
     )
     for label, options in VARIANTS:
-        cfg = dataclasses.replace(config.load(path), **options)  # type: ignore[arg-type]
+        cfg = config.load(path).replaced("uncertainty", **options)
         start = time.perf_counter()
         assessment = pipeline.assess_config(cfg, search=path.parent / "none")
         seconds = time.perf_counter() - start

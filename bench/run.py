@@ -73,12 +73,12 @@ def _replay_inputs(copies: int) -> tuple[object, np.ndarray, np.ndarray]:
     from riskreport.track_record import error_matrix
 
     cfg = config_module.load(CONFIG)
-    fc = inputs.read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
-    act = inputs.read_actuals(cfg.actuals, cfg.frequency)
-    base = panel.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+    fc = inputs.read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
+    act = inputs.read_actuals(cfg.inputs.actuals, cfg.brief.frequency)
+    base = panel.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
     combo = combination.combine("equal", base)
     errors = error_matrix(combo.combined, base.outcomes)
-    known = errors[: -cfg.horizons - 1]
+    known = errors[: -cfg.brief.horizons - 1]
     stacked = np.concatenate([known] * (copies - 1) + [errors]) if copies > 1 else errors
     combined = (
         np.concatenate([combo.combined[: known.shape[0]]] * (copies - 1) + [combo.combined])
@@ -91,7 +91,7 @@ def _replay_inputs(copies: int) -> tuple[object, np.ndarray, np.ndarray]:
     grown = panel.Panel(
         base.models,
         origins,
-        np.zeros((1, n, cfg.horizons + 1)),
+        np.zeros((1, n, cfg.brief.horizons + 1)),
         outcomes,
         outcomes[:, 0],
         np.full(n + 400, 3.0),
@@ -106,7 +106,13 @@ def _replay_seconds(copies: int) -> tuple[float, int]:
     (grown, cfg), combined, errors = _replay_inputs(copies)
     start = time.perf_counter()
     runs = calibration.replay(
-        grown, combined, errors, cfg.horizons, window=cfg.window, mode=None, band_for=cfg.band_for
+        grown,
+        combined,
+        errors,
+        cfg.brief.horizons,
+        window=cfg.uncertainty.window,
+        mode=None,
+        band_for=cfg.band_for,
     )  # type: ignore[attr-defined]
     seconds = time.perf_counter() - start
     return seconds, sum(r.pit.size for r in runs.values())

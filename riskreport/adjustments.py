@@ -10,7 +10,6 @@ each past origin from the scores known then (:mod:`riskreport.prequential`), the
 
 from __future__ import annotations
 
-import dataclasses
 import warnings
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -65,7 +64,7 @@ def replays(
 ) -> Replays:
     """Replay every family under every configured spread option, select prequentially and,
     when asked, recalibrate out of sample (``cache``: reuse origins replayed before)."""
-    spreads = dynamics.options(cfg.spread)
+    spreads = dynamics.options(cfg.uncertainty.spread)
     # The constant spread is always replayed: it is the baseline of the verdict.
     every = tuple(dict.fromkeys((dynamics.CONSTANT, *spreads)))
     replayed = tuple(
@@ -74,15 +73,17 @@ def replays(
         for f in FAMILIES
         if s.smoothing is None or f in dynamics.FAMILIES
     )
-    allowed = FAMILIES if cfg.distribution == "auto" else (cfg.distribution,)
+    allowed = (
+        FAMILIES if cfg.uncertainty.distribution == "auto" else (cfg.uncertainty.distribution,)
+    )
     candidates = tuple(c for c in replayed if c.family in allowed and c.spread in spreads)
     runs = prequential.replay(
         panel,
         combined,
         errors,
-        cfg.horizons,
-        window=cfg.window,
-        mode=0.0 if cfg.centre == "forecast" else None,
+        cfg.brief.horizons,
+        window=cfg.uncertainty.window,
+        mode=0.0 if cfg.uncertainty.centre == "forecast" else None,
         band_for=cfg.band_for,
         candidates=replayed,
         cache=cache,
@@ -93,12 +94,12 @@ def replays(
         for h, run in prequential.selected_sequence(runs, chosen).items():
             runs[(prequential.SELECTED, h)] = run
         graded = prequential.SELECTED
-    if cfg.recalibrate:
+    if cfg.uncertainty.recalibrate:
         raw = [run for (label, _), run in runs.items() if label == graded]
         for run in raw:
             mapped = (
                 recalibration.apply_to_replay(run)
-                if cfg.recalibration == "beta"
+                if cfg.uncertainty.recalibration == "beta"
                 else recalibration.track_replay(run)
             )
             runs[(recalibration.LABEL, run.h)] = mapped
@@ -151,7 +152,7 @@ def recalibrate(
         a = b = float("nan")
         levels: tuple[float, ...] = ()
         n = 0 if run is None else int(run.pit.size)
-        if run is not None and cfg.recalibration == "beta":
+        if run is not None and cfg.uncertainty.recalibration == "beta":
             beta = recalibration.current_map(run)
             a, b = beta.a, beta.b
             if (a, b) != (1.0, 1.0):
@@ -160,14 +161,14 @@ def recalibrate(
             u, v = recalibration.current_tracked(run)
             levels = u[1:-1]
             new = recalibration.Tracked(dist, u, v)
-        band = cfg.band_for(cfg.as_of + h)
+        band = cfg.band_for(cfg.brief.as_of + h)
         before = probabilities.band_probabilities(dist, band.lower, band.upper)
         after = probabilities.band_probabilities(new, band.lower, band.upper)
         dists.append(new)
         rows.append(
             RecalibrationRow(
                 h,
-                cfg.recalibration,
+                cfg.uncertainty.recalibration,
                 a,
                 b,
                 levels,
@@ -220,10 +221,10 @@ def sensitivity(
     sequence with today's model-based P(inside) (``headline``)."""
     from riskreport import uncertainty  # imported here: uncertainty imports selection
 
-    h = cfg.policy_horizon
-    band = cfg.band_for(cfg.as_of + h)
+    h = cfg.brief.policy_horizon
+    band = cfg.band_for(cfg.brief.as_of + h)
     labels = list(dict.fromkeys(label for label, _ in result.runs))
-    short = dataclasses.replace(cfg, horizons=h)  # the monotone rule needs only h and below
+    short = cfg.replaced("brief", horizons=h)  # the monotone rule needs only h and below
     rows = []
     for label in labels:
         candidate = next(

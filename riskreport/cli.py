@@ -207,8 +207,8 @@ def _build(
         steps.step("assessing (replay, fits, simulation)")
         cfg = config_module.load_config(config, as_of)
         if out_dir is None:
-            out_dir = cfg.output_directory.resolve()
-        record["as_of"] = periods.label(cfg.as_of, cfg.frequency)
+            out_dir = cfg.output.directory.resolve()
+        record["as_of"] = periods.label(cfg.brief.as_of, cfg.brief.frequency)
         record["config_sha256"] = _sha256(cfg.path)
         # One writer at a time, from reading the previous brief to the run record. A folder
         # that does not exist yet is made only once the inputs are known to be good.
@@ -235,7 +235,7 @@ def _build(
             record["as_of"] = assessment.as_of
             record["inputs"] = {i.role: i.sha256 for i in assessment.inputs}
             steps.step("rendering (charts, HTML, PDF)")
-            files = outputs.files_for(assessment, cfg.formats)
+            files = outputs.files_for(assessment, cfg.output.formats)
             steps.step("writing")
             written = folder.write_round(out_dir, files, as_of=assessment.as_of, force=force)
             listed = [
@@ -293,11 +293,11 @@ def _build_key(cfg: Any, previous: Path | None) -> str:
     """The digest of everything the build's files are made from (see replay_cache)."""
     from riskreport import periods, replay_cache
 
-    inputs = {"forecasts": cfg.forecasts, "actuals": cfg.actuals}
-    if cfg.error_quantiles:
-        inputs["error_quantiles"] = cfg.error_quantiles
-    label = periods.label(cfg.as_of, cfg.frequency)
-    return replay_cache.build_key(cfg.path, label, inputs, previous, cfg.formats)
+    inputs = {"forecasts": cfg.inputs.forecasts, "actuals": cfg.inputs.actuals}
+    if cfg.inputs.error_quantiles:
+        inputs["error_quantiles"] = cfg.inputs.error_quantiles
+    label = periods.label(cfg.brief.as_of, cfg.brief.frequency)
+    return replay_cache.build_key(cfg.path, label, inputs, previous, cfg.output.formats)
 
 
 def _rerun(out_dir: Path, record: dict[str, Any], again: dict[str, Any]) -> dict[str, Any]:
@@ -361,7 +361,7 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
 
     cfg = config_module.load_config(config, as_of)
     assessment = pipeline.assess_config(cfg)
-    out_dir = (out if out is not None else cfg.output_directory).resolve()
+    out_dir = (out if out is not None else cfg.output.directory).resolve()
     files = {
         name: content
         for name, content in outputs.files_for(assessment, ["csv"]).items()

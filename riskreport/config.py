@@ -87,67 +87,115 @@ class Judgement:
 
 
 @dataclass(frozen=True)
-class Config:
-    """A validated configuration. Paths are absolute."""
+class BriefSection:
+    """``[brief]``: what the brief is about and when it is made."""
 
-    path: Path
     title: str
     institution: str
-    as_of: int
+    as_of: int  # the round's origin, a period ordinal
     frequency: Frequency
     horizons: int
     policy_horizon: int
     verbal_scale: str
+    density_horizons: tuple[int, ...] | None = None  # None: the policy horizon
+
+
+@dataclass(frozen=True)
+class InputsSection:
+    """``[inputs]``: the forecast and outcome files (absolute paths) and their limits."""
+
     forecasts: Path
     actuals: Path
     error_quantiles: Path | None
+    max_abs_value: float = MAX_ABS_VALUE
+    score_against: ScoreAgainst = "latest"  # with a vintage column in the actuals
+
+
+@dataclass(frozen=True)
+class TargetSection:
+    """``[target]``: the band, the measure it is defined on, its schedule and extra lines."""
+
     band: Band
     basis: Basis
     schedule: tuple[BandChange, ...]
-    combination: CombinationMethod
-    combination_window: int
+    thresholds: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True)
+class CombinationSection:
+    """``[combination]``: the weighting method, its estimation window and shrinkage."""
+
+    method: CombinationMethod
+    window: int  # 0: every past origin
+    shrinkage: float = SHRINKAGE
+
+
+@dataclass(frozen=True)
+class UncertaintySection:
+    """``[uncertainty]``: the error law, its window and spread, and the simulation sizes."""
+
     distribution: DistributionChoice
-    window: int
+    window: int  # the last ``window`` known errors of each horizon; 0: all
     centre: Centre
     monotone: bool
     min_errors: int
     bootstrap_replicates: int
     simulations: int
     seed: int
-    judgements: tuple[Judgement, ...]
-    scenarios: tuple[tuple[str, Judgement], ...]
-    output_directory: Path
-    formats: tuple[OutputFormat, ...]
-    combination_shrinkage: float = SHRINKAGE
-    max_abs_value: float = MAX_ABS_VALUE
     spread: SpreadChoice = "constant"
     recalibrate: bool = False
     recalibration: RecalibrationMethod = "tracking"
-    thresholds: tuple[float, ...] = ()
-    density_horizons: tuple[int, ...] | None = None  # None: the policy horizon
-    score_against: ScoreAgainst = "latest"  # with a vintage column in the actuals
+
+
+@dataclass(frozen=True)
+class OutputSection:
+    """``[output]``: where the files go (absolute) and which formats."""
+
+    directory: Path
+    formats: tuple[OutputFormat, ...]
+
+
+@dataclass(frozen=True)
+class Config:
+    """A validated configuration: one field per TOML table, so ``cfg.uncertainty.window``
+    is ``[uncertainty] window``. Paths are absolute."""
+
+    path: Path
+    brief: BriefSection
+    inputs: InputsSection
+    target: TargetSection
+    combination: CombinationSection
+    uncertainty: UncertaintySection
+    judgements: tuple[Judgement, ...]  # [[judgement]]
+    scenarios: tuple[tuple[str, Judgement], ...]  # [[scenario]], by name
+    output: OutputSection
 
     def band_for(self, ordinal: int) -> Band:
         """The band in force in a period (the latest schedule entry that has started)."""
-        band = self.band
-        for change in self.schedule:
+        band = self.target.band
+        for change in self.target.schedule:
             if change.start <= ordinal:
                 band = change.band
         return band
 
+    def replaced(self, section: str, **changes: Any) -> Config:
+        """The same configuration with ``changes`` in one table, e.g.
+        ``cfg.replaced("uncertainty", window=60)`` for ``[uncertainty] window = 60``."""
+        return replace(self, **{section: replace(getattr(self, section), **changes)})
+
     def with_as_of(self, text: str) -> Config:
         """The same configuration with another current origin (``--as-of``)."""
         parsed = periods.parse(text)
-        if parsed is None or parsed.frequency != self.frequency:
+        if parsed is None or parsed.frequency != self.brief.frequency:
             raise InputError(
-                f"--as-of expected a {self.frequency} period like "
-                f"{periods.EXAMPLE[self.frequency]}, got {text!r}"
+                f"--as-of expected a {self.brief.frequency} period like "
+                f"{periods.EXAMPLE[self.brief.frequency]}, got {text!r}"
             )
-        if not FIRST_YEAR <= periods.year_of(parsed.ordinal, self.frequency) <= LAST_YEAR:
+        if not FIRST_YEAR <= periods.year_of(parsed.ordinal, self.brief.frequency) <= LAST_YEAR:
             raise InputError(
                 f"--as-of expected a period from {FIRST_YEAR} to {LAST_YEAR}, got {text!r}"
             )
-        return replace(self, as_of=parsed.ordinal)
+        return self.replaced("brief", as_of=parsed.ordinal)
 
 
 _KNOWN_KEYS: dict[str, set[str]] = {
@@ -496,48 +544,62 @@ def load(path: str | Path) -> Config:
 
     return Config(
         path=path,
-        title=brief.text("title"),
-        institution=brief.text("institution"),
-        as_of=brief.period("as_of", frequency),
-        frequency=frequency,
-        horizons=horizons,
-        policy_horizon=policy_horizon,
-        verbal_scale=brief.choice("verbal_scale", VERBAL_SCALES, "ipcc-ar5"),
-        forecasts=cast(Path, inputs.path_of("forecasts", base, required=True)),
-        actuals=cast(Path, inputs.path_of("actuals", base, required=True)),
-        error_quantiles=inputs.path_of("error_quantiles", base, required=False),
-        band=_band(target, bound),
-        basis=cast(Basis, target.choice("basis", BASES, "period")),
-        schedule=_schedule(path, target.table.get("schedule"), frequency, bound),
-        combination=method,
-        combination_window=combination.integer("window", 0, minimum=0, maximum=window_limit),
-        distribution=distribution,
-        window=uncertainty.integer("window", 120, minimum=0, maximum=window_limit),
-        centre=cast(Centre, uncertainty.choice("centre", CENTRES, "estimated")),
-        monotone=uncertainty.flag("monotone", True),
-        min_errors=uncertainty.integer("min_errors", 20, minimum=2, maximum=window_limit),
-        bootstrap_replicates=uncertainty.integer(
-            "bootstrap_replicates", 500, minimum=50, maximum=MAX_BOOTSTRAP_REPLICATES
+        brief=BriefSection(
+            title=brief.text("title"),
+            institution=brief.text("institution"),
+            as_of=brief.period("as_of", frequency),
+            frequency=frequency,
+            horizons=horizons,
+            policy_horizon=policy_horizon,
+            verbal_scale=brief.choice("verbal_scale", VERBAL_SCALES, "ipcc-ar5"),
+            density_horizons=_density_horizons(brief, horizons),
         ),
-        simulations=uncertainty.integer(
-            "simulations", 20000, minimum=1000, maximum=MAX_SIMULATIONS
+        inputs=InputsSection(
+            forecasts=cast(Path, inputs.path_of("forecasts", base, required=True)),
+            actuals=cast(Path, inputs.path_of("actuals", base, required=True)),
+            error_quantiles=inputs.path_of("error_quantiles", base, required=False),
+            max_abs_value=bound,
+            score_against=cast(
+                ScoreAgainst, inputs.choice("score_against", SCORE_AGAINST, "latest")
+            ),
         ),
-        seed=uncertainty.integer("seed", 20240101, minimum=0, maximum=2**63 - 1),
+        target=TargetSection(
+            band=_band(target, bound),
+            basis=cast(Basis, target.choice("basis", BASES, "period")),
+            schedule=_schedule(path, target.table.get("schedule"), frequency, bound),
+            thresholds=_thresholds(target),
+        ),
+        combination=CombinationSection(
+            method=method,
+            window=combination.integer("window", 0, minimum=0, maximum=window_limit),
+            shrinkage=shrinkage,
+        ),
+        uncertainty=UncertaintySection(
+            distribution=distribution,
+            window=uncertainty.integer("window", 120, minimum=0, maximum=window_limit),
+            centre=cast(Centre, uncertainty.choice("centre", CENTRES, "estimated")),
+            monotone=uncertainty.flag("monotone", True),
+            min_errors=uncertainty.integer("min_errors", 20, minimum=2, maximum=window_limit),
+            bootstrap_replicates=uncertainty.integer(
+                "bootstrap_replicates", 500, minimum=50, maximum=MAX_BOOTSTRAP_REPLICATES
+            ),
+            simulations=uncertainty.integer(
+                "simulations", 20000, minimum=1000, maximum=MAX_SIMULATIONS
+            ),
+            seed=uncertainty.integer("seed", 20240101, minimum=0, maximum=2**63 - 1),
+            spread=spread,
+            recalibrate=uncertainty.flag("recalibrate", False),
+            recalibration=cast(
+                RecalibrationMethod,
+                uncertainty.choice("recalibration", RECALIBRATION_METHODS, "tracking"),
+            ),
+        ),
         judgements=_judgements(path, data.get("judgement"), frequency, bound),
         scenarios=_scenarios(path, data.get("scenario"), frequency, bound),
-        output_directory=(base / directory).resolve(),
-        formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
-        combination_shrinkage=shrinkage,
-        max_abs_value=bound,
-        spread=spread,
-        recalibrate=uncertainty.flag("recalibrate", False),
-        recalibration=cast(
-            RecalibrationMethod,
-            uncertainty.choice("recalibration", RECALIBRATION_METHODS, "tracking"),
+        output=OutputSection(
+            directory=(base / directory).resolve(),
+            formats=tuple(dict.fromkeys(cast(list[OutputFormat], formats_raw))),
         ),
-        thresholds=_thresholds(target),
-        density_horizons=_density_horizons(brief, horizons),
-        score_against=cast(ScoreAgainst, inputs.choice("score_against", SCORE_AGAINST, "latest")),
     )
 
 

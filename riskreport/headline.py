@@ -18,19 +18,19 @@ def basis_results(
     cfg: Config, yearly: tuple[annual_module.AnnualResult, ...]
 ) -> tuple[BasisResult, ...]:
     """The calendar years in view on the configured basis (empty on the ``period`` basis)."""
-    if cfg.basis == "period":
+    if cfg.target.basis == "period":
         return ()
-    per_year = periods.PERIODS_PER_YEAR[cfg.frequency]
+    per_year = periods.PERIODS_PER_YEAR[cfg.brief.frequency]
     rows = []
     for r in yearly:
-        if r.basis != cfg.basis:
+        if r.basis != cfg.target.basis:
             continue
         last = _year_start(r.year, cfg) + per_year - 1
         rows.append(
             BasisResult(
                 basis=r.basis,
                 label=f"{r.year} {BASIS_WORDS[r.basis]}",
-                period=periods.label(last, cfg.frequency),
+                period=periods.label(last, cfg.brief.frequency),
                 year=r.year,
                 band=r.band,
                 p_below=r.p_below,
@@ -45,7 +45,7 @@ def basis_results(
 
 
 def _year_start(year: int, cfg: Config) -> int:
-    start = periods.parse(f"{year}-01" if cfg.frequency == "monthly" else f"{year}-Q1")
+    start = periods.parse(f"{year}-01" if cfg.brief.frequency == "monthly" else f"{year}-Q1")
     assert start is not None
     return start.ordinal
 
@@ -73,18 +73,18 @@ def headline(cfg: Config, policy: HorizonResult, years: tuple[BasisResult, ...])
     When that year is not wholly observed or reported, the latest earlier year that is
     stands in, with a warning; with no such year, the policy-horizon period does.
     """
-    if cfg.basis == "period":
+    if cfg.target.basis == "period":
         return _period_headline(policy)
-    year = periods.year_of(cfg.as_of + cfg.policy_horizon, cfg.frequency)
+    year = periods.year_of(cfg.brief.as_of + cfg.brief.policy_horizon, cfg.brief.frequency)
     for row in years:
         if row.year == year:
             return row
     earlier = [row for row in years if row.year is not None and row.year < year]
-    word = BASIS_WORDS[cfg.basis]
+    word = BASIS_WORDS[cfg.target.basis]
     if earlier:
         chosen = earlier[-1]
         warnings.warn(
-            f"The target is on a calendar-year basis ({cfg.basis}), but the reported horizons "
+            f"The target is on a calendar-year basis ({cfg.target.basis}), but the reported horizons "
             f"do not reach the end of {year}, the year of the policy horizon; the headline "
             f"speaks of the {chosen.year} {word} instead.",
             HeadlineBasisWarning,
@@ -92,7 +92,7 @@ def headline(cfg: Config, policy: HorizonResult, years: tuple[BasisResult, ...])
         )
         return chosen
     warnings.warn(
-        f"The target is on a calendar-year basis ({cfg.basis}), but no calendar year is wholly "
+        f"The target is on a calendar-year basis ({cfg.target.basis}), but no calendar year is wholly "
         "observed or reported; the headline speaks of the policy-horizon period instead.",
         HeadlineBasisWarning,
         stacklevel=3,

@@ -48,11 +48,11 @@ from riskreport.track_record import error_matrix, evaluate
 
 
 def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:
-    errors = errors[:, : cfg.horizons + 1]
-    errors = np.where(window_mask(errors, cfg.window), errors, np.nan)
+    errors = errors[:, : cfg.brief.horizons + 1]
+    errors = np.where(window_mask(errors, cfg.uncertainty.window), errors, np.nan)
     corr = probabilities.normal_scores_correlation(errors)
     return probabilities.simulate_joint(
-        dists, corr, cfg.simulations, np.random.default_rng([cfg.seed, 7])
+        dists, corr, cfg.uncertainty.simulations, np.random.default_rng([cfg.uncertainty.seed, 7])
     )
 
 
@@ -74,7 +74,7 @@ def assess_config(
         assessment = _assess(cfg, cache)
     notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]
     source = previous or change_module.find_previous(
-        search or cfg.output_directory, assessment.as_of
+        search or cfg.output.directory, assessment.as_of
     )
     change = None
     if source is not None:
@@ -86,7 +86,7 @@ def assess_config(
         )
     policy = assessment.policy
     rounds = history_module.points(
-        previous.parent if previous is not None else search or cfg.output_directory,
+        previous.parent if previous is not None else search or cfg.output.directory,
         assessment.as_of,
         policy.period,
         policy.h,
@@ -108,13 +108,13 @@ def _year_history(
 ) -> tuple[history_module.YearPoint, ...]:
     """P(inside) for the current calendar year (on the target's annual measure; the average
     when the target is per period) across the rounds in the output folder."""
-    year = periods.year_of(cfg.as_of, cfg.frequency)
-    basis = "year-end" if cfg.basis == "year-end" else "calendar-year-average"
+    year = periods.year_of(cfg.brief.as_of, cfg.brief.frequency)
+    basis = "year-end" if cfg.target.basis == "year-end" else "calendar-year-average"
     now = next((r for r in assessment.annual if r.year == year and r.basis == basis), None)
     if now is None:
         return ()
     return history_module.year_points(
-        directory or cfg.output_directory, assessment.as_of, year, basis, now.p_inside
+        directory or cfg.output.directory, assessment.as_of, year, basis, now.p_inside
     )
 
 
@@ -123,10 +123,14 @@ def _check_earlier(path: Path, text: str, cfg: Config) -> None:
     same frequency: a later or other-frequency file would print a "change since" that is
     no such thing."""
     parsed = periods.parse(text)
-    if parsed is None or parsed.frequency != cfg.frequency or parsed.ordinal > cfg.as_of:
+    if (
+        parsed is None
+        or parsed.frequency != cfg.brief.frequency
+        or parsed.ordinal > cfg.brief.as_of
+    ):
         raise InputError(
-            f"the previous brief is for {text!r}; expected a {cfg.frequency} round not "
-            f"later than {periods.label(cfg.as_of, cfg.frequency)}",
+            f"the previous brief is for {text!r}; expected a {cfg.brief.frequency} round not "
+            f"later than {periods.label(cfg.brief.as_of, cfg.brief.frequency)}",
             file=path,
             column="as_of",
         )
@@ -165,26 +169,28 @@ def _warn_range(method: str, combo: combination_module.Combination) -> None:
 
 
 def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
-    fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of, cfg.max_abs_value)
+    fc = read_forecasts(
+        cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of, cfg.inputs.max_abs_value
+    )
     act = read_actuals(
-        cfg.actuals,
-        cfg.frequency,
-        cfg.max_abs_value,
-        as_of=cfg.as_of,
-        score_against=cfg.score_against,
+        cfg.inputs.actuals,
+        cfg.brief.frequency,
+        cfg.inputs.max_abs_value,
+        as_of=cfg.brief.as_of,
+        score_against=cfg.inputs.score_against,
     )
     given = (
-        read_error_quantiles(cfg.error_quantiles, cfg.max_abs_value)
-        if cfg.error_quantiles
+        read_error_quantiles(cfg.inputs.error_quantiles, cfg.inputs.max_abs_value)
+        if cfg.inputs.error_quantiles
         else None
     )
     screening.warn_later_outcomes(act, cfg)
-    panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+    panel = panel_module.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
     status = screening.model_status(fc, cfg)
     screening.warn_left_out(status)
     method = screening.combination_method(cfg, fc)
     combo = combination_module.combine(
-        method, panel, window=cfg.combination_window, shrinkage=cfg.combination_shrinkage
+        method, panel, window=cfg.combination.window, shrinkage=cfg.combination.shrinkage
     )
     for h in np.flatnonzero(combo.fallback).tolist():
         warnings.warn(
@@ -194,7 +200,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             stacklevel=2,
         )
     _warn_range(method, combo)
-    point = combo.combined[-1, : cfg.horizons + 1]
+    point = combo.combined[-1, : cfg.brief.horizons + 1]
     screening.require_current(cfg, point)
     errors = error_matrix(combo.combined, panel.outcomes)
     replayed = adjustments_module.replays(cfg, panel, combo.combined, errors, cache=cache)
@@ -206,7 +212,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             replayed.selection.runner_up.family if replayed.selection.runner_up else None,
             adjustments_module.family_totals(replayed),
         )
-        if cfg.distribution == "auto"
+        if cfg.uncertainty.distribution == "auto"
         else None
     )
     family = today.family
@@ -214,7 +220,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         cfg, errors, point, given, family=family, choice=choice, spread=today.spread
     )
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
-    if cfg.recalibrate:
+    if cfg.uncertainty.recalibrate:
         outcome, recalibrated = adjustments_module.recalibrate(
             cfg,
             replayed,
@@ -224,32 +230,34 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             ),
         )
         margins = dataclasses.replace(margins, outcome=outcome)
-    ordinals = [cfg.as_of + h for h in range(cfg.horizons + 1)]
+    ordinals = [cfg.brief.as_of + h for h in range(cfg.brief.horizons + 1)]
     final, applied = overlay.apply(
         list(margins.outcome),
         ordinals,
         cfg.judgements,
-        frequency=cfg.frequency,
+        frequency=cfg.brief.frequency,
         config_file=str(cfg.path),
     )
     scenario_dists = overlay.scenarios(
-        final, ordinals, cfg.scenarios, frequency=cfg.frequency, config_file=str(cfg.path)
+        final, ordinals, cfg.scenarios, frequency=cfg.brief.frequency, config_file=str(cfg.path)
     )
     model_based = records.horizons(cfg, margins, list(margins.outcome), ordinals)
     adjusted = records.horizons(cfg, margins, final, ordinals) if cfg.judgements else model_based
     draws = _simulate(cfg, errors, final)
-    known = {int(p): float(v) for p, v in zip(act.period, act.value, strict=True) if p < cfg.as_of}
-    yearly = annual_module.annual(draws, ordinals, known, cfg.frequency, cfg.band_for)
+    known = {
+        int(p): float(v) for p, v in zip(act.period, act.value, strict=True) if p < cfg.brief.as_of
+    }
+    yearly = annual_module.annual(draws, ordinals, known, cfg.brief.frequency, cfg.band_for)
     basis_rows = headline_module.basis_results(cfg, yearly)
-    headline = headline_module.headline(cfg, adjusted[cfg.policy_horizon], basis_rows)
-    record = evaluate(panel, combo, cfg.window, cfg.horizons)
+    headline = headline_module.headline(cfg, adjusted[cfg.brief.policy_horizon], basis_rows)
+    record = evaluate(panel, combo, cfg.uncertainty.window, cfg.brief.horizons)
     return Assessment(
-        as_of=periods.label(cfg.as_of, cfg.frequency),
-        frequency=cfg.frequency,
-        title=cfg.title,
-        institution=cfg.institution,
+        as_of=periods.label(cfg.brief.as_of, cfg.brief.frequency),
+        frequency=cfg.brief.frequency,
+        title=cfg.brief.title,
+        institution=cfg.brief.institution,
         target=records.target(cfg),
-        policy_horizon=cfg.policy_horizon,
+        policy_horizon=cfg.brief.policy_horizon,
         headline=headline,
         basis_results=basis_rows,
         horizons=adjusted,
@@ -265,7 +273,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,
-        calibration=calibration.summarise(runs, replayed.graded, cfg.frequency),
+        calibration=calibration.summarise(runs, replayed.graded, cfg.brief.frequency),
         uncertainty=records.uncertainty(cfg, margins),
         history=records.observations(act, cfg),
         change=None,
@@ -274,13 +282,13 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         warnings=(),
         adjustments=records.adjustments(cfg, replayed, errors, margins, recalibrated, panel, given),
         thresholds=thresholds_module.evaluate(
-            cfg.thresholds, final, draws, [r.period for r in adjusted]
+            cfg.target.thresholds, final, draws, [r.period for r in adjusted]
         ),
         density=tuple(
             density_module.curve(final[h], margins.outcome[h], adjusted[h].period, h)
-            for h in (cfg.density_horizons or (cfg.policy_horizon,))
+            for h in (cfg.brief.density_horizons or (cfg.brief.policy_horizon,))
         ),
-        score_against=cfg.score_against if act.vintages else None,
+        score_against=cfg.inputs.score_against if act.vintages else None,
     )
 
 

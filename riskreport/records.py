@@ -72,7 +72,7 @@ def inputs(
         except ValueError:
             return path.name
 
-    f = cfg.frequency
+    f = cfg.brief.frequency
     records = [
         InputRecord("config", rel(cfg.path), _sha256(cfg.path), None, None, None),
         InputRecord(
@@ -122,13 +122,13 @@ def horizons(
                 h=h,
                 family=family,  # type: ignore[arg-type]
                 mode=margins.mode,
-                replicates=cfg.bootstrap_replicates,
-                rng=np.random.default_rng([cfg.seed, h]),
+                replicates=cfg.uncertainty.bootstrap_replicates,
+                rng=np.random.default_rng([cfg.uncertainty.seed, h]),
             )
         quantiles = dist.ppf(np.array(probabilities.QUANTILE_LEVELS))
         rows.append(
             HorizonResult(
-                period=periods.label(ordinal, cfg.frequency),
+                period=periods.label(ordinal, cfg.brief.frequency),
                 h=h,
                 band=(band.lower, band.upper),
                 centre=float(dist.mode),
@@ -161,7 +161,7 @@ def scenario(
         p = probabilities.band_probabilities(dist, band.lower, band.upper)
         rows.append(
             ScenarioHorizon(
-                period=periods.label(ordinal, cfg.frequency),
+                period=periods.label(ordinal, cfg.brief.frequency),
                 h=h,
                 centre=float(dist.mode),
                 p_below=p.p_below,
@@ -178,38 +178,38 @@ def path(cfg: Config, draws: np.ndarray, ordinals: list[int]) -> tuple[PathResul
         draws, np.array([b.lower for b in bands]), np.array([b.upper for b in bands])
     )
     return tuple(
-        PathResult(periods.label(o, cfg.frequency), h, float(t), float(b))
+        PathResult(periods.label(o, cfg.brief.frequency), h, float(t), float(b))
         for h, (o, t, b) in enumerate(zip(ordinals, throughout, back_by, strict=True))
     )
 
 
 def observations(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
-    start = cfg.as_of - HISTORY_YEARS * periods.PERIODS_PER_YEAR[cfg.frequency]
-    keep = (act.period >= start) & (act.period < cfg.as_of)
+    start = cfg.brief.as_of - HISTORY_YEARS * periods.PERIODS_PER_YEAR[cfg.brief.frequency]
+    keep = (act.period >= start) & (act.period < cfg.brief.as_of)
     return tuple(
-        Observation(periods.label(int(p), cfg.frequency), float(v))
+        Observation(periods.label(int(p), cfg.brief.frequency), float(v))
         for p, v in zip(act.period[keep], act.value[keep], strict=True)
     )
 
 
 def target(cfg: Config) -> TargetRecord:
-    band = cfg.band
+    band = cfg.target.band
     return TargetRecord(
         lower=band.lower,
         upper=band.upper,
         midpoint=band.midpoint,
         tolerance=band.tolerance,
-        basis=cfg.basis,
+        basis=cfg.target.basis,
         edges="inclusive",
         schedule=tuple(
             ScheduledBand(
-                start=periods.label(c.start, cfg.frequency),
+                start=periods.label(c.start, cfg.brief.frequency),
                 lower=c.band.lower,
                 upper=c.band.upper,
                 midpoint=c.band.midpoint,
                 tolerance=c.band.tolerance,
             )
-            for c in cfg.schedule
+            for c in cfg.target.schedule
         ),
     )
 
@@ -217,20 +217,20 @@ def target(cfg: Config) -> TargetRecord:
 def uncertainty(cfg: Config, margins: Margins) -> UncertaintyRecord:
     choice = margins.choice
     return UncertaintyRecord(
-        distribution=cfg.distribution,
+        distribution=cfg.uncertainty.distribution,
         families=tuple(
             FamilySource(h, f, s)
             for h, (f, s) in enumerate(zip(margins.families, margins.sources, strict=True))
         ),
-        window=cfg.window,
-        centre=cfg.centre,
-        monotone=cfg.monotone,
-        min_errors=cfg.min_errors,
-        bootstrap_replicates=cfg.bootstrap_replicates,
+        window=cfg.uncertainty.window,
+        centre=cfg.uncertainty.centre,
+        monotone=cfg.uncertainty.monotone,
+        min_errors=cfg.uncertainty.min_errors,
+        bootstrap_replicates=cfg.uncertainty.bootstrap_replicates,
         interval_level=0.9,
-        simulations=cfg.simulations,
-        seed=cfg.seed,
-        verbal_scale=cfg.verbal_scale,
+        simulations=cfg.uncertainty.simulations,
+        seed=cfg.uncertainty.seed,
+        verbal_scale=cfg.brief.verbal_scale,
         selection=None
         if choice is None
         else SelectionRecord(choice.chosen, choice.runner_up, choice.total),
@@ -247,27 +247,27 @@ def adjustments(
     given: ErrorQuantiles | None,
 ) -> adjustments_module.Adjustments:
     chosen = replayed.selection
-    band = cfg.band_for(cfg.as_of + cfg.policy_horizon)
+    band = cfg.band_for(cfg.brief.as_of + cfg.brief.policy_horizon)
     headline = probabilities.band_probabilities(
-        margins.outcome[cfg.policy_horizon], band.lower, band.upper
+        margins.outcome[cfg.brief.policy_horizon], band.lower, band.upper
     ).p_inside
     label = periods.label
     return adjustments_module.Adjustments(
-        spread_option=cfg.spread,
+        spread_option=cfg.uncertainty.spread,
         spread=chosen.current.spread.label,
-        volatility=dynamics.current(errors[:, : cfg.horizons + 1], chosen.current.spread),
+        volatility=dynamics.current(errors[:, : cfg.brief.horizons + 1], chosen.current.spread),
         method=chosen.current.label,
         runner_up=chosen.runner_up.label if chosen.runner_up else None,
         graded=replayed.graded,
         choices=tuple(
             adjustments_module.MethodSpell(
-                label(int(panel.origins[s.first_origin]), cfg.frequency),
-                label(int(panel.origins[s.last_origin]), cfg.frequency),
+                label(int(panel.origins[s.first_origin]), cfg.brief.frequency),
+                label(int(panel.origins[s.last_origin]), cfg.brief.frequency),
                 s.candidate,
             )
             for s in chosen.spells
         ),
-        recalibrate=cfg.recalibrate,
+        recalibrate=cfg.uncertainty.recalibrate,
         recalibration=recalibrated,
         verdict=adjustments_module.verdict(replayed),
         sensitivity=adjustments_module.sensitivity(cfg, replayed, errors, margins.point, headline),
@@ -278,11 +278,11 @@ def combination(
     cfg: Config, method: str, combo: combination_module.Combination, panel: Panel
 ) -> CombinationRecord:
     """The weighting method and today's weights, intercepts and row counts per horizon."""
-    horizons = range(cfg.horizons + 1)
+    horizons = range(cfg.brief.horizons + 1)
     return CombinationRecord(
         method=method,
-        window=cfg.combination_window,
-        shrinkage=cfg.combination_shrinkage,
+        window=cfg.combination.window,
+        shrinkage=cfg.combination.shrinkage,
         weights=tuple(
             WeightRow(h, name, float(combo.current_weights[k, h]))
             for h in horizons

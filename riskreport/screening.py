@@ -74,17 +74,17 @@ def warn_later_outcomes(act: Actuals, cfg: Config) -> None:
     on them, the error distributions and weights do not use them, and a calendar year does
     not count them as observed.
     """
-    later = act.period[act.period >= cfg.as_of]
+    later = act.period[act.period >= cfg.brief.as_of]
     if later.size == 0:
         return
-    f = cfg.frequency
+    f = cfg.brief.frequency
     span = periods.label(int(later.min()), f)
     if later.size > 1:
         span += f" to {periods.label(int(later.max()), f)}"
     warnings.warn(
         f"The actuals hold {later.size} outcome(s) for {span}, not before the current round "
-        f"({periods.label(cfg.as_of, f)}); the round uses outcomes up to "
-        f"{periods.label(cfg.as_of - 1, f)} only, so these are ignored in this brief "
+        f"({periods.label(cfg.brief.as_of, f)}); the round uses outcomes up to "
+        f"{periods.label(cfg.brief.as_of - 1, f)} only, so these are ignored in this brief "
         "(not scored, not counted as observed).",
         LaterOutcomeWarning,
         stacklevel=3,
@@ -95,15 +95,15 @@ def model_status(fc: Forecasts, cfg: Config) -> tuple[ModelStatus, ...]:
     """Each model's first and last origin up to as_of, and whether it is in this round."""
     rows = []
     for i, name in enumerate(fc.models):
-        origins = fc.origin[(fc.model == i) & (fc.origin <= cfg.as_of)]
+        origins = fc.origin[(fc.model == i) & (fc.origin <= cfg.brief.as_of)]
         if origins.size == 0:
             continue
         rows.append(
             ModelStatus(
                 model=name,
-                first_origin=periods.label(int(origins.min()), cfg.frequency),
-                last_origin=periods.label(int(origins.max()), cfg.frequency),
-                in_current_round=bool(np.any(origins == cfg.as_of)),
+                first_origin=periods.label(int(origins.min()), cfg.brief.frequency),
+                last_origin=periods.label(int(origins.max()), cfg.brief.frequency),
+                in_current_round=bool(np.any(origins == cfg.brief.as_of)),
             )
         )
     return tuple(rows)
@@ -132,14 +132,14 @@ def combination_method(cfg: Config, fc: Forecasts) -> combination_module.Combina
     """
     if len(fc.models) == 1:
         return "given"
-    if cfg.combination == "given":
+    if cfg.combination.method == "given":
         raise InputError(
             f"'given' expects a forecasts file with one (already combined) model; "
             f"{fc.file.name} has {len(fc.models)}: {', '.join(fc.models)}",
             file=cfg.path,
             column="[combination] method",
         )
-    return cfg.combination
+    return cfg.combination.method
 
 
 def require_current(cfg: Config, point: np.ndarray) -> None:
@@ -148,7 +148,7 @@ def require_current(cfg: Config, point: np.ndarray) -> None:
         missing = int(np.flatnonzero(~np.isfinite(point))[0])
         raise InputError(
             f"no model has a current-round forecast for horizon {missing}",
-            file=cfg.forecasts,
+            file=cfg.inputs.forecasts,
             column="period",
         )
 
@@ -160,9 +160,9 @@ def _require_track_record(cfg: Config, counts: list[int], given: ErrorQuantiles 
         if n < 2 and h not in given_h:
             raise InputError(
                 f"horizon {h} has no track record: {n} past forecast(s) of that "
-                f"horizon with a known outcome by {periods.label(cfg.as_of, cfg.frequency)}, "
+                f"horizon with a known outcome by {periods.label(cfg.brief.as_of, cfg.brief.frequency)}, "
                 "and no error_quantiles fallback; expected at least 2",
-                file=cfg.forecasts,
+                file=cfg.inputs.forecasts,
                 column="origin",
             )
 
@@ -170,14 +170,14 @@ def _require_track_record(cfg: Config, counts: list[int], given: ErrorQuantiles 
 def _require_covered(cfg: Config) -> None:
     # The first check of overlay.apply; whether a skew fits the spread needs the fitted
     # distribution, so only `build` can tell.
-    first, last = cfg.as_of, cfg.as_of + cfg.horizons
+    first, last = cfg.brief.as_of, cfg.brief.as_of + cfg.brief.horizons
     entries: list[Judgement] = [*cfg.judgements, *(j for _, j in cfg.scenarios)]
     for entry in entries:
         if entry.end < first or entry.start > last:
             raise InputError(
                 f"covers no reported period (the brief reports "
-                f"{periods.label(first, cfg.frequency)} to "
-                f"{periods.label(last, cfg.frequency)})",
+                f"{periods.label(first, cfg.brief.frequency)} to "
+                f"{periods.label(last, cfg.brief.frequency)})",
                 file=str(cfg.path),
                 column=f"[{entry.label}] from",
             )
@@ -193,43 +193,45 @@ def screen(cfg: Config) -> Screening:
     """
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", RiskReportWarning)
-        fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of, cfg.max_abs_value)
-        act = read_actuals(cfg.actuals, cfg.frequency, cfg.max_abs_value)
+        fc = read_forecasts(
+            cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of, cfg.inputs.max_abs_value
+        )
+        act = read_actuals(cfg.inputs.actuals, cfg.brief.frequency, cfg.inputs.max_abs_value)
         given = (
-            read_error_quantiles(cfg.error_quantiles, cfg.max_abs_value)
-            if cfg.error_quantiles
+            read_error_quantiles(cfg.inputs.error_quantiles, cfg.inputs.max_abs_value)
+            if cfg.inputs.error_quantiles
             else None
         )
         warn_later_outcomes(act, cfg)
-        panel = panel_module.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+        panel = panel_module.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
         status = model_status(fc, cfg)
         warn_left_out(status)
         method = combination_method(cfg, fc)
         combo = combination_module.combine(
-            method, panel, window=cfg.combination_window, shrinkage=cfg.combination_shrinkage
+            method, panel, window=cfg.combination.window, shrinkage=cfg.combination.shrinkage
         )
-        require_current(cfg, combo.combined[-1, : cfg.horizons + 1])
-        errors = error_matrix(combo.combined, panel.outcomes)[:, : cfg.horizons + 1]
-        counts = [int(n) for n in window_mask(errors, cfg.window).sum(axis=0)]
+        require_current(cfg, combo.combined[-1, : cfg.brief.horizons + 1])
+        errors = error_matrix(combo.combined, panel.outcomes)[:, : cfg.brief.horizons + 1]
+        counts = [int(n) for n in window_mask(errors, cfg.uncertainty.window).sum(axis=0)]
         _require_track_record(cfg, counts, given)
         _require_covered(cfg)
     given_h = given.by_horizon if given is not None else {}
     files = [
-        ("forecasts", cfg.forecasts, int(fc.value.size)),
-        ("actuals", cfg.actuals, int(act.value.size)),
+        ("forecasts", cfg.inputs.forecasts, int(fc.value.size)),
+        ("actuals", cfg.inputs.actuals, int(act.value.size)),
     ]
-    if given is not None and cfg.error_quantiles is not None:
+    if given is not None and cfg.inputs.error_quantiles is not None:
         rows = sum(len(levels) for levels, _ in given.by_horizon.values())
-        files.append(("error_quantiles", cfg.error_quantiles, rows))
-    band = cfg.band
+        files.append(("error_quantiles", cfg.inputs.error_quantiles, rows))
+    band = cfg.target.band
     return Screening(
-        as_of=periods.label(cfg.as_of, cfg.frequency),
-        frequency=cfg.frequency,
+        as_of=periods.label(cfg.brief.as_of, cfg.brief.frequency),
+        frequency=cfg.brief.frequency,
         lower=band.lower,
         upper=band.upper,
-        basis=cfg.basis,
-        horizons=cfg.horizons,
-        policy_horizon=cfg.policy_horizon,
+        basis=cfg.target.basis,
+        horizons=cfg.brief.horizons,
+        policy_horizon=cfg.brief.policy_horizon,
         current_models=tuple(m.model for m in status if m.in_current_round),
         left_out_models=tuple(m.model for m in status if not m.in_current_round),
         n_errors=tuple(0 if h in given_h else n for h, n in enumerate(counts)),

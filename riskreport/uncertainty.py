@@ -148,17 +148,17 @@ def build(
         A horizon has neither a track record (two or more known errors) nor a given
         distribution.
     """
-    mode = 0.0 if cfg.centre == "forecast" else None
-    errors, today = _standardised(errors[:, : cfg.horizons + 1], spread)
-    mask = window_mask(errors, cfg.window)
-    columns = [errors[mask[:, h], h] for h in range(cfg.horizons + 1)]
+    mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
+    errors, today = _standardised(errors[:, : cfg.brief.horizons + 1], spread)
+    mask = window_mask(errors, cfg.uncertainty.window)
+    columns = [errors[mask[:, h], h] for h in range(cfg.brief.horizons + 1)]
     given_h = given.by_horizon if given is not None else {}
     for h, column in enumerate(columns):
         known = int(np.isfinite(errors[:, h]).sum())
         if column.size < 2 and h not in given_h and known >= 2:
             # The track record exists; the configured window is what leaves too little.
             raise InputError(
-                f"the window of {cfg.window} past origins leaves {column.size} known "
+                f"the window of {cfg.uncertainty.window} past origins leaves {column.size} known "
                 f"error(s) at horizon {h} ({known} in the whole track record); expected a "
                 "window that holds at least 2 (0 = all)",
                 file=cfg.path,
@@ -167,9 +167,9 @@ def build(
         if column.size < 2 and h not in given_h:
             raise InputError(
                 f"horizon {h} has no track record: {column.size} past forecast(s) of that "
-                f"horizon with a known outcome by {periods.label(cfg.as_of, cfg.frequency)}, "
+                f"horizon with a known outcome by {periods.label(cfg.brief.as_of, cfg.brief.frequency)}, "
                 "and no error_quantiles fallback; expected at least 2",
-                file=cfg.forecasts,
+                file=cfg.inputs.forecasts,
                 column="origin",
             )
     samples: list[np.ndarray] = []
@@ -178,7 +178,7 @@ def build(
     sources: list[str] = []
     fits: list[Distribution] = []
     thin: list[str] = []
-    for h in range(cfg.horizons + 1):
+    for h in range(cfg.brief.horizons + 1):
         if h in given_h:
             levels, values = given_h[h]
             fits.append(distributions.GivenQuantiles(levels, values))
@@ -187,7 +187,7 @@ def build(
             families.append(GIVEN_FAMILY)
             sources.append("given error quantiles")
             continue
-        sample, used = _borrow(columns, h, cfg.min_errors)
+        sample, used = _borrow(columns, h, cfg.uncertainty.min_errors)
         if used:
             thin.append(f"{h} (from h = {', '.join(map(str, used))})")
         fitted = _fit(family, sample, mode, h)
@@ -199,7 +199,9 @@ def build(
         )
         fits.append(_rescaled(fitted, today))
     small = [
-        h for h in range(cfg.horizons + 1) if h not in given_h and columns[h].size < SMALL_SAMPLE
+        h
+        for h in range(cfg.brief.horizons + 1)
+        if h not in given_h and columns[h].size < SMALL_SAMPLE
     ]
     if small:
         fewest = min(columns[h].size for h in small)
@@ -227,9 +229,9 @@ def build(
             BoundaryFitWarning,
             stacklevel=2,
         )
-    if cfg.monotone:
-        fits = _monotone(fits, set(given_h) & set(range(cfg.horizons + 1)))
-    shown_given = sorted(h for h in given_h if h <= cfg.horizons)
+    if cfg.uncertainty.monotone:
+        fits = _monotone(fits, set(given_h) & set(range(cfg.brief.horizons + 1)))
+    shown_given = sorted(h for h in given_h if h <= cfg.brief.horizons)
     if shown_given:
         warnings.warn(
             "The error distribution is given (error_quantiles) for horizons "

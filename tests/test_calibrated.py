@@ -3,7 +3,6 @@ in a world whose error law is constant."""
 
 from __future__ import annotations
 
-import dataclasses
 import json
 from pathlib import Path
 
@@ -29,10 +28,10 @@ from tests.conftest import constant_forecast_world
 
 
 def _setup(path: Path, **options: object) -> tuple[config.Config, adjustments.Replays, np.ndarray]:
-    cfg = dataclasses.replace(config.load(path), **options)  # type: ignore[arg-type]
-    fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
-    act = read_actuals(cfg.actuals, cfg.frequency)
-    built = panel.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+    cfg = config.load(path).replaced("uncertainty", **options)
+    fc = read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
+    act = read_actuals(cfg.inputs.actuals, cfg.brief.frequency)
+    built = panel.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
     combo = combination.combine("given", built, window=0)
     errors = error_matrix(combo.combined, built.outcomes)
     return cfg, adjustments.replays(cfg, built, combo.combined, errors), errors
@@ -123,11 +122,13 @@ def test_ewma_pits_are_uniform_when_the_volatility_model_is_true(tmp_path: Path)
     # checked with scipy's Kolmogorov-Smirnov test. The constant law, wrong here, scores
     # clearly worse on the same errors.
     errors = _garch_errors(500, 0.9, 2)
-    cfg = dataclasses.replace(
-        config.load(constant_forecast_world(tmp_path, errors, window=120)), horizons=0
+    cfg = config.load(constant_forecast_world(tmp_path, errors, window=120)).replaced(
+        "brief", horizons=0
     )
-    fc = read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
-    built = panel.build(fc, read_actuals(cfg.actuals, cfg.frequency), as_of=cfg.as_of, max_h=0)
+    fc = read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
+    built = panel.build(
+        fc, read_actuals(cfg.inputs.actuals, cfg.brief.frequency), as_of=cfg.brief.as_of, max_h=0
+    )
     combined = combination.combine("given", built, window=0).combined
     ewma = prequential.Candidate("normal", dynamics.SpreadOption("ewma", 0.9))
     constant = prequential.Candidate("normal", dynamics.CONSTANT)
@@ -150,7 +151,7 @@ def test_constant_error_law_is_left_essentially_unchanged(tmp_path: Path) -> Non
     errors = np.random.default_rng(8).normal(0.0, 0.8, 400)
     path = constant_forecast_world(tmp_path, errors, horizons=1, window=120)
     base = assess_config(config.load(path), search=tmp_path / "none")
-    cfg = dataclasses.replace(config.load(path), distribution="auto", spread="auto")
+    cfg = config.load(path).replaced("uncertainty", distribution="auto", spread="auto")
     new = assess_config(cfg, search=tmp_path / "none")
     assert new.adjustments is not None
     kept = new.adjustments.spread == "constant"
@@ -160,7 +161,7 @@ def test_constant_error_law_is_left_essentially_unchanged(tmp_path: Path) -> Non
         assert kept or abs(p1.p_below - p0.p_below) <= 0.02
     # Recalibration (opt-in) moves the tracked levels by noise only: P(inside) stays within
     # 0.02; the noise costs some log score (measured 0.027 nats here), bounded below.
-    tracked = assess_config(dataclasses.replace(cfg, recalibrate=True), search=tmp_path / "x")
+    tracked = assess_config(cfg.replaced("uncertainty", recalibrate=True), search=tmp_path / "x")
     assert tracked.adjustments is not None
     for h in (0, 1):
         p0, p1 = base.horizon_result(h), tracked.horizon_result(h)
@@ -172,7 +173,7 @@ def test_constant_error_law_is_left_essentially_unchanged(tmp_path: Path) -> Non
 def test_raw_and_recalibrated_probabilities_are_both_reported(tmp_path: Path) -> None:
     errors = _garch_errors(200, 0.9, 4)
     path = constant_forecast_world(tmp_path, errors, horizons=1, window=120)
-    cfg = dataclasses.replace(config.load(path), spread="auto", recalibrate=True)
+    cfg = config.load(path).replaced("uncertainty", spread="auto", recalibrate=True)
     result = assess_config(cfg, search=tmp_path / "none")
     adj = result.adjustments
     assert adj is not None

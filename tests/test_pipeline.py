@@ -164,9 +164,9 @@ def test_weights_use_no_future_outcome(tmp_path: Path) -> None:
     demo = Path(__file__).resolve().parents[1] / "example_inputs"
     shutil.copytree(demo, tmp_path / "d", ignore=shutil.ignore_patterns("*.py", "__pycache__"))
     cfg = config_module.load(tmp_path / "d" / "config.toml")
-    fc = inputs.read_forecasts(cfg.forecasts, cfg.frequency, cfg.as_of)
-    act = inputs.read_actuals(cfg.actuals, cfg.frequency)
-    base = panel.build(fc, act, as_of=cfg.as_of, max_h=cfg.horizons)
+    fc = inputs.read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
+    act = inputs.read_actuals(cfg.inputs.actuals, cfg.brief.frequency)
+    base = panel.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
     cut = base.origins.size - 60  # an origin five years back
     changed = base.outcomes.copy()
     cutoff = base.origins[cut]
