@@ -19,7 +19,7 @@ if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scip
     from riskreport.change import ChangeRecord
     from riskreport.density import DensityCurve
     from riskreport.history import RoundPoint, YearPoint
-    from riskreport.overlay import AppliedJudgement
+    from riskreport.judgement import AppliedJudgement
     from riskreport.thresholds import ThresholdResult
     from riskreport.track_record import AccuracyRow, TestRow
 
@@ -311,7 +311,7 @@ class Assessment:
     score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
-        """The result at horizon ``h`` (after the overlay unless ``model_based``)."""
+        """The result at horizon ``h`` (after judgement unless ``model_based``)."""
         rows = self.model_based_horizons if model_based else self.horizons
         for row in rows:
             if row.h == h:

@@ -4,8 +4,8 @@ At every past origin o with enough history, each family is fitted to the combine
 forecast's errors whose outcome came before o (the last ``window`` of them; the combined
 forecast itself uses weights from that past only), and the outcome that followed scores it:
 its PIT, the band probabilities it implied, its log score and CRPS. All origins of a
-horizon are fitted at once. The judgement overlay and the monotone-spread rule are not
-replayed (past overlays are not on record); the replay judges the model-based method.
+horizon are fitted at once. The staff judgement and the monotone-spread rule are not
+replayed (past judgements are not on record); the replay judges the model-based method.
 """
 
 from __future__ import annotations

@@ -71,7 +71,7 @@ class BandChange:
 
 @dataclass(frozen=True)
 class Judgement:
-    """One judgement overlay entry, applied to periods ``start..end`` (ordinals, inclusive).
+    """One staff judgement entry, applied to periods ``start..end`` (ordinals, inclusive).
 
     ``shift`` is added to the centre (pp), ``scale`` multiplies the spread, and ``skew`` adds
     this many percentage points to the mean minus the mode (> 0 tilts risk upwards).
@@ -446,7 +446,7 @@ def _judgements(
 def _scenarios(
     path: Path, raw: Any, frequency: Frequency, bound: float
 ) -> tuple[tuple[str, Judgement], ...]:
-    """Named alternative overlays: entries with the same name compose into one scenario."""
+    """Named alternative judgements: entries with the same name compose into one scenario."""
     entries = _judgements(path, raw, frequency, bound, kind="scenario")
     names = []
     for i, table in enumerate(raw or [], start=1):

@@ -34,7 +34,7 @@ def curve(final: Distribution, model_based: Distribution, period: str, h: int) -
     Parameters
     ----------
     final, model_based
-        The outcome distribution after the judgement overlay, and before it.
+        The outcome distribution after the staff judgement, and before it.
     period, h
         The period's label and horizon.
 

@@ -4,7 +4,7 @@ A fit is a frozen value: all work is done when it is made; ``cdf``, ``ppf`` and 
 delegate to scipy.stats. :class:`Adjusted` re-maps any distribution by a monotone map of
 its variable (shift and scale around the mode) and :class:`Tilted` skews it with a
 two-piece tilt; they serve the monotone-dispersion rule, the step from errors to outcomes
-and the judgement overlay.
+and the staff judgement.
 """
 
 from __future__ import annotations
@@ -62,7 +62,7 @@ class GivenQuantiles:
     The quantile function is interpolated linearly in normal scores, z = Phi^-1(q), between
     the given points and extended linearly in z beyond them, so the tails are normal-like
     with the slope of the outermost pair. The median serves as the mode (the anchor of the
-    judgement overlay), since a few quantiles do not define a mode.
+    staff judgement), since a few quantiles do not define a mode.
     """
 
     levels: tuple[float, ...]

@@ -1,6 +1,6 @@
 """From a configuration to an :class:`~riskreport.assessment.Assessment` (no files written).
 
-validate -> combine -> errors -> distributions -> judgement overlay -> probabilities
+validate -> combine -> errors -> distributions -> staff judgement -> probabilities
 (per horizon, path, calendar year) -> track record -> assessment.
 """
 
@@ -16,7 +16,7 @@ from riskreport import adjustments as adjustments_module
 from riskreport import annual as annual_module
 from riskreport import (
     calibration,
-    overlay,
+    judgement,
     periods,
     probabilities,
     records,
@@ -231,14 +231,14 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         )
         margins = dataclasses.replace(margins, outcome=outcome)
     ordinals = [cfg.brief.as_of + h for h in range(cfg.brief.horizons + 1)]
-    final, applied = overlay.apply(
+    final, applied = judgement.apply(
         list(margins.outcome),
         ordinals,
         cfg.judgements,
         frequency=cfg.brief.frequency,
         config_file=str(cfg.path),
     )
-    scenario_dists = overlay.scenarios(
+    scenario_dists = judgement.scenarios(
         final, ordinals, cfg.scenarios, frequency=cfg.brief.frequency, config_file=str(cfg.path)
     )
     model_based = records.horizons(cfg, margins, list(margins.outcome), ordinals)

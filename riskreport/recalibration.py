@@ -115,7 +115,7 @@ def current_map(run: HorizonReplay) -> BetaMap:
 @dataclass(frozen=True)
 class _OnBase:
     """A map applied to a base distribution's CDF: family and mode stay the base's (the
-    mode anchors any judgement overlay)."""
+    mode anchors any staff judgement)."""
 
     base: Distribution
 
@@ -135,7 +135,7 @@ class Recalibrated(_OnBase):
     """A distribution with its CDF passed through a beta CDF: G(F(x)).
 
     ``ppf`` is F^-1(G^-1(q)); ``logpdf`` is log g(F(x)) + log f(x). The mode is kept as the
-    base's (the anchor of any judgement overlay).
+    base's (the anchor of any staff judgement).
     """
 
     a: float

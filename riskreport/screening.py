@@ -168,7 +168,7 @@ def _require_track_record(cfg: Config, counts: list[int], given: ErrorQuantiles 
 
 
 def _require_covered(cfg: Config) -> None:
-    # The first check of overlay.apply; whether a skew fits the spread needs the fitted
+    # The first check of judgement.apply; whether a skew fits the spread needs the fitted
     # distribution, so only `build` can tell.
     first, last = cfg.brief.as_of, cfg.brief.as_of + cfg.brief.horizons
     entries: list[Judgement] = [*cfg.judgements, *(j for _, j in cfg.scenarios)]

@@ -114,7 +114,7 @@ def test_band_change_between_briefs_goes_to_the_band(case: Case, tmp_path: Path)
         assert row.due_to_band == pytest.approx(row.p_inside_now - row.p_inside_before, abs=1e-12)
 
 
-def test_scenarios_are_overlays_on_the_baseline(case: Case) -> None:
+def test_scenarios_are_judgements_on_the_baseline(case: Case) -> None:
     case.config += (
         '\n[[scenario]]\nname = "higher"\nfrom = "2025-01"\nto = "2025-03"\nshift = 0.5\nreason = "r1"\n'
         '\n[[scenario]]\nname = "higher"\nfrom = "2025-02"\nto = "2025-02"\nscale = 1.5\nreason = "r2"\n'

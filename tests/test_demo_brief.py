@@ -84,7 +84,7 @@ def test_json_contract_keys(demo_build: Path) -> None:
     for row in data["horizons"]:
         assert HORIZON_KEYS <= set(row)
         assert set(row["quantiles"]) == {"0.05", "0.1", "0.25", "0.5", "0.75", "0.9", "0.95"}
-    assert data["horizons"] != data["model_based_horizons"]  # the demo has an overlay
+    assert data["horizons"] != data["model_based_horizons"]  # the demo has a judgement
     assert {"period", "h", "p_inside_throughout", "p_back_inside_by"} <= set(data["path"][0])
     assert {"model", "h", "n", "mae", "rmse", "mean_error"} <= set(data["accuracy"][0])
     assert data["combination"]["method"] == "equal"

@@ -1,4 +1,4 @@
-"""The pipeline's properties: no look-ahead, probabilities that add up, the overlay and
+"""The pipeline's properties: no look-ahead, probabilities that add up, judgement and
 model handling (DEVELOPERS.md, The statistics)."""
 
 from __future__ import annotations
@@ -53,7 +53,7 @@ def test_rows_order_does_not_matter(case: Case) -> None:
     assert after["horizons"] == before["horizons"]
 
 
-def test_overlay_moves_only_its_periods(case: Case) -> None:
+def test_judgement_moves_only_its_periods(case: Case) -> None:
     case.config += (
         '\n[[judgement]]\nfrom = "2025-02"\nto = "2025-02"\nshift = 0.3\nscale = 1.2\n'
         'skew = 0.1\nreason = "test"\n'
@@ -71,7 +71,7 @@ def test_overlay_moves_only_its_periods(case: Case) -> None:
 
 
 def test_skew_adds_mean_minus_mode() -> None:
-    """The overlay's skew unit: pp added to mean minus mode. The means come from scipy's
+    """The judgement's skew unit: pp added to mean minus mode. The means come from scipy's
     quadrature of the quantile function (E[X] = integral_0^1 Q(u) du), an independent route;
     on a normal base the result must be the two-piece normal with sigma2/sigma1 = (1+k)/(1-k),
     whose mean minus mode is sqrt(2/pi)(sigma2 - sigma1) (John 1982; Wallis 2014, Statistical
@@ -80,7 +80,7 @@ def test_skew_adds_mean_minus_mode() -> None:
 
     from riskreport import distributions
     from riskreport.config import Judgement
-    from riskreport.overlay import apply_one
+    from riskreport.judgement import apply_one
 
     base = distributions.Adjusted(distributions.fit("normal", [-1.0, -0.2, 0.1, 0.4, 0.9]), shift=2)
     judged = apply_one(base, Judgement(0, 0, shift=0.0, scale=1.5, skew=0.25, reason="r"))

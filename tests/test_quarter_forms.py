@@ -19,7 +19,7 @@ from riskreport import periods
 from tests import quarterly_world as qw
 from tests.conftest import Result
 
-OVERLAY = '[[judgement]]\nfrom = "{a}"\nto = "{b}"\nshift = 0.3\nreason = "test"\n'
+JUDGEMENT = '[[judgement]]\nfrom = "{a}"\nto = "{b}"\nshift = 0.3\nreason = "test"\n'
 SCHEDULE = 'schedule = [{{from = "{c}", midpoint = 2.5, tolerance = 1.0}}]\n'
 
 
@@ -29,7 +29,7 @@ def _write(folder: Path, dash: bool) -> Path:
         folder,
         dash=dash,
         simulations=2000,
-        extra=OVERLAY.format(a=a, b=b),
+        extra=JUDGEMENT.format(a=a, b=b),
         extra_target=SCHEDULE.format(c=c),
     )
     return world.config

@@ -1,4 +1,4 @@
-"""The judgement overlay: explicit, labelled shifts, spread scalings and skews.
+"""The staff judgement: explicit, labelled shifts, spread scalings and skews.
 
 Each ``[[judgement]]`` entry maps the model-based distribution of every period from
 ``from`` to ``to`` by a monotone map of the outcome (see
@@ -30,7 +30,7 @@ from riskreport.errors import InputError
 
 @dataclass(frozen=True)
 class AppliedJudgement:
-    """One overlay entry as applied: its terms, reason and the reported periods it moved."""
+    """One judgement entry as applied: its terms, reason and the reported periods it moved."""
 
     start: str
     end: str
@@ -42,7 +42,7 @@ class AppliedJudgement:
 
 
 def apply_one(dist: Distribution, judgement: Judgement) -> Distribution:
-    """Apply one overlay entry to one period's distribution.
+    """Apply one judgement entry to one period's distribution.
 
     Raises
     ------
@@ -63,12 +63,12 @@ def apply(
     frequency: Frequency,
     config_file: str,
 ) -> tuple[list[Distribution], list[AppliedJudgement]]:
-    """Apply every overlay entry to the reported periods it covers.
+    """Apply every judgement entry to the reported periods it covers.
 
     Returns
     -------
     adjusted, applied
-        The distributions after the overlay, and each entry as applied.
+        The distributions after judgement, and each entry as applied.
 
     Raises
     ------
@@ -118,7 +118,7 @@ def scenarios(
     frequency: Frequency,
     config_file: str,
 ) -> list[tuple[str, tuple[str, ...], list[Distribution]]]:
-    """Named alternative scenarios, each an overlay on the baseline (after judgement).
+    """Named alternative scenarios, each a further judgement on the baseline (after judgement).
 
     Entries sharing a name compose in the order written, like judgement entries.
     """
