@@ -18,7 +18,6 @@ average over horizons, log score better than the constant normal in every group.
 
 from __future__ import annotations
 
-import dataclasses
 import tempfile
 import time
 from pathlib import Path

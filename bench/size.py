@@ -25,7 +25,7 @@ import numpy as np
 from scipy import stats as st
 
 from riskreport import stats
-from riskreport._families import fit_two_piece_normal
+from riskreport._families import fit_two_piece_normal_batch
 
 LEVEL = 0.05
 
@@ -94,7 +94,7 @@ def diebold_mariano_size(replicates: int, rng: np.random.Generator) -> None:
 def two_piece_degeneracy(replicates: int, rng: np.random.Generator) -> None:
     print("\nTwo-piece normal fitted to normal samples: share with one scale < 0.1 x other")
     for n in (8, 10, 12, 20, 30):
-        f = fit_two_piece_normal(rng.standard_normal((replicates, n)))
+        f = fit_two_piece_normal_batch(rng.standard_normal((replicates, n)))
         ratio = np.minimum(f.sigma1, f.sigma2) / np.maximum(f.sigma1, f.sigma2)
         print(f"n = {n:>3}: {np.mean(ratio < 0.1):.3f}")
 

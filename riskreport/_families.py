@@ -5,6 +5,8 @@ entry per sample when many samples are fitted at once (the bootstrap and the bac
 replay). ``cdf`` and ``logpdf`` broadcast over that batch axis; ``ppf`` and ``rvs`` are for
 single fits. Batched fits take a 2-d array of samples with NaN padding (rows may differ in
 length) and use closed forms or grid searches: no generic optimiser runs per sample.
+Every batched fitter is named ``fit_<family>_batch``; ``fit_skew_normal`` is the one
+single-sample fitter (the batch on one row, with a note at the skewness boundary).
 """
 
 from __future__ import annotations
@@ -106,7 +108,7 @@ class NormalFit:
         return rng.normal(self.loc, self.scale, n)
 
 
-def fit_normal(samples: ArrayLike, mode: float | None = None) -> NormalFit:
+def fit_normal_batch(samples: ArrayLike, mode: float | None = None) -> NormalFit:
     """Normal MLE of each row: loc = mean (or the fixed mode), scale = RMS deviation from it."""
     x, n = _rows(samples)
     loc = _nanmean(x, n) if mode is None else np.full(x.shape[0], float(mode))
@@ -261,7 +263,7 @@ def _side_sums(x: np.ndarray, mode: np.ndarray) -> tuple[np.ndarray, np.ndarray]
     return s1, s2
 
 
-def fit_two_piece_normal(
+def fit_two_piece_normal_batch(
     samples: ArrayLike, mode: float | None = None, *, refine: bool = False, steps: int = 4
 ) -> TwoPieceNormalFit:
     """Two-piece normal MLE of each row.
@@ -843,7 +845,7 @@ def _row_quantiles(x: np.ndarray, n: np.ndarray, probs: tuple[float, ...]) -> li
     return out
 
 
-def fit_empirical(samples: ArrayLike, mode: float | None = None) -> EmpiricalFit:
+def fit_empirical_batch(samples: ArrayLike, mode: float | None = None) -> EmpiricalFit:
     """Kernel-smoothed empirical distribution of each row; with a fixed mode the sample is
     shifted so that the smoothed density peaks there.
 

@@ -23,11 +23,11 @@ from riskreport._families import (
     NormalFit,
     SkewNormalFit,
     TwoPieceNormalFit,
-    fit_empirical,
-    fit_normal,
+    fit_empirical_batch,
+    fit_normal_batch,
     fit_skew_normal,
     fit_skew_normal_batch,
-    fit_two_piece_normal,
+    fit_two_piece_normal_batch,
 )
 from riskreport._typing import Family
 
@@ -161,13 +161,13 @@ def fit_batch(family: Family, samples: ArrayLike, *, mode: float | None = None) 
     parameters are arrays with one entry per row; ``cdf`` and ``logpdf`` broadcast over them.
     """
     if family == "normal":
-        return fit_normal(samples, mode)
+        return fit_normal_batch(samples, mode)
     if family == "two-piece-normal":
-        return fit_two_piece_normal(samples, mode)
+        return fit_two_piece_normal_batch(samples, mode)
     if family == "skew-normal":
         return fit_skew_normal_batch(samples, mode)
     if family == "empirical":
-        return fit_empirical(samples, mode)
+        return fit_empirical_batch(samples, mode)
     raise ValueError(f"family: expected one of {', '.join(FAMILIES)}, got {family!r}")
 
 
@@ -215,7 +215,7 @@ def fit(family: Family, sample: ArrayLike, *, mode: float | None = None) -> Fit:
     if family == "skew-normal":
         return fit_skew_normal(x, mode)
     if family == "two-piece-normal" and mode is None:
-        return _single(fit_two_piece_normal(x[None, :], refine=True))
+        return _single(fit_two_piece_normal_batch(x[None, :], refine=True))
     return _single(fit_batch(family, x[None, :], mode=mode))
 
 

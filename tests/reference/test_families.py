@@ -23,7 +23,7 @@ from riskreport._families import (
     PENALTY_C1,
     PENALTY_C2,
     _mode0_exact,
-    fit_two_piece_normal,
+    fit_two_piece_normal_batch,
     skewnormal_mode0,
 )
 
@@ -123,7 +123,7 @@ def test_two_piece_normal_boundary_case_is_detected_and_handled() -> None:
     assert lo - 1e-9 <= f.mode <= hi + 1e-9
     assert min(f.sigma1, f.sigma2) > 0.1
     # The unrestricted optimum really is at the edge with the half-normal likelihood.
-    fine_grid = fit_two_piece_normal(SAMPLE_A[None, :], steps=50)
+    fine_grid = fit_two_piece_normal_batch(SAMPLE_A[None, :], steps=50)
     assert fine_grid.boundary[0]
     # Half-normal at mode = max(x): logL = n/2 log(2/pi) - n/2 log(S1/n) - n/2 (the
     # half-normal MLE, sigma^2 = S1/n).
@@ -260,7 +260,7 @@ def test_two_piece_normal_small_samples_are_rarely_degenerate(n: int) -> None:
     # under a tenth of the other (the profile likelihood peaks at the sample edge). The mode now
     # stays between the k-th smallest and k-th largest, k = max(5, ceil(0.1 n)).
     x = np.random.default_rng(3).normal(size=(2000, n))
-    f = fit_two_piece_normal(x)
+    f = fit_two_piece_normal_batch(x)
     ratio = np.minimum(f.sigma1, f.sigma2) / np.maximum(f.sigma1, f.sigma2)
     assert np.mean(ratio < 0.1) < 0.03
     # The remaining near half-normals are flagged.
