@@ -107,6 +107,10 @@ def autocovariances(d: np.ndarray, lags: int) -> np.ndarray:
     return np.array([centred[k:] @ centred[: t - k] / t for k in range(lags + 1)])
 
 
+CONSTANT_PITS = (
+    "every PIT is the same (each outcome fell at the same quantile of its forecast): the "
+    "likelihood ratio is unbounded, test undefined; the coverage table shows the failure"
+)
 NO_VARIATION = "the loss differential is the same at every period: no variance, test undefined"
 
 
@@ -476,6 +480,22 @@ def berkowitz(pit: ArrayLike) -> TestResult:
 
     z = np.clip(_vector(pit, "pit"), 1e-10, 1 - 1e-10)
     x = stats.norm.ppf(z)
+    method = "Berkowitz LR3, exact Gaussian AR(1) likelihood of the normal-transformed PITs, chi-square(3)"
+    if np.ptp(x) == 0:
+        # The AR(1) likelihood of a constant series grows without bound as its variance
+        # goes to 0, so LR3 has no finite value; a fit would return whatever its variance
+        # floor gives. Undefined (NaN) with a note, as for the other tests with no variation.
+        return TestResult(
+            statistic=float("nan"),
+            pvalue=float("nan"),
+            null="PITs are iid uniform (normal scores iid N(0, 1))",
+            alternative="wrong mean, variance or first-order dependence",
+            method=method,
+            nobs=int(x.size),
+            h=1,
+            df=(3,),
+            notes=(CONSTANT_PITS,),
+        )
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")  # statsmodels' convergence chatter on short series
         fitted = ARIMA(x, order=(1, 0, 0), trend="c").fit()
@@ -486,7 +506,7 @@ def berkowitz(pit: ArrayLike) -> TestResult:
         pvalue=float(stats.chi2.sf(lr, 3)),
         null="PITs are iid uniform (normal scores iid N(0, 1))",
         alternative="wrong mean, variance or first-order dependence",
-        method="Berkowitz LR3, exact Gaussian AR(1) likelihood of the normal-transformed PITs, chi-square(3)",
+        method=method,
         nobs=int(x.size),
         h=1,
         df=(3,),

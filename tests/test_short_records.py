@@ -7,6 +7,7 @@ fewer rows than that the tests used to crash the whole brief.
 
 from __future__ import annotations
 
+import dataclasses
 import json
 from collections.abc import Callable
 from pathlib import Path
@@ -17,7 +18,7 @@ import pytest
 import riskreport
 from riskreport import probabilities
 from riskreport.report import tables
-from riskreport.report.sections import track_record
+from riskreport.report.sections import calibration, track_record
 from tests.conftest import Case, Result, constant_forecast_world
 
 
@@ -148,3 +149,22 @@ def test_too_short_a_record_to_replay_is_said_not_hidden(
     assert "too few past rounds to replay the method" in html
     assert "about as often as they should" not in html
     assert "does not reject calibration" not in html
+
+
+def test_undefined_calibration_tests_support_no_verdict(case: Case) -> None:
+    # A calibration test with no value (constant PITs: Berkowitz's likelihood ratio is
+    # unbounded, Knueppel's covariance singular) must not read as "does not reject": NaN
+    # compares false with the 5% level, and the brief used to print exactly that.
+    a = riskreport.assess(case.write())
+    tests = tuple(
+        dataclasses.replace(t, statistic=float("nan"), pvalue=float("nan"), notes=("no variation",))
+        for t in a.calibration.tests
+    )
+    assert tests
+    broken = dataclasses.replace(a, calibration=dataclasses.replace(a.calibration, tests=tests))
+    shown = tuple(r.h for r in a.horizons)
+    text = " ".join(calibration.calibration(broken, shown)[0])
+    assert "does not reject" not in text
+    assert "rejects" not in text
+    assert "could not be computed" in text
+    assert "p = nan" not in text

@@ -189,6 +189,19 @@ def test_berkowitz_oracle() -> None:
     assert result.pvalue == pytest.approx(0.803529, abs=1e-4)
 
 
+def test_berkowitz_constant_pits_are_undefined_not_a_number_from_a_variance_floor() -> None:
+    # The exact Gaussian AR(1) log-likelihood of a constant series is unbounded above as
+    # the innovation variance goes to 0 (Hamilton 1994, Time Series Analysis, eq. 5.2.9,
+    # the -T/2 log sigma^2 term), so LR3 has no finite value; before this guard the test
+    # printed about 693 (p ~ 1e-150) from statsmodels' variance floor.
+    for pit in (np.full(30, 0.5), np.full(30, 0.97)):
+        result = rstats.berkowitz(pit)
+        assert np.isnan(result.statistic)
+        assert np.isnan(result.pvalue)
+        assert result.notes == (rstats.CONSTANT_PITS,)
+    assert np.isfinite(rstats.berkowitz(np.r_[np.full(29, 0.5), 0.6]).statistic)
+
+
 def test_knuppel_oracles() -> None:
     # Knueppel (2015) alpha with an iid, centred covariance (statsmodels S_hac_simple, 0 lags,
     # computed outside the project), moments 1-2: 0.861693; 1-4: 1.152559. One step

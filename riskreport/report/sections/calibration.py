@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
@@ -80,20 +81,34 @@ def calibration(
             )
     lines = [
         f"The replay fits the {FAMILY_NAMES.get(c.distribution, c.distribution)} error distribution at every past round "
-        "from the errors known then and scores the outcome that followed; the judgement "
-        "overlay is not replayed."
+        "from the errors known then and scores the outcome that followed; staff judgement "
+        "is not replayed."
     ]
     lines.extend(_coverage_lines(a, shown))
     tests = {(t.name, t.h): t for t in c.tests}
     berk = tests.get(("berkowitz", 0))
-    if berk:
+    if berk and not math.isfinite(berk.pvalue):
+        lines.append(
+            "For the nowcast, the Berkowitz test could not be computed: "
+            + "; ".join(berk.notes)
+            + "."
+        )
+    elif berk:
         verdict = "rejects" if berk.pvalue < SIGNIFICANCE else "does not reject"
         lines.append(
             f"For the nowcast, the Berkowitz test {verdict} well-calibrated, independent PITs "
             f"({fmt.p_value(berk.pvalue)})."
         )
-    run = [h for h in shown if ("knuppel", h) in tests]
+    knuppel = [h for h in shown if ("knuppel", h) in tests]
+    # A test with no value (no variation in the PITs) supports neither verdict.
+    run = [h for h in knuppel if math.isfinite(tests[("knuppel", h)].pvalue)]
+    undefined = [h for h in knuppel if h not in run]
     rejected = [h for h in run if tests[("knuppel", h)].pvalue < SIGNIFICANCE]
+    if undefined:
+        lines.append(
+            f"The raw-moment calibration test could not be computed at {join_h(a, undefined)}: "
+            "the PITs there do not vary enough."
+        )
     if run:
         lines.append(
             "A raw-moment test that allows for the overlap of multi-step errors (Knueppel 2015) "
@@ -103,7 +118,7 @@ def calibration(
                 else f"does not reject calibration at {join_h(a, run)}."
             )
         )
-    else:
+    elif not undefined:
         lines.append(
             "The calibration tests were not run: they need at least "
             f"{MIN_TEST_ROUNDS} replayed rounds at a horizon."
