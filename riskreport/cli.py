@@ -198,6 +198,7 @@ def _build(
     out_dir = out.resolve() if out is not None else None
     record: dict[str, Any] = {
         "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
+        "command": "build",
         "as_of": as_of,
         "config_sha256": None,
         "inputs": {},
@@ -356,18 +357,49 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
 
 def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) -> dict[str, Any]:
     from riskreport import config as config_module
-    from riskreport import folder, outputs, pipeline
+    from riskreport import folder, outputs, periods, pipeline
     from riskreport.report import tables
 
-    cfg = config_module.load_config(config, as_of)
-    assessment = pipeline.assess_config(cfg)
-    out_dir = (out if out is not None else cfg.output.directory).resolve()
-    files = {
-        name: content
-        for name, content in outputs.files_for(assessment, ["csv"]).items()
-        if name.startswith(("tables/accuracy-", "tables/tests-", "tables/weights-"))
+    out_dir = out.resolve() if out is not None else None
+    record: dict[str, Any] = {
+        "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
+        "command": "backtest",
+        "as_of": as_of,
+        "config_sha256": None,
+        "inputs": {},
     }
-    written = folder.write_round(out_dir, files, as_of=assessment.as_of, force=force, replace=False)
+    try:
+        cfg = config_module.load_config(config, as_of)
+        out_dir = out_dir or cfg.output.directory.resolve()
+        record["as_of"] = periods.label(cfg.brief.as_of, cfg.brief.frequency)
+        record["config_sha256"] = _sha256(cfg.path)
+        assessment = pipeline.assess_config(cfg)
+        record["inputs"] = {i.role: i.sha256 for i in assessment.inputs}
+        files = {
+            name: content
+            for name, content in outputs.files_for(assessment, ["csv"]).items()
+            if name.startswith(("tables/accuracy-", "tables/tests-", "tables/weights-"))
+        }
+        # Under the folder's lock like a build, and recorded in runs.jsonl like any run.
+        with folder.locked(out_dir):
+            written = folder.write_round(
+                out_dir, files, as_of=assessment.as_of, force=force, replace=False
+            )
+            folder.append_record(
+                out_dir,
+                {
+                    **record,
+                    "outputs": [
+                        {"path": str(p.relative_to(out_dir)), "sha256": h}
+                        for p, h in zip(written.paths, written.sha256, strict=True)
+                    ],
+                    "exit_status": EXIT_OK,
+                },
+            )
+    except BaseException as exc:
+        if out_dir is not None and out_dir.is_dir():
+            _record_failure(out_dir, record, exc)
+        raise
     return {
         "status": "ok",
         "as_of": assessment.as_of,

@@ -375,3 +375,25 @@ def test_refusal_messages_name_the_subfolder_and_do_not_claim_nothing_was_writte
     assert str(out / "tables") in str(linked.value)
     assert "nothing was written" not in str(linked.value)
     assert not (tmp_path / "elsewhere.csv").exists()
+
+
+def test_a_backtest_is_recorded_like_any_run(case: Case, run: Callable[..., Result]) -> None:
+    # Every run appends one line to runs.jsonl, failures included (the product's record
+    # of runs); `backtest` wrote its tables without one, and without the folder's lock.
+    config = case.write()
+    out = case.folder / "out"
+    assert run("backtest", config, "--out", out, "-q").code == 0
+    (line,) = _records(out)
+    assert line["command"] == "backtest"
+    assert line["exit_status"] == 0
+    listed = {o["path"]: o["sha256"] for o in line["outputs"]}  # type: ignore[attr-defined]
+    assert listed == {
+        name: hashlib.sha256(content).hexdigest()
+        for name, content in _round(out).items()
+        if not name.startswith("manifest-")
+    }
+    (case.folder / "actuals.csv").write_text("period,value\n2020-01,abc\n", encoding="utf-8")
+    failed = run("backtest", config, "--out", out, "-q")
+    assert failed.code == 2
+    assert _records(out)[-1]["exit_status"] == 2
+    assert "abc" in str(_records(out)[-1]["error"])
