@@ -38,12 +38,14 @@ from riskreport.assessment import (
     Assessment,
     BasisResult,
     CombinationRecord,
+    FamilyScore,
     FamilySource,
     HorizonResult,
     InputRecord,
     InterceptRow,
     Observation,
     PathResult,
+    Quantiles,
     RowCount,
     ScenarioHorizon,
     ScenarioResult,
@@ -169,10 +171,7 @@ def _horizon_results(
                 p_inside=probs.p_inside,
                 p_above=probs.p_above,
                 p_inside_interval=interval,
-                quantiles={
-                    f"{q:g}": float(v)
-                    for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
-                },
+                quantiles=Quantiles.of(quantiles),
                 distribution=family,
                 n_errors=None if family == GIVEN_FAMILY else margins.own[h],
                 spread=float(np.std(dist.ppf(probabilities.SPREAD_GRID))),
@@ -363,7 +362,11 @@ def _uncertainty_record(cfg: Config, margins: uncertainty.Margins) -> Uncertaint
         verbal_scale=cfg.verbal_scale,
         selection=None
         if choice is None
-        else SelectionRecord(choice.chosen, choice.runner_up, choice.total),
+        else SelectionRecord(
+            choice.chosen,
+            choice.runner_up,
+            tuple(FamilyScore(family, total) for family, total in choice.total.items()),
+        ),
     )
 
 

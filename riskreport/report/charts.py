@@ -131,15 +131,15 @@ def outlook_figure(assessment: Assessment, width_mm: float = 170, height_mm: flo
         )
         for edge in (lowers, uppers):
             ax.step(band_x, [edge[0], *edge], where="post", color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)))
-        for name, (lo, hi) in {
-            "90%": ("0.05", "0.95"),
-            "80%": ("0.1", "0.9"),
-            "50%": ("0.25", "0.75"),
-        }.items():
+        for name, ranges in (
+            ("90%", [r.quantiles.range_90 for r in rows]),
+            ("80%", [r.quantiles.range_80 for r in rows]),
+            ("50%", [r.quantiles.range_50 for r in rows]),
+        ):
             ax.fill_between(
                 x,
-                [r.quantiles[lo] for r in rows],
-                [r.quantiles[hi] for r in rows],
+                [lo for lo, _ in ranges],
+                [hi for _, hi in ranges],
                 color=FAN[name],
                 linewidth=0,
                 zorder=1,

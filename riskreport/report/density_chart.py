@@ -89,7 +89,7 @@ def alt_text(a: Assessment, c: DensityCurve) -> str:
     text = (
         f"Density of inflation in {c.period} (h = {c.h}) over the target band "
         f"{band_label(r.band)}: most likely {fmt.number(r.centre)}%, 90% between "
-        f"{fmt.number(r.quantiles['0.05'])}% and {fmt.number(r.quantiles['0.95'])}%; "
+        f"{fmt.number(r.quantiles.q05)}% and {fmt.number(r.quantiles.q95)}%; "
         f"below the band {below}, inside {inside}, above {above}."
     )
     if a.judgement and c.pdf != c.model_based_pdf:

@@ -120,8 +120,8 @@ def outlook_alt(a: Assessment) -> str:
         f"and the forecast from {first.period} to {last.period}, over the target band "
         f"{band_label(policy.band)}. The centre path runs from "
         f"{fmt.number(first.centre)}% to {fmt.number(last.centre)}%; at the policy horizon "
-        f"({policy.period}) the 90% band spans {fmt.number(policy.quantiles['0.05'])}% to "
-        f"{fmt.number(policy.quantiles['0.95'])}%. The numbers are in the appendix table."
+        f"({policy.period}) the 90% band spans {fmt.number(policy.quantiles.q05)}% to "
+        f"{fmt.number(policy.quantiles.q95)}%. The numbers are in the appendix table."
     )
 
 
