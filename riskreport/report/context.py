@@ -9,7 +9,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
-from riskreport.report import round_history, threshold_text
 from riskreport.report.sections import (
     appendix,
     calibration,
@@ -88,10 +87,10 @@ class BriefContext:
     sensitivity_rows: tuple[SensitivityLine, ...] = ()
     sensitivity_caption: str = ""
     threshold_line: str = ""
-    threshold_rows: tuple[threshold_text.ThresholdRow, ...] = ()
-    threshold_text: str = threshold_text.APPENDIX_TEXT
+    threshold_rows: tuple[appendix.ThresholdRow, ...] = ()
+    threshold_text: str = appendix.THRESHOLD_TEXT
     density_charts: tuple[str, ...] = ()
-    round_rows: tuple[round_history.RoundRow, ...] = ()
+    round_rows: tuple[outlook.RoundRow, ...] = ()
     round_text: str = ""
 
 
@@ -170,9 +169,9 @@ def build(a: Assessment, charts: dict[str, ChartBlock], run_id: str) -> BriefCon
         adjustment_text=method.adjustment_text(a),
         sensitivity_rows=method.sensitivity_lines(a),
         sensitivity_caption=method.sensitivity_caption(a),
-        threshold_line=threshold_text.page_one_line(a),
-        threshold_rows=threshold_text.appendix_rows(a, shown),
+        threshold_line=summary.threshold_line(a),
+        threshold_rows=appendix.threshold_rows(a, shown),
         density_charts=tuple(name for name in charts if name.startswith("density-")),
-        round_rows=round_history.rows(a) if round_history.shown(a) else (),
-        round_text=round_history.text(a) if round_history.shown(a) else "",
+        round_rows=outlook.round_rows(a) if outlook.rounds_shown(a) else (),
+        round_text=outlook.round_text(a) if outlook.rounds_shown(a) else "",
     )

@@ -1,5 +1,5 @@
-"""The appendix: probabilities for every reported period and the data behind the calibration
-charts."""
+"""The appendix: probabilities for every reported period, the thresholds beyond the band and
+the data behind the calibration charts."""
 
 from __future__ import annotations
 
@@ -7,7 +7,7 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import ProbabilityRow, probability_row
+from riskreport.report.sections.common import ProbabilityRow, probability_row, threshold_label
 
 PIT_BINS = tuple(str(k) for k in range(1, 11))  # the ten tenths of the PIT histograms
 
@@ -57,3 +57,47 @@ def reliability_rows(a: Assessment) -> tuple[ReliabilityRow, ...]:
         )
         for r in a.calibration.brier.reliability
     )
+
+
+@dataclass(frozen=True)
+class ThresholdRow:
+    """One row of the thresholds table: a threshold in one period, every number as printed."""
+
+    threshold: str
+    period: str
+    h: str
+    below: str
+    above: str
+    below_once: str
+    above_once: str
+    is_policy: bool
+
+
+def threshold_rows(a: Assessment, shown: tuple[int, ...]) -> tuple[ThresholdRow, ...]:
+    """Each ``[target] thresholds`` line at the brief's summary horizons."""
+    rows = []
+    for t in a.thresholds:
+        for at, path in zip(t.horizons, t.path, strict=True):
+            if at.h not in shown:
+                continue
+            rows.append(
+                ThresholdRow(
+                    threshold=threshold_label(t.threshold),
+                    period=at.period,
+                    h=str(at.h),
+                    below=fmt.single_percent(at.p_below),
+                    above=fmt.single_percent(at.p_above),
+                    below_once=fmt.single_percent(path.p_below_at_least_once),
+                    above_once=fmt.single_percent(path.p_above_at_least_once),
+                    is_policy=at.h == a.policy_horizon,
+                )
+            )
+    return tuple(rows)
+
+
+THRESHOLD_TEXT = (
+    "Below means strictly below the line and above strictly above it (the line itself has "
+    "no probability of its own). \u201cAt least once\u201d is counted on the same simulated "
+    "paths as the band\u2019s path probabilities, from the first reported period up to the "
+    "one shown."
+)

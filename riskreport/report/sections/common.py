@@ -202,3 +202,9 @@ def ahead_header(a: Assessment, h: int) -> str:
     if h == 0:
         return "now"
     return f"{h} {units(a) if h != 1 else units(a)[:-1]}"
+
+
+def threshold_label(value: float) -> str:
+    """A ``[target] thresholds`` line as printed: "0%", "5.5%", "-1%" (typographic minus)."""
+    digits = 0 if float(value).is_integer() else 1
+    return f"{fmt.number(value, digits)}%"

@@ -1,9 +1,11 @@
-"""The outlook section: the fan and probability charts, the path probabilities and the calendar years."""
+"""The outlook section: the fan and probability charts, the path probabilities, the calendar
+years, the outcome densities and the probability of inside across rounds."""
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from riskreport.annual import AnnualResult
 from riskreport.assessment import Assessment, BasisResult
@@ -15,6 +17,9 @@ from riskreport.report.sections.common import (
     summary_horizons,
     units,
 )
+
+if TYPE_CHECKING:
+    from riskreport.density import DensityCurve
 
 
 @dataclass(frozen=True)
@@ -135,3 +140,93 @@ def probabilities_alt(a: Assessment) -> str:
         f"is {fmt.single_percent(policy.p_above)} and below {fmt.single_percent(policy.p_below)} "
         "there. The numbers are in the appendix table."
     )
+
+
+def density_alt(a: Assessment, c: DensityCurve) -> str:
+    """Alt text of the outcome density chart of one period: what it shows, in words and numbers."""
+    r = a.horizon_result(c.h)
+    below, inside, above = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
+    text = (
+        f"Density of inflation in {c.period} (h = {c.h}) over the target band "
+        f"{band_label(r.band)}: most likely {fmt.number(r.centre)}%, 90% between "
+        f"{fmt.number(r.quantiles.q05)}% and {fmt.number(r.quantiles.q95)}%; "
+        f"below the band {below}, inside {inside}, above {above}."
+    )
+    if a.judgement and c.pdf != c.model_based_pdf:
+        m = a.horizon_result(c.h, model_based=True)
+        mb, mi, ma = fmt.outcome_texts(m.p_below, m.p_inside, m.p_above)
+        text += (
+            f" The model-based density (dashed) is centred at {fmt.number(m.centre)}%, "
+            f"with below {mb}, inside {mi}, above {ma}."
+        )
+    return text
+
+
+def density_caption(a: Assessment, c: DensityCurve) -> str:
+    """The caption under the outcome density chart of one period."""
+    judged = a.judgement and c.pdf != c.model_based_pdf
+    return f"Outcome density in {c.period}: the band hatched, the share inside it shaded" + (
+        "; model-based (dashed) and after judgement (solid)." if judged else "."
+    )
+
+
+# Across rounds: how P(inside) for the policy-horizon period moved from one brief to the next.
+
+
+def rounds_shown(a: Assessment) -> bool:
+    """Whether there is anything to show: at least one earlier round reported the period."""
+    return len(a.round_history) >= 2
+
+
+@dataclass(frozen=True)
+class RoundRow:
+    """One brief's statement about the policy-horizon period, as printed."""
+
+    brief: str
+    ahead: str
+    inside: str
+
+
+def round_rows(a: Assessment) -> tuple[RoundRow, ...]:
+    """Table rows: brief (as_of), periods ahead then, P(inside) as printed."""
+    return tuple(
+        RoundRow(
+            p.as_of + (" (this brief)" if p.current else ""),
+            str(p.h),
+            fmt.single_percent(p.p_inside),
+        )
+        for p in a.round_history
+    )
+
+
+def round_text(a: Assessment) -> str:
+    """From the first round shown to this one: the policy-horizon period, then the current
+    calendar year when earlier briefs stated it."""
+    first, last = a.round_history[0], a.round_history[-1]
+    sentence = (
+        f"The probability of inflation inside the band in {last.period} (the policy horizon) "
+        f"as each brief in the output folder stated it: {fmt.single_percent(first.p_inside)} "
+        f"in the brief of {first.as_of}, {fmt.single_percent(last.p_inside)} now "
+        f"({fmt.points(last.p_inside - first.p_inside)})."
+    )
+    if len(a.year_history) >= 2:
+        y0, y1 = a.year_history[0], a.year_history[-1]
+        measure = "year-end rate" if y1.basis == "year-end" else "average"
+        sentence += (
+            f" For {y1.year} as a whole ({measure}): {fmt.single_percent(y0.p_inside)} in the "
+            f"brief of {y0.as_of}, {fmt.single_percent(y1.p_inside)} now "
+            f"({fmt.points(y1.p_inside - y0.p_inside)})."
+        )
+    return sentence
+
+
+def round_alt(a: Assessment) -> str:
+    """Alt text of the across-rounds chart."""
+    parts = [f"{p.as_of}: {fmt.single_percent(p.p_inside)}" for p in a.round_history]
+    return (
+        f"Line chart of the probability of inflation inside the band in "
+        f"{a.round_history[-1].period}, as stated by each brief: " + "; ".join(parts) + "."
+    )
+
+
+ROUND_CAPTION = "Probability of inside for the policy-horizon period, by the brief that stated it."

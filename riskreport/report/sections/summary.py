@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from riskreport import verbal
 from riskreport.assessment import Assessment
@@ -16,8 +17,12 @@ from riskreport.report.sections.common import (
     phrase,
     probability_row,
     scale_of,
+    threshold_label,
 )
 from riskreport.report.sections.outlook import AnnualRow, annual_rows
+
+if TYPE_CHECKING:
+    from riskreport.thresholds import ThresholdResult
 
 CAUTIONS: tuple[str, ...] = (
     "These probabilities are model estimates built from the errors of past forecasts; they "
@@ -317,4 +322,35 @@ def change_alt(a: Assessment) -> str:
         f"Bar chart of the change in the probability of being inside since {a.change.previous_as_of}: "
         + "; ".join(parts)
         + "."
+    )
+
+
+def _threshold_side(a: Assessment, t: ThresholdResult) -> str:
+    """The side of a threshold a board asks about: below a low line, above a high one."""
+    lower, upper = a.policy.band
+    return "below" if t.threshold < (lower + upper) / 2 else "above"
+
+
+def threshold_line(a: Assessment) -> str:
+    """One sentence on the ``[target] thresholds`` at the policy horizon (empty when none is set)."""
+    if not a.thresholds:
+        return ""
+    policy = a.policy
+    parts = []
+    for t in a.thresholds:
+        at = next(r for r in t.horizons if r.h == a.policy_horizon)
+        path = next(r for r in t.path if r.h == a.policy_horizon)
+        if _threshold_side(a, t) == "below":
+            parts.append(
+                f"below {threshold_label(t.threshold)} {fmt.single_percent(at.p_below)} "
+                f"(at least once by then {fmt.single_percent(path.p_below_at_least_once)})"
+            )
+        else:
+            parts.append(
+                f"above {threshold_label(t.threshold)} {fmt.single_percent(at.p_above)} "
+                f"(at least once by then {fmt.single_percent(path.p_above_at_least_once)})"
+            )
+    return (
+        f"Beyond the band, in {policy.period}: inflation " + "; ".join(parts) + ". "
+        f"\u201cAt least once\u201d counts every period from {a.horizons[0].period}."
     )
