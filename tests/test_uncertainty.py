@@ -193,7 +193,7 @@ def test_given_error_quantiles_are_used_exactly_as_given(case: Case) -> None:
     from riskreport.report import context
 
     c = context.build(a, {}, "run")
-    facts = {k.label: k.value for k in c.method + c.samples}
+    facts = {k.label: k.value for k in c.method.facts.rows}
     assert facts["Given error distribution"].startswith("2 months ahead")
     assert "given at 2 months ahead" in facts["Past errors per horizon"]
 

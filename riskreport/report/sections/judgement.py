@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment, HorizonResult, ScenarioHorizon
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import triple
+from riskreport.report.sections.common import Table, triple
 
 
 @dataclass(frozen=True)
@@ -117,3 +117,62 @@ def title(a: Assessment) -> str:
     if a.judgement and a.scenarios:
         return "Staff judgement and scenarios"
     return "Staff judgement" if a.judgement else "Scenarios"
+
+
+SCENARIOS_TEXT = (
+    "Each scenario is an overlay on the baseline, stated by staff. Below / inside / above the "
+    "band, and the change in inside against the baseline."
+)
+
+
+@dataclass(frozen=True)
+class JudgementContext:
+    """The staff judgement and scenarios section as printed (``shown`` is False when the
+    brief has neither)."""
+
+    shown: bool
+    heading: str
+    text: str
+    entries: Table[OverlayEntry]
+    moves: Table[OverlayRow]
+    scenarios_heading: str
+    scenarios_text: str
+    scenarios: Table[ScenarioRow]
+
+
+def context(a: Assessment) -> JudgementContext:
+    """The staff judgement and scenarios section."""
+    entries, moves, text = overlay(a)
+    first, second = scenario_horizons(a)
+    return JudgementContext(
+        shown=bool(a.judgement or a.scenarios),
+        heading=title(a),
+        text=text,
+        entries=Table(
+            "Judgement applied, with the reasons given by staff",
+            OverlayEntry(periods="Periods", terms="Terms", reason="Reason"),
+            entries,
+        ),
+        moves=Table(
+            "Below / inside / above: model-based and after judgement",
+            OverlayRow(
+                period="Period",
+                model_based="Model-based",
+                adjusted="After judgement",
+                change="Change in inside",
+            ),
+            moves,
+        ),
+        scenarios_heading="Alternative scenarios",
+        scenarios_text=SCENARIOS_TEXT,
+        scenarios=Table(
+            "Scenarios next to the baseline",
+            ScenarioRow(
+                name="Scenario",
+                reason="",
+                first=a.horizon_result(first).period,
+                second=f"{a.horizon_result(second).period} (policy horizon)",
+            ),
+            scenario_rows(a) if a.scenarios else (),
+        ),
+    )

@@ -3,7 +3,7 @@ years, the outcome densities and the probability of inside across rounds."""
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -11,7 +11,14 @@ from riskreport.annual import AnnualResult
 from riskreport.assessment import Assessment, BasisResult
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
+    ChartBlock,
+    ProbabilityRow,
+    Table,
+    ahead_label,
     band_label,
+    band_varies,
+    chart,
+    period_table,
     phrase,
     probability_row,
     summary_horizons,
@@ -33,6 +40,7 @@ class AnnualRow:
     inside: str
     above: str
     observed: str
+    basis_observed: str  # the basis, with the periods observed where there are any
 
 
 def annual_rows(
@@ -42,10 +50,11 @@ def annual_rows(
     unit = "months" if a.frequency == "monthly" else "quarters"
     for r in a.annual if results is None else results:
         texts = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
+        basis = "calendar-year average" if r.basis == "calendar-year-average" else "year end"
         rows.append(
             AnnualRow(
                 year=str(r.year),
-                basis="calendar-year average" if r.basis == "calendar-year-average" else "year end",
+                basis=basis,
                 band=band_label(r.band),
                 below=texts[0],
                 inside=texts[1],
@@ -53,6 +62,8 @@ def annual_rows(
                 observed=f"{r.observed_periods} {unit} observed"
                 if r.observed_periods
                 else "none observed",
+                basis_observed=basis
+                + (f" ({r.observed_periods} {unit} observed)" if r.observed_periods else ""),
             )
         )
     return tuple(rows)
@@ -230,3 +241,78 @@ def round_alt(a: Assessment) -> str:
 
 
 ROUND_CAPTION = "Probability of inside for the policy-horizon period, by the brief that stated it."
+
+
+YEARS_HEAD = AnnualRow(
+    year="Year",
+    basis="Basis",
+    band="Band",
+    below="Below",
+    inside="Inside",
+    above="Above",
+    observed="Observed",
+    basis_observed="Basis",
+)
+PATHS_HEAD = PathRow(period="Up to", throughout="Inside throughout", once="Inside at least once")
+
+
+@dataclass(frozen=True)
+class OutlookContext:
+    """The outlook section as printed: its charts, tables and paragraphs."""
+
+    heading: str
+    periods_heading: str
+    periods: Table[ProbabilityRow] | None  # here when page 1 speaks of calendar years
+    text: tuple[str, ...]
+    fan: ChartBlock | None
+    probabilities: ChartBlock | None
+    paths_heading: str
+    paths: Table[PathRow]
+    years_heading: str
+    years: Table[AnnualRow]
+    years_text: str
+    change_heading: str
+    change: ChartBlock | None
+    densities_heading: str
+    densities: tuple[ChartBlock, ...]
+    rounds_heading: str
+    rounds_text: str
+    rounds_chart: ChartBlock | None
+    rounds: Table[RoundRow]
+
+
+def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> OutlookContext:
+    """The outlook section, with the charts drawn for it (looked up by name in ``charts``)."""
+    shown = rounds_shown(a)
+    band = "" if band_varies(a) else f" ({band_label(a.horizons[0].band)})"
+    return OutlookContext(
+        heading="Outlook",
+        periods_heading="Per period (supporting detail)",
+        periods=period_table(a) if a.basis_results else None,
+        text=outlook_text(a),
+        fan=chart(charts, "outlook"),
+        probabilities=chart(charts, "band-probabilities"),
+        paths_heading="Staying inside the band",
+        paths=Table(
+            f"Joint probabilities from {a.horizons[0].period} up to each period",
+            PATHS_HEAD,
+            path_rows(a),
+        ),
+        years_heading="Calendar years",
+        years=Table(f"Calendar-year average and year-end value{band}", YEARS_HEAD, annual_rows(a)),
+        years_text=annual_text(a),
+        change_heading="Since the last brief, by period",
+        change=chart(charts, "change"),
+        densities_heading="The outcome at a glance",
+        densities=tuple(
+            block for c in a.density if (block := chart(charts, f"density-h{c.h}")) is not None
+        ),
+        rounds_heading="Across rounds",
+        rounds_text=round_text(a) if shown else "",
+        rounds_chart=chart(charts, "round-history"),
+        rounds=Table(
+            "Inside the band in the policy-horizon period, by brief",
+            RoundRow(brief="Brief", ahead=f"{ahead_label(a)} then", inside="Inside"),
+            round_rows(a) if shown else (),
+        ),
+    )

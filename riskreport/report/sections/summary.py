@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from riskreport import verbal
@@ -11,15 +12,20 @@ from riskreport.calibration import ReliabilityBin
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.calibration import COVERAGE_TOO_NARROW, COVERAGE_TOO_WIDE, coverage
 from riskreport.report.sections.common import (
+    INTERVAL_TEXT,
+    SHORT_BAND_TEXT,
     ProbabilityRow,
+    Table,
     band_label,
+    band_varies,
     inside_split,
+    period_table,
     phrase,
     probability_row,
     scale_of,
     threshold_label,
 )
-from riskreport.report.sections.outlook import AnnualRow, annual_rows
+from riskreport.report.sections.outlook import YEARS_HEAD, AnnualRow, annual_rows
 
 if TYPE_CHECKING:
     from riskreport.thresholds import ThresholdResult
@@ -295,9 +301,13 @@ BASIS_CAPTIONS = {
 }
 
 
-def basis_rows(a: Assessment) -> tuple[AnnualRow, ...]:
-    """The summary table on a calendar-year basis: one row per year in view."""
-    return annual_rows(a, a.basis_results)
+def basis_table(a: Assessment) -> Table[AnnualRow] | None:
+    """The summary table on a calendar-year basis, one row per year in view (None on the
+    ``period`` basis, where page 1 shows the table by period)."""
+    rows = annual_rows(a, a.basis_results)
+    if not rows:
+        return None
+    return Table(BASIS_CAPTIONS[a.headline.basis], YEARS_HEAD, rows)
 
 
 def change_caption(a: Assessment) -> str:
@@ -353,4 +363,60 @@ def threshold_line(a: Assessment) -> str:
     return (
         f"Beyond the band, in {policy.period}: inflation " + "; ".join(parts) + ". "
         f"\u201cAt least once\u201d counts every period from {a.horizons[0].period}."
+    )
+
+
+CAUTIONS_LABEL = "Cautions"
+
+
+@dataclass(frozen=True)
+class SummaryContext:
+    """Page 1 as printed: the headline, the messages, the summary table and the cautions."""
+
+    headline: str
+    messages: tuple[str, ...]
+    threshold_line: str
+    heading: str
+    basis: Table[AnnualRow] | None
+    periods: Table[ProbabilityRow] | None
+    show_band: bool
+    note: str
+    scale_key: str
+    change_heading: str
+    change_text: str
+    track_heading: str
+    track_text: str
+    cautions_label: str
+    cautions_heading: str
+    cautions: tuple[str, ...]
+
+
+def note(a: Assessment) -> str:
+    """The note under the summary table: what the centre is, the range and the band's edges."""
+    return (
+        f"Centre: the most likely value, {centre_label(a)}; the models' own "
+        f"forecast is in the appendix. {INTERVAL_TEXT} {SHORT_BAND_TEXT}"
+    )
+
+
+def context(a: Assessment) -> SummaryContext:
+    """Page 1 of the brief, every number rounded and phrased."""
+    basis = basis_table(a)
+    return SummaryContext(
+        headline=headline(a)[0],
+        messages=messages(a),
+        threshold_line=threshold_line(a),
+        heading=BASIS_TITLES[a.headline.basis],
+        basis=basis,
+        periods=period_table(a) if basis is None else None,
+        show_band=band_varies(a),
+        note=note(a),
+        scale_key=scale_key(a),
+        change_heading="Since the last brief",
+        change_text=change_text(a),
+        track_heading="Track record",
+        track_text=track_text(a),
+        cautions_label=CAUTIONS_LABEL,
+        cautions_heading="Read with care",
+        cautions=CAUTIONS,
     )
