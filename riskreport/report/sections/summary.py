@@ -58,18 +58,16 @@ def ahead(a: Assessment, h: int) -> str:
     return f"{h} {unit}{'s' if h != 1 else ''} ahead"
 
 
-def headline(a: Assessment) -> tuple[str, ProbabilityRow]:
+def headline(a: Assessment) -> str:
     """The first sentence: how likely inside at the policy horizon, on the target basis."""
+    if a.headline.basis != "period":
+        return _basis_headline(a)
     r = a.policy
     row = probability_row(r, a.policy_horizon)
-    head = a.headline
-    if head.basis != "period":
-        return _basis_headline(a), row
-    text = (
+    return (
         f"At the policy horizon ({r.period}, {ahead(a, r.h)}) inflation is "
         f"{inside_split(a, (row.below, row.inside, row.above), f'the {band_label(r.band)} target band')}."
     )
-    return text, row
 
 
 def _basis_headline(a: Assessment) -> str:
@@ -403,7 +401,7 @@ def context(a: Assessment) -> SummaryContext:
     """Page 1 of the brief, every number rounded and phrased."""
     basis = basis_table(a)
     return SummaryContext(
-        headline=headline(a)[0],
+        headline=headline(a),
         messages=messages(a),
         threshold_line=threshold_line(a),
         heading=BASIS_TITLES[a.headline.basis],
