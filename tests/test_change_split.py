@@ -20,10 +20,7 @@ from hypothesis import strategies as st
 from hypothesis.configuration import set_hypothesis_home_dir
 from scipy import optimize, stats
 
-import riskreport
 from riskreport import change
-from riskreport.assessment import plain
-from tests.conftest import Case
 
 LEVELS = np.arange(1, 100) / 100
 # Hypothesis keeps a cache of constants; keep it out of the source tree.
@@ -106,21 +103,3 @@ def test_parts_add_up_and_unchanged_ingredients_get_zero(
         if not move or old == new:
             assert part == 0.0  # null player: exactly zero
     assert parts == pytest.approx(_shapley(before, now, df), abs=3e-3)
-
-
-def test_a_brief_compared_with_its_own_json_has_changed_in_nothing(case: Case) -> None:
-    # Two routes to one period's shape: the typed result (this brief, side_of) and its JSON
-    # row as a later brief reads it (side). They agree to the JSON's rounding, so the
-    # brief compared with itself changed in nothing: every Shapley part is zero.
-    a = riskreport.assess(case.write())
-    for r in a.horizons:
-        typed, stored = change.side_of(r), change.side(plain(r))
-        np.testing.assert_allclose(typed.offsets, stored.offsets, rtol=0, atol=1e-9)
-        assert (typed.centre, *typed.band, typed.p_inside) == pytest.approx(
-            (stored.centre, *stored.band, stored.p_inside), abs=1e-11
-        )
-    record = change.compare(a.to_dict(), [(r.period, change.side_of(r)) for r in a.horizons])
-    assert [h.period for h in record.horizons] == [r.period for r in a.horizons]
-    for h in record.horizons:
-        parts = (h.due_to_centre, h.due_to_spread, h.due_to_band)
-        assert parts == pytest.approx((0.0, 0.0, 0.0), abs=1e-9)
