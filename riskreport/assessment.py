@@ -9,6 +9,7 @@ from __future__ import annotations
 import dataclasses
 import json
 import math
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
@@ -25,8 +26,12 @@ if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scip
 
 
 def json_key(
-    *, name: str | None = None, skip: bool = False, omit_none: bool = False
-) -> dict[str, tuple[str | None, bool, bool]]:
+    *,
+    name: str | None = None,
+    skip: bool = False,
+    omit_none: bool = False,
+    keyed: tuple[str, str] | None = None,
+) -> dict[str, tuple[str | None, bool, bool, tuple[str, str] | None]]:
     """A dataclass field's metadata saying how :func:`plain` writes it.
 
     Parameters
@@ -37,8 +42,11 @@ def json_key(
         Kept on the object only, not written to the JSON.
     omit_none
         The key is left out of the JSON when the value is None.
+    keyed
+        ``(key, value)``: a tuple of dataclasses written as one JSON object mapping each
+        item's ``key`` attribute to its ``value`` attribute (e.g. family -> score).
     """
-    return {"json": (name, skip, omit_none)}
+    return {"json": (name, skip, omit_none, keyed)}
 
 
 @dataclass(frozen=True)
@@ -76,12 +84,30 @@ class FamilySource:
 
 
 @dataclass(frozen=True)
+class FamilyScore:
+    """One family's total of per-horizon mean log scores in the replay."""
+
+    family: str
+    total_log_score: float
+
+
+@dataclass(frozen=True)
 class SelectionRecord:
-    """The automatic choice of family: chosen, runner-up and each family's total log score."""
+    """The automatic choice of family: chosen, runner-up and each family's total log score
+    (written to the JSON as one object, family -> total)."""
 
     chosen: str
     runner_up: str | None
-    total_log_score: dict[str, float]
+    total_log_score: tuple[FamilyScore, ...] = field(
+        metadata=json_key(keyed=("family", "total_log_score"))
+    )
+
+    def score(self, family: str) -> float:
+        """The total log score of ``family``."""
+        for row in self.total_log_score:
+            if row.family == family:
+                return row.total_log_score
+        raise KeyError(f"family: no score for {family!r}")
 
 
 @dataclass(frozen=True)
@@ -103,6 +129,60 @@ class UncertaintyRecord:
 
 
 @dataclass(frozen=True)
+class Quantiles:
+    """The outcome's quantiles at the levels :data:`riskreport.probabilities.QUANTILE_LEVELS`.
+
+    Each level is a named field (``q05`` is the 5% quantile); the JSON keys are the levels
+    as written there (``"0.05"``, ``"0.1"``, ...).
+    """
+
+    q05: float = field(metadata=json_key(name="0.05"))
+    q10: float = field(metadata=json_key(name="0.1"))
+    q25: float = field(metadata=json_key(name="0.25"))
+    q50: float = field(metadata=json_key(name="0.5"))
+    q75: float = field(metadata=json_key(name="0.75"))
+    q90: float = field(metadata=json_key(name="0.9"))
+    q95: float = field(metadata=json_key(name="0.95"))
+
+    @classmethod
+    def keys(cls) -> tuple[str, ...]:
+        """The levels as written in the JSON, lowest first: ``("0.05", ..., "0.95")``."""
+        return tuple(f.metadata["json"][0] for f in dataclasses.fields(cls))
+
+    @classmethod
+    def levels(cls) -> tuple[float, ...]:
+        """The levels as probabilities, lowest first."""
+        return tuple(float(k) for k in cls.keys())
+
+    @classmethod
+    def of(cls, values: Iterable[float]) -> Quantiles:
+        """The quantiles from their values at :meth:`levels`, in that order."""
+        given = tuple(float(v) for v in values)
+        if len(given) != len(cls.keys()):
+            raise ValueError(f"values: expected {len(cls.keys())} quantiles, got {len(given)}")
+        return cls(*given)
+
+    def items(self) -> tuple[tuple[str, float], ...]:
+        """(level as in the JSON, value) pairs, lowest level first."""
+        return tuple(zip(self.keys(), dataclasses.astuple(self), strict=True))
+
+    @property
+    def range_50(self) -> tuple[float, float]:
+        """The central 50% range (25% and 75% quantiles)."""
+        return self.q25, self.q75
+
+    @property
+    def range_80(self) -> tuple[float, float]:
+        """The central 80% range (10% and 90% quantiles)."""
+        return self.q10, self.q90
+
+    @property
+    def range_90(self) -> tuple[float, float]:
+        """The central 90% range (5% and 95% quantiles)."""
+        return self.q05, self.q95
+
+
+@dataclass(frozen=True)
 class HorizonResult:
     """Probabilities and quantiles for one reported period."""
 
@@ -115,7 +195,7 @@ class HorizonResult:
     p_inside: float
     p_above: float
     p_inside_interval: tuple[float, float]
-    quantiles: dict[str, float]
+    quantiles: Quantiles
     distribution: str
     n_errors: int | None  # None where the error distribution is given (error_quantiles)
     spread: float  # standard deviation of the outcome distribution (distributions.spread)
@@ -337,16 +417,19 @@ def plain(value: Any) -> Any:
     """Any part of an assessment as plain JSON values: the one place results are flattened.
 
     Dataclasses become objects with their fields in declaration order (see
-    :func:`json_field`), tuples become lists and floats are rounded to 12 significant digits
+    :func:`json_key`), tuples become lists and floats are rounded to 12 significant digits
     (stable across BLAS); a non-finite float becomes None (JSON null).
     """
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
         out: dict[str, Any] = {}
         for f in dataclasses.fields(value):
-            name, skip, omit_none = f.metadata.get("json", (None, False, False))
+            name, skip, omit_none, keyed = f.metadata.get("json", (None, False, False, None))
             item = getattr(value, f.name)
             if skip or (omit_none and item is None):
                 continue
+            if keyed is not None:
+                key, attribute = keyed
+                item = {getattr(x, key): getattr(x, attribute) for x in item}
             out[name or f.name] = plain(item)
         return out
     return _clean(value)

@@ -21,14 +21,18 @@ from __future__ import annotations
 import itertools
 import json
 import logging
+from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from scipy import stats
 
 from riskreport.errors import InputError
+
+if TYPE_CHECKING:
+    from riskreport.assessment import HorizonResult
 
 log = logging.getLogger("riskreport")
 
@@ -255,25 +259,38 @@ def _check_row(path: Path, i: int, row: object) -> None:
         raise bad("percentiles", "finite quantiles, non-decreasing, at levels inside (0, 1)")
 
 
-def compare(previous: dict[str, Any], current_rows: list[dict[str, Any]]) -> ChangeRecord:
-    """The ``change`` record: by target period present in both briefs."""
+def side_of(r: HorizonResult) -> Side:
+    """This brief's view of one reported period, from its typed result (the same numbers as
+    :func:`side` of its JSON row, before the JSON's rounding)."""
+    levels = np.array(PERCENTILES, dtype=float) / 100
+    return Side(
+        r.centre, r.band, levels, np.array(r.percentiles, dtype=float) - r.centre, r.p_inside
+    )
+
+
+def compare(previous: dict[str, Any], current: Sequence[tuple[str, Side]]) -> ChangeRecord:
+    """The ``change`` record: by target period present in both briefs.
+
+    ``previous`` is the earlier assessment JSON (read by :func:`load`); ``current`` holds
+    (period, side) pairs of the later brief, from :func:`side_of` or :func:`side`.
+    """
     before = {row["period"]: row for row in previous["horizons"]}
     rows = []
-    for row in current_rows:
-        old = before.get(row["period"])
+    for period, now in current:
+        old = before.get(period)
         if old is None:
             continue
-        centre, spread, band = decompose(side(old), side(row))
+        centre, spread, band = decompose(side(old), now)
         rows.append(
             ChangeHorizon(
-                period=row["period"],
+                period=period,
                 p_inside_before=float(old["p_inside"]),
-                p_inside_now=float(row["p_inside"]),
+                p_inside_now=now.p_inside,
                 due_to_centre=centre,
                 due_to_spread=spread,
                 due_to_band=band,
                 centre_before=float(old["centre"]),
-                centre_now=float(row["centre"]),
+                centre_now=now.centre,
             )
         )
     return ChangeRecord(str(previous["as_of"]), tuple(rows))

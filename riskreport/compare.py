@@ -67,7 +67,9 @@ def compare_files(old: Path, new: Path) -> Comparison:
     """
     before, now = _read(old), _read(new)
     try:
-        record = change.compare(before, now["horizons"])
+        record = change.compare(
+            before, [(row["period"], change.side(row)) for row in now["horizons"]]
+        )
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(f"cannot compare the two rounds ({exc})", file=new) from None
     return Comparison(

@@ -82,7 +82,7 @@ def assess_config(
         if previous is not None:
             _check_earlier(source, earlier["as_of"], cfg)
         change = change_module.compare(
-            earlier, [dataclasses.asdict(r) for r in assessment.horizons]
+            earlier, [(r.period, change_module.side_of(r)) for r in assessment.horizons]
         )
     policy = assessment.policy
     rounds = history_module.points(

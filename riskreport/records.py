@@ -21,12 +21,14 @@ from riskreport import combination as combination_module
 from riskreport import distributions, dynamics, periods, probabilities
 from riskreport.assessment import (
     CombinationRecord,
+    FamilyScore,
     FamilySource,
     HorizonResult,
     InputRecord,
     InterceptRow,
     Observation,
     PathResult,
+    Quantiles,
     RowCount,
     ScenarioHorizon,
     ScenarioResult,
@@ -137,10 +139,7 @@ def horizons(
                 p_inside=probs.p_inside,
                 p_above=probs.p_above,
                 p_inside_interval=interval,
-                quantiles={
-                    f"{q:g}": float(v)
-                    for q, v in zip(probabilities.QUANTILE_LEVELS, quantiles, strict=True)
-                },
+                quantiles=Quantiles.of(quantiles),
                 distribution=family,
                 n_errors=None if family == GIVEN_FAMILY else margins.own[h],
                 spread=distributions.spread(dist),
@@ -233,7 +232,11 @@ def uncertainty(cfg: Config, margins: Margins) -> UncertaintyRecord:
         verbal_scale=cfg.brief.verbal_scale,
         selection=None
         if choice is None
-        else SelectionRecord(choice.chosen, choice.runner_up, choice.total),
+        else SelectionRecord(
+            choice.chosen,
+            choice.runner_up,
+            tuple(FamilyScore(family, total) for family, total in choice.total.items()),
+        ),
     )
 
 

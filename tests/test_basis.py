@@ -130,17 +130,18 @@ def test_the_bases_give_different_headlines_and_page_one_speaks_of_them(
     inside = {basis: a.headline.p_inside for basis, a in built.items()}
     # The average of four imperfectly correlated periods is less dispersed than one period.
     assert inside["calendar-year-average"] > inside["period"] + 0.03
-    texts = {basis: context.build(a, {}, "run").headline for basis, a in built.items()}
+    texts = {basis: context.build(a, {}, "run").summary.headline for basis, a in built.items()}
     assert len(set(texts.values())) == 3
     assert texts["calendar-year-average"].startswith("Averaged over 2025")
     assert texts["year-end"].startswith("At the end of 2025 (2025-Q4)")
     c = context.build(built["calendar-year-average"], {}, "run")
-    assert [r.year for r in c.basis_rows] == ["2024", "2025"]
+    assert c.summary.basis is not None
+    assert [r.year for r in c.summary.basis.rows] == ["2024", "2025"]
     assert any(
         k.label == "Target basis" and "mean of the year's 4 quarterly rates" in k.value
-        for k in c.method
+        for k in c.method.facts.rows
     )
-    assert context.build(built["period"], {}, "run").basis_rows == ()
+    assert context.build(built["period"], {}, "run").summary.basis is None
 
 
 def test_json_holds_the_headline_record(built: dict[str, riskreport.Assessment]) -> None:

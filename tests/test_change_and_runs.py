@@ -105,6 +105,14 @@ def test_change_in_the_assessment(case: Case, run: Callable[..., Result]) -> Non
 def test_band_change_between_briefs_goes_to_the_band(case: Case, tmp_path: Path) -> None:
     first = riskreport.assess(case.write())
     (tmp_path / "assessment-2024-12.json").write_text(first.to_json())
+    # Two routes to one period's shape agree to the JSON's rounding: the brief's typed
+    # result (change.side_of) and its JSON row as the next brief reads it (change.side).
+    for r, row in zip(first.horizons, first.to_dict()["horizons"], strict=True):
+        typed, stored = change.side_of(r), change.side(row)
+        np.testing.assert_allclose(typed.offsets, stored.offsets, rtol=0, atol=1e-9)
+        assert (typed.centre, *typed.band, typed.p_inside) == pytest.approx(
+            (stored.centre, *stored.band, stored.p_inside), abs=1e-11
+        )
     case.config = case.config.replace("tolerance = 1.0", "tolerance = 1.5")
     second = riskreport.assess(case.write(), previous=tmp_path / "assessment-2024-12.json")
     assert second.change is not None

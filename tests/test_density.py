@@ -9,8 +9,9 @@ from scipy import integrate, stats
 import riskreport
 from riskreport import density
 from riskreport.distributions import Distribution
-from riskreport.report import density_chart
+from riskreport.report import charts
 from riskreport.report import formatting as fmt
+from riskreport.report.sections import outlook
 from tests.conftest import Case
 
 
@@ -37,7 +38,7 @@ def test_plotted_density_integrates_to_one_and_matches_the_band(case: Case) -> N
     a = _case_with(case, "density_horizons = [1, 3]")
     assert [c.h for c in a.density] == [1, 3]
     for c in a.density:
-        fig = density_chart.draw(a, c)
+        fig = charts.density_figure(a, c)
         line = fig.axes[0].lines[2]  # after the two band-edge lines: the density
         x, y = (np.asarray(v, dtype=float) for v in line.get_data())
         assert integrate.trapezoid(y, x) == pytest.approx(1.0, abs=5e-4)
@@ -47,7 +48,7 @@ def test_plotted_density_integrates_to_one_and_matches_the_band(case: Case) -> N
         assert np.interp(row.band[1], x, cumulative) == pytest.approx(
             row.p_below + row.p_inside, abs=2e-3
         )
-        alt = density_chart.alt_text(a, c)
+        alt = outlook.density_alt(a, c)
         assert c.period in alt
         assert f"inside {fmt.outcome_texts(row.p_below, row.p_inside, row.p_above)[1]}" in alt
 

@@ -13,7 +13,8 @@ from scipy import stats
 
 import riskreport
 from riskreport import combination
-from riskreport.assessment import ScheduledBand, plain
+from riskreport.assessment import FamilyScore, Quantiles, ScheduledBand, SelectionRecord, plain
+from riskreport.probabilities import QUANTILE_LEVELS
 from tests.conftest import Case, Result, constant_forecast_world
 
 
@@ -232,3 +233,27 @@ def test_plain_writes_keyword_keys_and_leaves_out_absent_values() -> None:
     """A scheduled band given as lower/upper has no midpoint key; its start is "from"."""
     band = ScheduledBand(start="2026-01", lower=1.0, upper=3.0, midpoint=None, tolerance=None)
     assert plain(band) == {"from": "2026-01", "lower": 1.0, "upper": 3.0}
+
+
+def test_quantiles_keep_the_json_keys_of_the_levels_computed() -> None:
+    """The typed quantiles are written under the contract's keys, one per computed level."""
+    assert Quantiles.levels() == QUANTILE_LEVELS
+    assert Quantiles.keys() == tuple(f"{q:g}" for q in QUANTILE_LEVELS)
+    q = Quantiles.of([0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5])
+    assert plain(q) == dict(zip(Quantiles.keys(), [0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5], strict=True))
+    assert (q.q50, q.range_90, q.range_80, q.range_50) == (2.0, (0.5, 3.5), (1.0, 3.0), (1.5, 2.5))
+    with pytest.raises(ValueError, match="expected 7 quantiles"):
+        Quantiles.of([1.0, 2.0])
+
+
+def test_plain_writes_family_scores_as_one_object() -> None:
+    """The selection's scores stay typed on the object and keep the JSON's family -> total."""
+    record = SelectionRecord(
+        "normal", "empirical", (FamilyScore("normal", -1.5), FamilyScore("empirical", -2.0))
+    )
+    assert plain(record) == {
+        "chosen": "normal",
+        "runner_up": "empirical",
+        "total_log_score": {"normal": -1.5, "empirical": -2.0},
+    }
+    assert record.score("empirical") == -2.0

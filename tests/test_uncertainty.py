@@ -12,6 +12,7 @@ from scipy import stats
 import riskreport
 from riskreport import calibration, selection
 from riskreport.annual import annual
+from riskreport.assessment import Quantiles
 from riskreport.config import Band
 from riskreport.distributions import FAMILIES, NormalFit, fit_batch
 from riskreport.periods import parse
@@ -82,7 +83,7 @@ def test_error_quantiles_route(case: Case, run: Callable[..., Result]) -> None:
     a = riskreport.assess(case.write())
     for r in a.horizons:
         assert r.distribution == "given-quantiles"
-        assert r.quantiles["0.5"] == pytest.approx(r.point_forecast, abs=1e-9)
+        assert r.quantiles.q50 == pytest.approx(r.point_forecast, abs=1e-9)
         truth = stats.norm(r.point_forecast, 0.5 + 0.1 * r.h)
         assert r.p_inside == pytest.approx(truth.cdf(r.band[1]) - truth.cdf(r.band[0]), abs=1e-6)
     # Bad quantile files get the usual one-line error.
@@ -180,18 +181,19 @@ def test_given_error_quantiles_are_used_exactly_as_given(case: Case) -> None:
     a = riskreport.assess(case.write())
     r = a.horizons[2]
     assert r.distribution == "given-quantiles"
-    got = [r.quantiles[f"{q:g}"] - r.point_forecast for q in levels]
+    assert Quantiles.levels() == levels
+    got = [v - r.point_forecast for _, v in r.quantiles.items()]
     assert got == pytest.approx(values, abs=1e-9)
     assert r.n_errors is None
     assert [x.n_errors is None for x in a.horizons] == [False, False, True, False]
     # The learned horizons still obey the rule among themselves (h = 3 no narrower than h = 1).
-    width = {h: a.horizons[h].quantiles["0.95"] - a.horizons[h].quantiles["0.05"] for h in (1, 3)}
+    width = {h: a.horizons[h].quantiles.q95 - a.horizons[h].quantiles.q05 for h in (1, 3)}
     assert width[3] >= width[1] - 1e-9
     assert any("given (error_quantiles) for horizons 2" in w and "exactly" in w for w in a.warnings)
     from riskreport.report import context
 
     c = context.build(a, {}, "run")
-    facts = {k.label: k.value for k in c.method + c.samples}
+    facts = {k.label: k.value for k in c.method.facts.rows}
     assert facts["Given error distribution"].startswith("2 months ahead")
     assert "given at 2 months ahead" in facts["Past errors per horizon"]
 
@@ -210,7 +212,8 @@ def test_recalibration_leaves_a_given_distribution_as_given(case: Case, method: 
     ).replace("window = 0", f'window = 0\nrecalibrate = true\nrecalibration = "{method}"')
     a = riskreport.assess(case.write())
     r = a.horizons[2]
-    got = [r.quantiles[f"{q:g}"] - r.point_forecast for q in levels]
+    assert Quantiles.levels() == levels
+    got = [v - r.point_forecast for _, v in r.quantiles.items()]
     assert got == pytest.approx(values, abs=1e-9)
     assert a.adjustments is not None
     row = next(x for x in a.adjustments.recalibration if x.h == 2)

@@ -23,10 +23,12 @@ from matplotlib.figure import Figure
 from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.assessment import Assessment, HorizonResult
+from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import summary_horizons
 
 if TYPE_CHECKING:
     from riskreport.change import ChangeHorizon
+    from riskreport.density import DensityCurve
 
 MM = 1 / 25.4  # inches per millimetre: figures are sized to their box in the page CSS
 
@@ -131,15 +133,15 @@ def outlook_figure(assessment: Assessment, width_mm: float = 170, height_mm: flo
         )
         for edge in (lowers, uppers):
             ax.step(band_x, [edge[0], *edge], where="post", color=BAND_EDGE, lw=0.8, ls=(0, (3, 2)))
-        for name, (lo, hi) in {
-            "90%": ("0.05", "0.95"),
-            "80%": ("0.1", "0.9"),
-            "50%": ("0.25", "0.75"),
-        }.items():
+        for name, ranges in (
+            ("90%", [r.quantiles.range_90 for r in rows]),
+            ("80%", [r.quantiles.range_80 for r in rows]),
+            ("50%", [r.quantiles.range_50 for r in rows]),
+        ):
             ax.fill_between(
                 x,
-                [r.quantiles[lo] for r in rows],
-                [r.quantiles[hi] for r in rows],
+                [lo for lo, _ in ranges],
+                [hi for _, hi in ranges],
                 color=FAN[name],
                 linewidth=0,
                 zorder=1,
@@ -478,3 +480,98 @@ def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48
             bbox_to_anchor=(0.5, -0.28),
         )
         return Chart("weights", _svg(fig), width_mm, height_mm)
+
+
+def density_curves(c: DensityCurve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The x grid and the two densities exactly as drawn (after judgement, model-based)."""
+    return np.array(c.x), np.array(c.pdf), np.array(c.model_based_pdf)
+
+
+def density(a: Assessment, c: DensityCurve, width_mm: float = 84, height_mm: float = 52) -> Chart:
+    """The outcome density chart of one period (``c`` from ``a.density``), as SVG."""
+    with matplotlib.rc_context(_RC):
+        fig = density_figure(a, c, width_mm, height_mm)
+        return Chart(f"density-h{c.h}", _svg(fig), width_mm, height_mm)
+
+
+def density_figure(
+    a: Assessment, c: DensityCurve, width_mm: float = 84, height_mm: float = 52
+) -> Figure:
+    """The predictive density in one period, the band shaded, the three probabilities
+    labelled, model-based and after judgement overlaid; the first line drawn after the two
+    band edges is the density after judgement."""
+    r = a.horizon_result(c.h)
+    lower, upper = r.band
+    x, f, g = density_curves(c)
+    below, inside, above = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
+    judged = bool(a.judgement) and c.pdf != c.model_based_pdf
+    with matplotlib.rc_context(_RC):
+        fig = _figure(width_mm, height_mm)
+        ax = fig.add_subplot()
+        top = float(max(f.max(), g.max())) * 1.45
+        ax.axvspan(lower, upper, facecolor="none", edgecolor=GRID, hatch="////", lw=0)
+        ax.axvline(lower, color=BAND_EDGE, lw=0.6)
+        ax.axvline(upper, color=BAND_EDGE, lw=0.6)
+        inside_mask = (x >= lower) & (x <= upper)
+        ax.fill_between(x, 0, f, where=inside_mask, color=FAN["80%"], lw=0, alpha=0.9)
+        ax.plot(x, f, color=INK, lw=1.2, label="after judgement" if judged else "outcome density")
+        if judged:
+            ax.plot(x, g, color=BAND_EDGE, lw=1.0, ls=(0, (4, 2)), label="model-based")
+        # inside on the top row, below and above one row lower, so narrow bands stay legible
+        for text, xpos, ha, key, row in (
+            (f"below {below}", lower, "right", "below", 0.86),
+            (f"inside {inside}", (lower + upper) / 2, "center", "inside", 0.98),
+            (f"above {above}", upper, "left", "above", 0.86),
+        ):
+            offset = {"right": -3, "center": 0, "left": 3}[ha]
+            ax.annotate(
+                text,
+                (xpos, top * row),
+                xytext=(offset, 0),
+                textcoords="offset points",
+                ha=ha,
+                va="top",
+                fontsize=7.5,
+                color=OUTCOME_STYLE[key]["color"],
+                bbox={"facecolor": "white", "edgecolor": "none", "pad": 1},
+            )
+        ax.set_ylim(0, top)
+        ax.set_xlim(float(x[0]), float(x[-1]))
+        ax.set_xlabel(f"inflation in {c.period}, %")
+        ax.set_ylabel("density")
+        ax.set_yticks([])
+        ax.grid(axis="x", color=GRID, lw=0.4)
+        ax.spines[["top", "right", "left"]].set_visible(False)
+        if judged:
+            ax.legend(loc="center right", frameon=False, fontsize=7)
+        return fig
+
+
+def round_history(a: Assessment, width_mm: float = 84, height_mm: float = 40) -> Chart:
+    """P(inside) for the policy-horizon period, by the brief that stated it."""
+    style = OUTCOME_STYLE["inside"]
+    points = a.round_history
+    with matplotlib.rc_context(_RC):
+        fig = _figure(width_mm, height_mm)
+        ax = fig.add_subplot()
+        x = list(range(len(points)))
+        y = [100 * p.p_inside for p in points]
+        ax.plot(x, y, color=style["color"], ls=style["linestyle"], marker=style["marker"], ms=4)
+        for xi, yi, p in zip(x, y, points, strict=True):
+            ax.annotate(
+                fmt.single_percent(p.p_inside),
+                (xi, yi),
+                xytext=(0, 5),
+                textcoords="offset points",
+                ha="center",
+                fontsize=7,
+                color=style["color"],
+            )
+        ax.set_xticks(x, [p.as_of for p in points], fontsize=7)
+        ax.set_xlim(-0.5, len(points) - 0.5)
+        ax.set_ylim(0, 100)
+        ax.set_ylabel(f"inside in {points[-1].period}, %", fontsize=7)
+        ax.set_xlabel("brief", fontsize=7, color=BAND_EDGE)
+        ax.grid(axis="y", color=GRID, lw=0.4)
+        ax.spines[["top", "right"]].set_visible(False)
+        return Chart("round-history", _svg(fig), width_mm, height_mm)

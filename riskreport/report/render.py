@@ -54,20 +54,16 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
             outlook.PROBABILITIES_CAPTION,
         ),
     ]
-    from riskreport.report import density_chart
-
     for curve in a.density:
         made.append(
             (
-                density_chart.density(a, curve),
-                density_chart.alt_text(a, curve),
-                density_chart.caption(a, curve),
+                charts_module.density(a, curve),
+                outlook.density_alt(a, curve),
+                outlook.density_caption(a, curve),
             )
         )
-    from riskreport.report import round_history
-
-    if round_history.shown(a):
-        made.append((round_history.chart(a), round_history.alt_text(a), round_history.CAPTION))
+    if outlook.rounds_shown(a):
+        made.append((charts_module.round_history(a), outlook.round_alt(a), outlook.ROUND_CAPTION))
     if a.change and a.change.horizons:
         made.append(
             (charts_module.change_parts(a), summary.change_alt(a), summary.change_caption(a))

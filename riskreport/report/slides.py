@@ -19,7 +19,7 @@ from matplotlib.figure import Figure
 from PIL.PngImagePlugin import PngInfo
 
 from riskreport.assessment import Assessment
-from riskreport.report import charts, density_chart
+from riskreport.report import charts
 from riskreport.report.sections import outlook
 
 SLIDE_INCHES = (13.33, 7.5)
@@ -69,8 +69,8 @@ def _charts(a: Assessment) -> list[tuple[str, Callable[[float, float], Figure], 
         made.append(
             (
                 f"density-h{c.h}",
-                lambda w, h, c=c: density_chart.draw(a, c, w, h),  # type: ignore[misc]
-                density_chart.alt_text(a, c),
+                lambda w, h, c=c: charts.density_figure(a, c, w, h),  # type: ignore[misc]
+                outlook.density_alt(a, c),
             )
         )
     return made

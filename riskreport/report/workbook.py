@@ -23,7 +23,7 @@ from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 from openpyxl.writer.excel import ExcelWriter
 
-from riskreport.assessment import Assessment, HorizonResult
+from riskreport.assessment import Assessment, HorizonResult, Quantiles
 from riskreport.report.render import created_date
 from riskreport.report.sections import summary
 
@@ -79,7 +79,7 @@ def _horizon_rows(rows: Sequence[HorizonResult]) -> list[tuple[Cell, ...]]:
             r.p_above,
             r.p_inside_interval[0],
             r.p_inside_interval[1],
-            *r.quantiles.values(),
+            *(v for _, v in r.quantiles.items()),
             r.distribution,
             r.n_errors,
         )
@@ -100,7 +100,7 @@ def _horizon_columns(a: Assessment) -> tuple[str, ...]:
         "p_above",
         "p_inside_lo",
         "p_inside_hi",
-        *(f"q{k}" for k in a.horizons[0].quantiles),
+        *(f"q{k}" for k in Quantiles.keys()),
         "distribution",
         "n_errors",
     )

@@ -1,5 +1,5 @@
-"""The appendix: probabilities for every reported period and the data behind the calibration
-charts."""
+"""The appendix: probabilities for every reported period, the thresholds beyond the band and
+the data behind the calibration charts."""
 
 from __future__ import annotations
 
@@ -7,7 +7,18 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import ProbabilityRow, probability_row
+from riskreport.report.sections.common import (
+    BAND_TEXT,
+    INTERVAL_TEXT,
+    ProbabilityRow,
+    Table,
+    ahead_label,
+    probability_head,
+    probability_row,
+    summary_horizons,
+    threshold_label,
+)
+from riskreport.report.sections.summary import centre_label
 
 PIT_BINS = tuple(str(k) for k in range(1, 11))  # the ten tenths of the PIT histograms
 
@@ -56,4 +67,114 @@ def reliability_rows(a: Assessment) -> tuple[ReliabilityRow, ...]:
             str(r.n),
         )
         for r in a.calibration.brier.reliability
+    )
+
+
+@dataclass(frozen=True)
+class ThresholdRow:
+    """One row of the thresholds table: a threshold in one period, every number as printed."""
+
+    threshold: str
+    period: str
+    h: str
+    below: str
+    above: str
+    below_once: str
+    above_once: str
+    is_policy: bool
+
+
+def threshold_rows(a: Assessment, shown: tuple[int, ...]) -> tuple[ThresholdRow, ...]:
+    """Each ``[target] thresholds`` line at the brief's summary horizons."""
+    rows = []
+    for t in a.thresholds:
+        for at, path in zip(t.horizons, t.path, strict=True):
+            if at.h not in shown:
+                continue
+            rows.append(
+                ThresholdRow(
+                    threshold=threshold_label(t.threshold),
+                    period=at.period,
+                    h=str(at.h),
+                    below=fmt.single_percent(at.p_below),
+                    above=fmt.single_percent(at.p_above),
+                    below_once=fmt.single_percent(path.p_below_at_least_once),
+                    above_once=fmt.single_percent(path.p_above_at_least_once),
+                    is_policy=at.h == a.policy_horizon,
+                )
+            )
+    return tuple(rows)
+
+
+THRESHOLD_TEXT = (
+    "Below means strictly below the line and above strictly above it (the line itself has "
+    "no probability of its own). \u201cAt least once\u201d is counted on the same simulated "
+    "paths as the band\u2019s path probabilities, from the first reported period up to the "
+    "one shown."
+)
+
+
+@dataclass(frozen=True)
+class AppendixContext:
+    """The appendix as printed: every period, the thresholds and the calibration data."""
+
+    heading: str
+    text: str
+    periods: Table[ProbabilityRow]
+    thresholds_heading: str
+    thresholds_text: str
+    thresholds: Table[ThresholdRow]
+    calibration_heading: str
+    pit: Table[PitRow]
+    reliability: Table[ReliabilityRow]
+
+
+def lead(a: Assessment) -> str:
+    """The paragraph under the appendix heading."""
+    return (
+        "The data behind the outlook and probability charts. Models' forecast: the combined "
+        f"forecast of the models. Centre: the most likely value, {centre_label(a)}. "
+        f"{INTERVAL_TEXT} {BAND_TEXT}"
+    )
+
+
+def context(a: Assessment) -> AppendixContext:
+    """The appendix."""
+    ahead = ahead_label(a)
+    return AppendixContext(
+        heading="Appendix: probabilities by period",
+        text=lead(a),
+        periods=Table(
+            "Below, inside and above the band for every reported period, after judgement",
+            probability_head(a),
+            all_rows(a),
+        ),
+        thresholds_heading="Thresholds beyond the band",
+        thresholds_text=THRESHOLD_TEXT,
+        thresholds=Table(
+            "Probability of inflation below or above each threshold, and of crossing it at "
+            "least once, after judgement",
+            ThresholdRow(
+                threshold="Threshold",
+                period="Period",
+                h=ahead,
+                below="Below",
+                above="Above",
+                below_once="Below at least once",
+                above_once="Above at least once",
+                is_policy=False,
+            ),
+            threshold_rows(a, summary_horizons(a)),
+        ),
+        calibration_heading="Data behind the calibration charts",
+        pit=Table(
+            "PIT counts by tenth of the distribution, by horizon group",
+            PitRow(group=ahead, counts=PIT_BINS, n="n"),
+            pit_rows(a),
+        ),
+        reliability=Table(
+            "Said versus happened, probability of inside",
+            ReliabilityRow(said="Said", happened="Happened", n="Cases"),
+            reliability_rows(a),
+        ),
     )

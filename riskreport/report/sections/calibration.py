@@ -3,12 +3,23 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.calibration import MIN_TEST_ROUNDS, CoverageResult
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import FAMILY_NAMES, SIGNIFICANCE, join_h, units
+from riskreport.report.sections.common import (
+    FAMILY_NAMES,
+    SIGNIFICANCE,
+    ChartBlock,
+    Table,
+    ahead_label,
+    chart,
+    join_h,
+    summary_horizons,
+    units,
+)
 
 
 def coverage(a: Assessment, h: int, nominal: float) -> CoverageResult | None:
@@ -172,3 +183,32 @@ def reliability_alt(a: Assessment) -> str:
         for r in rows
     ]
     return "Reliability of the probability of being inside the band: " + "; ".join(parts) + "."
+
+
+@dataclass(frozen=True)
+class CalibrationContext:
+    """The calibration section as printed: would past probability statements have held?"""
+
+    heading: str
+    text: tuple[str, ...]
+    pit: ChartBlock | None
+    reliability: ChartBlock | None
+    coverage: Table[CoverageRow]
+
+
+def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> CalibrationContext:
+    """The calibration section at the horizons the compact tables show."""
+    lines, rows = calibration(a, summary_horizons(a))
+    return CalibrationContext(
+        heading="Would past probability statements have held?",
+        text=lines,
+        pit=chart(charts, "pit"),
+        reliability=chart(charts, "reliability"),
+        coverage=Table(
+            "How often the central ranges held the outcome in past rounds",
+            CoverageRow(
+                horizon=ahead_label(a), half="50% range", ninety="90% range", rounds="Rounds"
+            ),
+            rows,
+        ),
+    )

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
+from typing import Generic, TypeVar
 
 from riskreport import verbal
 from riskreport.assessment import Assessment, HorizonResult
@@ -36,6 +38,35 @@ class ChartBlock:
     height_mm: float
     alt: str
     caption: str
+
+
+Row = TypeVar("Row")
+
+
+@dataclass(frozen=True)
+class Table(Generic[Row]):
+    """A table as the brief prints it: caption, heading row and rows.
+
+    The heading row is a row of the same type whose cells are the column headings, so a
+    heading sits in the same named field as the cells below it.
+    """
+
+    caption: str
+    head: Row
+    rows: tuple[Row, ...]
+
+
+@dataclass(frozen=True)
+class Facts:
+    """A table of labelled facts (no heading row)."""
+
+    caption: str
+    rows: tuple[KeyValue, ...]
+
+
+def chart(charts: Mapping[str, ChartBlock], name: str) -> ChartBlock | None:
+    """The chart ``name`` if it was drawn (a brief without that part has none)."""
+    return charts.get(name)
 
 
 @dataclass(frozen=True)
@@ -153,26 +184,16 @@ BAND_TEXT = (
 )
 
 
-@dataclass(frozen=True)
-class TableLabels:
-    """Column headings of the probability tables."""
-
-    period: str
-    ahead: str
-    band: str
-    forecast: str
-    centre: str
-    below: str
-    inside: str
-    above: str
-    interval: str
+def ahead_label(a: Assessment) -> str:
+    """The heading of a column of horizons: "Months ahead" or "Quarters ahead"."""
+    return "Months ahead" if a.frequency == "monthly" else "Quarters ahead"
 
 
-def table_labels(a: Assessment) -> TableLabels:
-    """The headings, in the brief's frequency."""
-    return TableLabels(
+def probability_head(a: Assessment) -> ProbabilityRow:
+    """The heading row of the probability tables, in the brief's frequency."""
+    return ProbabilityRow(
         period="Period",
-        ahead="Months ahead" if a.frequency == "monthly" else "Quarters ahead",
+        h=ahead_label(a),
         band="Band",
         forecast="Models' forecast",
         centre="Centre",
@@ -180,6 +201,7 @@ def table_labels(a: Assessment) -> TableLabels:
         inside="Inside",
         above="Above",
         interval="Inside: plausible range",
+        is_policy=False,
     )
 
 
@@ -202,3 +224,29 @@ def ahead_header(a: Assessment, h: int) -> str:
     if h == 0:
         return "now"
     return f"{h} {units(a) if h != 1 else units(a)[:-1]}"
+
+
+def threshold_label(value: float) -> str:
+    """A ``[target] thresholds`` line as printed: "0%", "5.5%", "-1%" (typographic minus)."""
+    digits = 0 if float(value).is_integer() else 1
+    return f"{fmt.number(value, digits)}%"
+
+
+def period_table(a: Assessment) -> Table[ProbabilityRow]:
+    """Below / inside / above at the horizons the compact tables show (page 1, or the head of
+    the outlook when page 1 speaks of calendar years)."""
+    varies = band_varies(a)
+    return Table(
+        caption="Probability that inflation is below, inside or above the target band"
+        + ("" if varies else f" ({band_label(a.horizons[0].band)})")
+        + "; the policy horizon in bold",
+        head=probability_head(a),
+        rows=tuple(
+            probability_row(a.horizon_result(h), a.policy_horizon) for h in summary_horizons(a)
+        ),
+    )
+
+
+def band_varies(a: Assessment) -> bool:
+    """Whether the band changes over the reported periods (then tables show it per row)."""
+    return len({r.band for r in a.horizons}) > 1

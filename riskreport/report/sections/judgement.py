@@ -6,12 +6,12 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment, HorizonResult, ScenarioHorizon
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import triple
+from riskreport.report.sections.common import Table, triple
 
 
 @dataclass(frozen=True)
-class OverlayRow:
-    """Model-based against adjusted probabilities for one period the overlay moved."""
+class JudgementRow:
+    """Model-based against adjusted probabilities for one period the judgement moved."""
 
     period: str
     model_based: str
@@ -20,7 +20,7 @@ class OverlayRow:
 
 
 @dataclass(frozen=True)
-class OverlayEntry:
+class JudgementEntry:
     """One judgement entry as the brief prints it."""
 
     periods: str
@@ -28,11 +28,11 @@ class OverlayEntry:
     reason: str
 
 
-def overlay(a: Assessment) -> tuple[tuple[OverlayEntry, ...], tuple[OverlayRow, ...], str]:
+def applied(a: Assessment) -> tuple[tuple[JudgementEntry, ...], tuple[JudgementRow, ...], str]:
     if not a.judgement:
-        return (), (), "No staff judgement overlay is applied in this brief."
+        return (), (), "No staff judgement is applied in this brief."
     entries = tuple(
-        OverlayEntry(
+        JudgementEntry(
             periods=f"{j.start} to {j.end}",
             terms=(
                 f"centre {fmt.number(j.shift, 2, signed=True)} pp; spread \u00d7{fmt.number(j.scale, 2)}; "
@@ -48,7 +48,7 @@ def overlay(a: Assessment) -> tuple[tuple[OverlayEntry, ...], tuple[OverlayRow, 
         if base.period not in moved:
             continue
         rows.append(
-            OverlayRow(
+            JudgementRow(
                 period=base.period,
                 model_based=" / ".join(triple(base)),
                 adjusted=" / ".join(triple(final)),
@@ -56,7 +56,7 @@ def overlay(a: Assessment) -> tuple[tuple[OverlayEntry, ...], tuple[OverlayRow, 
             )
         )
     text = (
-        "The overlay maps the model-based distribution of each period it covers: the shift "
+        "Each judgement maps the model-based distribution of each period it covers: the shift "
         "moves the centre, the scale multiplies the spread, and the skew adds to the mean "
         "minus the mode (positive tilts the risks upwards), the published method of Britton, "
         "Fisher and Whitley (1998) and Wallis (2004). Both sets of probabilities are shown; "
@@ -117,3 +117,62 @@ def title(a: Assessment) -> str:
     if a.judgement and a.scenarios:
         return "Staff judgement and scenarios"
     return "Staff judgement" if a.judgement else "Scenarios"
+
+
+SCENARIOS_TEXT = (
+    "Each scenario is a further judgement on the baseline, stated by staff. Below / inside / above the "
+    "band, and the change in inside against the baseline."
+)
+
+
+@dataclass(frozen=True)
+class JudgementContext:
+    """The staff judgement and scenarios section as printed (``shown`` is False when the
+    brief has neither)."""
+
+    shown: bool
+    heading: str
+    text: str
+    entries: Table[JudgementEntry]
+    moves: Table[JudgementRow]
+    scenarios_heading: str
+    scenarios_text: str
+    scenarios: Table[ScenarioRow]
+
+
+def context(a: Assessment) -> JudgementContext:
+    """The staff judgement and scenarios section."""
+    entries, moves, text = applied(a)
+    first, second = scenario_horizons(a)
+    return JudgementContext(
+        shown=bool(a.judgement or a.scenarios),
+        heading=title(a),
+        text=text,
+        entries=Table(
+            "Judgement applied, with the reasons given by staff",
+            JudgementEntry(periods="Periods", terms="Terms", reason="Reason"),
+            entries,
+        ),
+        moves=Table(
+            "Below / inside / above: model-based and after judgement",
+            JudgementRow(
+                period="Period",
+                model_based="Model-based",
+                adjusted="After judgement",
+                change="Change in inside",
+            ),
+            moves,
+        ),
+        scenarios_heading="Alternative scenarios",
+        scenarios_text=SCENARIOS_TEXT,
+        scenarios=Table(
+            "Scenarios next to the baseline",
+            ScenarioRow(
+                name="Scenario",
+                reason="",
+                first=a.horizon_result(first).period,
+                second=f"{a.horizon_result(second).period} (policy horizon)",
+            ),
+            scenario_rows(a) if a.scenarios else (),
+        ),
+    )

@@ -10,7 +10,16 @@ from riskreport import periods
 from riskreport.adjustments import Adjustments
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import FAMILY_NAMES, KeyValue, scale_of, span, units
+from riskreport.report.sections.common import (
+    FAMILY_NAMES,
+    Facts,
+    KeyValue,
+    Table,
+    scale_of,
+    span,
+    units,
+)
+from riskreport.report.sections.summary import CAUTIONS
 
 VINTAGE_TEXT = {
     "first-release": "the first release of each outcome published by the as_of date "
@@ -73,7 +82,7 @@ def distribution_text(a: Assessment) -> str:
     return text + "."
 
 
-OVERLAY_SOURCES = (
+JUDGEMENT_SOURCES = (
     "Britton, Fisher and Whitley (1998), The Inflation Report projections: understanding "
     "the fan chart, Bank of England Quarterly Bulletin 38(1); Wallis (2004), An assessment "
     "of Bank of England and National Institute inflation forecast uncertainties, National "
@@ -82,12 +91,12 @@ OVERLAY_SOURCES = (
 
 
 def judgement_text(a: Assessment) -> str:
-    """The method line on staff judgement, with the overlay's published sources."""
+    """The method line on staff judgement, with its published sources."""
     if not a.judgement:
         return "None applied in this brief: the probabilities are model-based."
     return (
-        "An overlay on the model-based distribution: a shift of the centre, a scale of the "
-        "spread and a skew (mean minus mode) of a two-piece normal, as in " + OVERLAY_SOURCES
+        "An adjustment of the model-based distribution: a shift of the centre, a scale of the "
+        "spread and a skew (mean minus mode) of a two-piece normal, as in " + JUDGEMENT_SOURCES
     )
 
 
@@ -346,3 +355,52 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
             "as less certain than they look."
         )
     return tuple(lines)
+
+
+SENSITIVITY_HEAD = SensitivityLine(
+    method="Method",
+    p_inside="Inside",
+    log_score="Log score",
+    coverage_90="90% range held",
+    chosen="Today",
+)
+INPUTS_HEAD = InputRow(role="Role", path="File", sha256="SHA-256", rows="Rows", span="Periods")
+
+
+@dataclass(frozen=True)
+class MethodContext:
+    """The method and data section as printed."""
+
+    heading: str
+    facts: Facts
+    adjustments_heading: str
+    adjustment_text: tuple[str, ...]
+    sensitivity: Table[SensitivityLine]
+    inputs: Table[InputRow]
+    models: Facts
+    warnings_heading: str
+    warnings: tuple[str, ...]
+    no_warnings: str
+    cautions_heading: str
+    cautions: tuple[str, ...]
+    software: str
+
+
+def context(a: Assessment) -> MethodContext:
+    """The method and data section: how the numbers were made, the adjustments, the inputs,
+    the models, the warnings and the software."""
+    return MethodContext(
+        heading="Method and data",
+        facts=Facts("How the numbers were made", method_facts(a) + sample_facts(a)),
+        adjustments_heading="Calibration adjustments",
+        adjustment_text=adjustment_text(a),
+        sensitivity=Table(sensitivity_caption(a), SENSITIVITY_HEAD, sensitivity_lines(a)),
+        inputs=Table("Inputs", INPUTS_HEAD, input_rows(a)),
+        models=Facts("Models in the forecasts file", model_facts(a)),
+        warnings_heading="Warnings",
+        warnings=a.warnings,
+        no_warnings="None.",
+        cautions_heading="Cautions",
+        cautions=CAUTIONS,
+        software="Software: " + ", ".join(f"{k} {v}" for k, v in a.software.items()) + ".",
+    )

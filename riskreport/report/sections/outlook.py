@@ -1,20 +1,32 @@
-"""The outlook section: the fan and probability charts, the path probabilities and the calendar years."""
+"""The outlook section: the fan and probability charts, the path probabilities, the calendar
+years, the outcome densities and the probability of inside across rounds."""
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from riskreport.annual import AnnualResult
 from riskreport.assessment import Assessment, BasisResult
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
+    ChartBlock,
+    ProbabilityRow,
+    Table,
+    ahead_label,
     band_label,
+    band_varies,
+    chart,
+    period_table,
     phrase,
     probability_row,
     summary_horizons,
     units,
 )
+
+if TYPE_CHECKING:
+    from riskreport.density import DensityCurve
 
 
 @dataclass(frozen=True)
@@ -28,6 +40,7 @@ class AnnualRow:
     inside: str
     above: str
     observed: str
+    basis_observed: str  # the basis, with the periods observed where there are any
 
 
 def annual_rows(
@@ -37,10 +50,11 @@ def annual_rows(
     unit = "months" if a.frequency == "monthly" else "quarters"
     for r in a.annual if results is None else results:
         texts = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
+        basis = "calendar-year average" if r.basis == "calendar-year-average" else "year end"
         rows.append(
             AnnualRow(
                 year=str(r.year),
-                basis="calendar-year average" if r.basis == "calendar-year-average" else "year end",
+                basis=basis,
                 band=band_label(r.band),
                 below=texts[0],
                 inside=texts[1],
@@ -48,6 +62,8 @@ def annual_rows(
                 observed=f"{r.observed_periods} {unit} observed"
                 if r.observed_periods
                 else "none observed",
+                basis_observed=basis
+                + (f" ({r.observed_periods} {unit} observed)" if r.observed_periods else ""),
             )
         )
     return tuple(rows)
@@ -120,8 +136,8 @@ def outlook_alt(a: Assessment) -> str:
         f"and the forecast from {first.period} to {last.period}, over the target band "
         f"{band_label(policy.band)}. The centre path runs from "
         f"{fmt.number(first.centre)}% to {fmt.number(last.centre)}%; at the policy horizon "
-        f"({policy.period}) the 90% band spans {fmt.number(policy.quantiles['0.05'])}% to "
-        f"{fmt.number(policy.quantiles['0.95'])}%. The numbers are in the appendix table."
+        f"({policy.period}) the 90% band spans {fmt.number(policy.quantiles.q05)}% to "
+        f"{fmt.number(policy.quantiles.q95)}%. The numbers are in the appendix table."
     )
 
 
@@ -134,4 +150,169 @@ def probabilities_alt(a: Assessment) -> str:
         f"{fmt.single_percent(policy.p_inside)} at the policy horizon ({policy.h} {units(a)} ahead); above "
         f"is {fmt.single_percent(policy.p_above)} and below {fmt.single_percent(policy.p_below)} "
         "there. The numbers are in the appendix table."
+    )
+
+
+def density_alt(a: Assessment, c: DensityCurve) -> str:
+    """Alt text of the outcome density chart of one period: what it shows, in words and numbers."""
+    r = a.horizon_result(c.h)
+    below, inside, above = fmt.outcome_texts(r.p_below, r.p_inside, r.p_above)
+    text = (
+        f"Density of inflation in {c.period} (h = {c.h}) over the target band "
+        f"{band_label(r.band)}: most likely {fmt.number(r.centre)}%, 90% between "
+        f"{fmt.number(r.quantiles.q05)}% and {fmt.number(r.quantiles.q95)}%; "
+        f"below the band {below}, inside {inside}, above {above}."
+    )
+    if a.judgement and c.pdf != c.model_based_pdf:
+        m = a.horizon_result(c.h, model_based=True)
+        mb, mi, ma = fmt.outcome_texts(m.p_below, m.p_inside, m.p_above)
+        text += (
+            f" The model-based density (dashed) is centred at {fmt.number(m.centre)}%, "
+            f"with below {mb}, inside {mi}, above {ma}."
+        )
+    return text
+
+
+def density_caption(a: Assessment, c: DensityCurve) -> str:
+    """The caption under the outcome density chart of one period."""
+    judged = a.judgement and c.pdf != c.model_based_pdf
+    return f"Outcome density in {c.period}: the band hatched, the share inside it shaded" + (
+        "; model-based (dashed) and after judgement (solid)." if judged else "."
+    )
+
+
+# Across rounds: how P(inside) for the policy-horizon period moved from one brief to the next.
+
+
+def rounds_shown(a: Assessment) -> bool:
+    """Whether there is anything to show: at least one earlier round reported the period."""
+    return len(a.round_history) >= 2
+
+
+@dataclass(frozen=True)
+class RoundRow:
+    """One brief's statement about the policy-horizon period, as printed."""
+
+    brief: str
+    ahead: str
+    inside: str
+
+
+def round_rows(a: Assessment) -> tuple[RoundRow, ...]:
+    """Table rows: brief (as_of), periods ahead then, P(inside) as printed."""
+    return tuple(
+        RoundRow(
+            p.as_of + (" (this brief)" if p.current else ""),
+            str(p.h),
+            fmt.single_percent(p.p_inside),
+        )
+        for p in a.round_history
+    )
+
+
+def round_text(a: Assessment) -> str:
+    """From the first round shown to this one: the policy-horizon period, then the current
+    calendar year when earlier briefs stated it."""
+    first, last = a.round_history[0], a.round_history[-1]
+    sentence = (
+        f"The probability of inflation inside the band in {last.period} (the policy horizon) "
+        f"as each brief in the output folder stated it: {fmt.single_percent(first.p_inside)} "
+        f"in the brief of {first.as_of}, {fmt.single_percent(last.p_inside)} now "
+        f"({fmt.points(last.p_inside - first.p_inside)})."
+    )
+    if len(a.year_history) >= 2:
+        y0, y1 = a.year_history[0], a.year_history[-1]
+        measure = "year-end rate" if y1.basis == "year-end" else "average"
+        sentence += (
+            f" For {y1.year} as a whole ({measure}): {fmt.single_percent(y0.p_inside)} in the "
+            f"brief of {y0.as_of}, {fmt.single_percent(y1.p_inside)} now "
+            f"({fmt.points(y1.p_inside - y0.p_inside)})."
+        )
+    return sentence
+
+
+def round_alt(a: Assessment) -> str:
+    """Alt text of the across-rounds chart."""
+    parts = [f"{p.as_of}: {fmt.single_percent(p.p_inside)}" for p in a.round_history]
+    return (
+        f"Line chart of the probability of inflation inside the band in "
+        f"{a.round_history[-1].period}, as stated by each brief: " + "; ".join(parts) + "."
+    )
+
+
+ROUND_CAPTION = "Probability of inside for the policy-horizon period, by the brief that stated it."
+
+
+YEARS_HEAD = AnnualRow(
+    year="Year",
+    basis="Basis",
+    band="Band",
+    below="Below",
+    inside="Inside",
+    above="Above",
+    observed="Observed",
+    basis_observed="Basis",
+)
+PATHS_HEAD = PathRow(period="Up to", throughout="Inside throughout", once="Inside at least once")
+
+
+@dataclass(frozen=True)
+class OutlookContext:
+    """The outlook section as printed: its charts, tables and paragraphs."""
+
+    heading: str
+    periods_heading: str
+    periods: Table[ProbabilityRow] | None  # here when page 1 speaks of calendar years
+    text: tuple[str, ...]
+    fan: ChartBlock | None
+    probabilities: ChartBlock | None
+    paths_heading: str
+    paths: Table[PathRow]
+    years_heading: str
+    years: Table[AnnualRow]
+    years_text: str
+    change_heading: str
+    change: ChartBlock | None
+    densities_heading: str
+    densities: tuple[ChartBlock, ...]
+    rounds_heading: str
+    rounds_text: str
+    rounds_chart: ChartBlock | None
+    rounds: Table[RoundRow]
+
+
+def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> OutlookContext:
+    """The outlook section, with the charts drawn for it (looked up by name in ``charts``)."""
+    shown = rounds_shown(a)
+    band = "" if band_varies(a) else f" ({band_label(a.horizons[0].band)})"
+    return OutlookContext(
+        heading="Outlook",
+        periods_heading="Per period (supporting detail)",
+        periods=period_table(a) if a.basis_results else None,
+        text=outlook_text(a),
+        fan=chart(charts, "outlook"),
+        probabilities=chart(charts, "band-probabilities"),
+        paths_heading="Staying inside the band",
+        paths=Table(
+            f"Joint probabilities from {a.horizons[0].period} up to each period",
+            PATHS_HEAD,
+            path_rows(a),
+        ),
+        years_heading="Calendar years",
+        years=Table(f"Calendar-year average and year-end value{band}", YEARS_HEAD, annual_rows(a)),
+        years_text=annual_text(a),
+        change_heading="Since the last brief, by period",
+        change=chart(charts, "change"),
+        densities_heading="The outcome at a glance",
+        densities=tuple(
+            block for c in a.density if (block := chart(charts, f"density-h{c.h}")) is not None
+        ),
+        rounds_heading="Across rounds",
+        rounds_text=round_text(a) if shown else "",
+        rounds_chart=chart(charts, "round-history"),
+        rounds=Table(
+            "Inside the band in the policy-horizon period, by brief",
+            RoundRow(brief="Brief", ahead=f"{ahead_label(a)} then", inside="Inside"),
+            round_rows(a) if shown else (),
+        ),
     )

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from riskreport import verbal
 from riskreport.assessment import Assessment
@@ -10,14 +12,23 @@ from riskreport.calibration import ReliabilityBin
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.calibration import COVERAGE_TOO_NARROW, COVERAGE_TOO_WIDE, coverage
 from riskreport.report.sections.common import (
+    INTERVAL_TEXT,
+    SHORT_BAND_TEXT,
     ProbabilityRow,
+    Table,
     band_label,
+    band_varies,
     inside_split,
+    period_table,
     phrase,
     probability_row,
     scale_of,
+    threshold_label,
 )
-from riskreport.report.sections.outlook import AnnualRow, annual_rows
+from riskreport.report.sections.outlook import YEARS_HEAD, AnnualRow, annual_rows
+
+if TYPE_CHECKING:
+    from riskreport.thresholds import ThresholdResult
 
 CAUTIONS: tuple[str, ...] = (
     "These probabilities are model estimates built from the errors of past forecasts; they "
@@ -47,18 +58,16 @@ def ahead(a: Assessment, h: int) -> str:
     return f"{h} {unit}{'s' if h != 1 else ''} ahead"
 
 
-def headline(a: Assessment) -> tuple[str, ProbabilityRow]:
+def headline(a: Assessment) -> str:
     """The first sentence: how likely inside at the policy horizon, on the target basis."""
+    if a.headline.basis != "period":
+        return _basis_headline(a)
     r = a.policy
     row = probability_row(r, a.policy_horizon)
-    head = a.headline
-    if head.basis != "period":
-        return _basis_headline(a), row
-    text = (
+    return (
         f"At the policy horizon ({r.period}, {ahead(a, r.h)}) inflation is "
         f"{inside_split(a, (row.below, row.inside, row.above), f'the {band_label(r.band)} target band')}."
     )
-    return text, row
 
 
 def _basis_headline(a: Assessment) -> str:
@@ -290,9 +299,13 @@ BASIS_CAPTIONS = {
 }
 
 
-def basis_rows(a: Assessment) -> tuple[AnnualRow, ...]:
-    """The summary table on a calendar-year basis: one row per year in view."""
-    return annual_rows(a, a.basis_results)
+def basis_table(a: Assessment) -> Table[AnnualRow] | None:
+    """The summary table on a calendar-year basis, one row per year in view (None on the
+    ``period`` basis, where page 1 shows the table by period)."""
+    rows = annual_rows(a, a.basis_results)
+    if not rows:
+        return None
+    return Table(BASIS_CAPTIONS[a.headline.basis], YEARS_HEAD, rows)
 
 
 def change_caption(a: Assessment) -> str:
@@ -317,4 +330,91 @@ def change_alt(a: Assessment) -> str:
         f"Bar chart of the change in the probability of being inside since {a.change.previous_as_of}: "
         + "; ".join(parts)
         + "."
+    )
+
+
+def _threshold_side(a: Assessment, t: ThresholdResult) -> str:
+    """The side of a threshold a board asks about: below a low line, above a high one."""
+    lower, upper = a.policy.band
+    return "below" if t.threshold < (lower + upper) / 2 else "above"
+
+
+def threshold_line(a: Assessment) -> str:
+    """One sentence on the ``[target] thresholds`` at the policy horizon (empty when none is set)."""
+    if not a.thresholds:
+        return ""
+    policy = a.policy
+    parts = []
+    for t in a.thresholds:
+        at = next(r for r in t.horizons if r.h == a.policy_horizon)
+        path = next(r for r in t.path if r.h == a.policy_horizon)
+        if _threshold_side(a, t) == "below":
+            parts.append(
+                f"below {threshold_label(t.threshold)} {fmt.single_percent(at.p_below)} "
+                f"(at least once by then {fmt.single_percent(path.p_below_at_least_once)})"
+            )
+        else:
+            parts.append(
+                f"above {threshold_label(t.threshold)} {fmt.single_percent(at.p_above)} "
+                f"(at least once by then {fmt.single_percent(path.p_above_at_least_once)})"
+            )
+    return (
+        f"Beyond the band, in {policy.period}: inflation " + "; ".join(parts) + ". "
+        f"\u201cAt least once\u201d counts every period from {a.horizons[0].period}."
+    )
+
+
+CAUTIONS_LABEL = "Cautions"
+
+
+@dataclass(frozen=True)
+class SummaryContext:
+    """Page 1 as printed: the headline, the messages, the summary table and the cautions."""
+
+    headline: str
+    messages: tuple[str, ...]
+    threshold_line: str
+    heading: str
+    basis: Table[AnnualRow] | None
+    periods: Table[ProbabilityRow] | None
+    show_band: bool
+    note: str
+    scale_key: str
+    change_heading: str
+    change_text: str
+    track_heading: str
+    track_text: str
+    cautions_label: str
+    cautions_heading: str
+    cautions: tuple[str, ...]
+
+
+def note(a: Assessment) -> str:
+    """The note under the summary table: what the centre is, the range and the band's edges."""
+    return (
+        f"Centre: the most likely value, {centre_label(a)}; the models' own "
+        f"forecast is in the appendix. {INTERVAL_TEXT} {SHORT_BAND_TEXT}"
+    )
+
+
+def context(a: Assessment) -> SummaryContext:
+    """Page 1 of the brief, every number rounded and phrased."""
+    basis = basis_table(a)
+    return SummaryContext(
+        headline=headline(a),
+        messages=messages(a),
+        threshold_line=threshold_line(a),
+        heading=BASIS_TITLES[a.headline.basis],
+        basis=basis,
+        periods=period_table(a) if basis is None else None,
+        show_band=band_varies(a),
+        note=note(a),
+        scale_key=scale_key(a),
+        change_heading="Since the last brief",
+        change_text=change_text(a),
+        track_heading="Track record",
+        track_text=track_text(a),
+        cautions_label=CAUTIONS_LABEL,
+        cautions_heading="Read with care",
+        cautions=CAUTIONS,
     )

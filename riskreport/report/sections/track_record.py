@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -10,7 +11,10 @@ from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
     SIGNIFICANCE,
+    ChartBlock,
+    Table,
     ahead_header,
+    chart,
     join_h,
     span,
     summary_horizons,
@@ -238,4 +242,41 @@ def weights_alt(a: Assessment) -> str:
         "Stacked bar chart of the combination weights by horizon: "
         + "; ".join(parts)
         + ". The weights table is beside it."
+    )
+
+
+@dataclass(frozen=True)
+class TrackRecordContext:
+    """The track record section as printed: accuracy, the tests and the weights."""
+
+    heading: str
+    text: str
+    accuracy: Table[AccuracyLine]
+    tests_heading: str
+    tests_text: tuple[str, ...]
+    weights_heading: str
+    weights_text: str
+    weights_chart: ChartBlock | None
+    weights: Table[AccuracyLine]
+
+
+def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> TrackRecordContext:
+    """The track record section, with its weights chart when one was drawn."""
+    shown = summary_horizons(a)
+    acc_heads, acc_lines, acc_text = accuracy(a)
+    weight_heads, weight_lines, weight_text = weights(a, shown)
+    return TrackRecordContext(
+        heading="Track record",
+        text=acc_text,
+        accuracy=Table(
+            accuracy_caption(a), AccuracyLine("Forecaster", acc_heads, False), acc_lines
+        ),
+        tests_heading="Are the differences significant?",
+        tests_text=tests_text(a, shown),
+        weights_heading="Combination weights in the current round",
+        weights_text=weight_text,
+        weights_chart=chart(charts, "weights"),
+        weights=Table(
+            WEIGHTS_TABLE_CAPTION, AccuracyLine("Model", weight_heads, False), weight_lines
+        ),
     )
