@@ -47,12 +47,32 @@ class Replays:
         The prequential selection over them.
     graded
         The label whose calibration the brief reports.
+    windows
+        Per spread option, the window chosen at each origin (``window_choice = "auto"``;
+        empty when the window is fixed).
+    baseline
+        The label of the constant normal law over the configured window (the verdict's
+        benchmark).
     """
 
     runs: dict[tuple[str, int], HorizonReplay]
     candidates: tuple[Candidate, ...]
     selection: PrequentialSelection
     graded: str
+    windows: dict[dynamics.SpreadOption, prequential.WindowChoice] = dataclasses.field(
+        default_factory=dict
+    )
+    baseline: str = "normal"
+
+    @property
+    def window(self) -> int | None:
+        """Today's window when chosen (None when fixed, or today's family keeps the
+        configured window)."""
+        current = self.selection.current
+        chosen = self.windows.get(current.spread)
+        if chosen is None or current.family not in prequential.WINDOW_FAMILIES:
+            return None
+        return chosen.current
 
 
 def replays(
@@ -72,21 +92,40 @@ def replays(
         Candidate(f, s)
         for s in every
         for f in FAMILIES
-        if s.smoothing is None or f in dynamics.FAMILIES
+        if s.kind == "constant" or f in dynamics.FAMILIES
     )
     allowed = FAMILIES if cfg.distribution == "auto" else (cfg.distribution,)
     candidates = tuple(c for c in replayed if c.family in allowed and c.spread in spreads)
+    mode = 0.0 if cfg.centre == "forecast" else None
+    stage: dict[tuple[str, int], HorizonReplay] = {}
+    windows: dict[dynamics.SpreadOption, prequential.WindowChoice] = {}
+    baseline = "normal"
+    if cfg.window_choice == "auto" and len(prequential.window_grid(cfg.window)) > 1:
+        stage, windows = prequential.choose_windows(
+            panel,
+            combined,
+            errors,
+            cfg.horizons,
+            window=cfg.window,
+            mode=mode,
+            band_for=cfg.band_for,
+            spreads=every,
+            cache=cache,
+        )
+        baseline = prequential.window_label("normal", cfg.window)
     runs = prequential.replay(
         panel,
         combined,
         errors,
         cfg.horizons,
         window=cfg.window,
-        mode=0.0 if cfg.centre == "forecast" else None,
+        mode=mode,
         band_for=cfg.band_for,
         candidates=replayed,
         cache=cache,
+        windows={s: w.rows for s, w in windows.items()} or None,
     )
+    runs.update(stage)
     chosen = prequential.select(runs, candidates, panel.origins.size)
     graded = candidates[0].label
     if len(candidates) > 1:
@@ -103,7 +142,7 @@ def replays(
             )
             runs[(recalibration.LABEL, run.h)] = mapped
         graded = recalibration.LABEL
-    return Replays(runs, candidates, chosen, graded)
+    return Replays(runs, candidates, chosen, graded, windows, baseline)
 
 
 @dataclass(frozen=True)
@@ -190,6 +229,8 @@ class SensitivityRow:
 
     ``log_score`` and ``coverage_90`` are the replay's mean log score and 90% coverage at
     the policy horizon (NaN when it was not replayed); ``chosen`` marks today's choice.
+    ``window`` is the error window today's law rests on (0: every known error; -1 for the
+    graded sequence, whose window may differ by horizon).
     """
 
     method: str
@@ -199,6 +240,7 @@ class SensitivityRow:
     log_score: float
     coverage_90: float
     chosen: bool
+    window: int = -1
 
 
 def _record_at(run: HorizonReplay | None) -> tuple[float, float]:
@@ -206,6 +248,26 @@ def _record_at(run: HorizonReplay | None) -> tuple[float, float]:
         return float("nan"), float("nan")
     coverage = float(np.mean(np.abs(run.pit - 0.5) <= 0.45))
     return float(np.mean(run.log_score)), coverage
+
+
+def _methods(cfg: Config, result: Replays) -> dict[str, tuple[Candidate, int]]:
+    """Every replayed label the panel shows, with its candidate and today's window: each
+    family under each spread option, then (window chosen) the normal law over each window
+    of the grid under a constant spread and under today's spread option."""
+    out: dict[str, tuple[Candidate, int]] = {}
+    for s in dynamics.options("auto"):
+        chosen = result.windows.get(s)
+        for f in FAMILIES:
+            c = Candidate(f, s)
+            keeps = chosen is None or f not in prequential.WINDOW_FAMILIES
+            out[c.label] = (c, cfg.window if keeps or chosen is None else chosen.current)
+    shown = dict.fromkeys((dynamics.CONSTANT, result.selection.current.spread))
+    for s in shown:
+        if s in result.windows:
+            c = Candidate("normal", s)
+            for w in result.windows[s].grid:
+                out[prequential.window_label(c.label, w)] = (c, w)
+    return out
 
 
 def sensitivity(
@@ -216,27 +278,23 @@ def sensitivity(
     headline: float,
     given: ErrorQuantiles | None = None,
 ) -> tuple[SensitivityRow, ...]:
-    """One row per replayed method (each family under each spread option), then the graded
-    sequence with today's model-based P(inside) (``headline``)."""
+    """One row per replayed method (each family under each spread option, and with a chosen
+    window the normal law over each window), then the graded sequence with today's
+    model-based P(inside) (``headline``)."""
     from riskreport import uncertainty  # imported here: uncertainty imports selection
 
     h = cfg.policy_horizon
     band = cfg.band_for(cfg.as_of + h)
-    labels = list(dict.fromkeys(label for label, _ in result.runs))
-    short = dataclasses.replace(cfg, horizons=h)  # the monotone rule needs only h and below
+    methods = _methods(cfg, result)
+    labels = [
+        label for label in dict.fromkeys(label for label, _ in result.runs) if label in methods
+    ]
+    current = result.selection.current
+    today = result.window if result.window is not None else cfg.window
     rows = []
     for label in labels:
-        candidate = next(
-            (
-                Candidate(f, s)
-                for s in dynamics.options("auto")
-                for f in FAMILIES
-                if Candidate(f, s).label == label
-            ),
-            None,
-        )
-        if candidate is None:
-            continue
+        candidate, window = methods[label]
+        short = dataclasses.replace(cfg, horizons=h, window=window)  # h and below suffice
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             margins = uncertainty.build(
@@ -257,7 +315,8 @@ def sensitivity(
                 p.p_inside,
                 log_score,
                 coverage,
-                candidate == result.selection.current,
+                candidate == current and window == today,
+                window,
             )
         )
     if any(c.label == result.graded for c in result.candidates):
@@ -307,7 +366,7 @@ def _gaps(result: Replays, label: str) -> tuple[float, float, float]:
 def verdict(result: Replays) -> Verdict:
     """The graded method's coverage gaps and log score beside the constant normal law's."""
     gap_50, gap_90, log_score = _gaps(result, result.graded)
-    base_50, base_90, base_log = _gaps(result, "normal")
+    base_50, base_90, base_log = _gaps(result, result.baseline)
     current = result.selection.current
     return Verdict(
         current.label,
@@ -367,6 +426,18 @@ class Adjustments:
         What the replay says of the graded sequence beside the constant normal law.
     sensitivity
         P(inside) at the policy horizon under every replayed method.
+    window_choice
+        The configured ``[uncertainty] window_choice`` (``fixed`` or ``auto``).
+    window
+        The error window today's law rests on (0: every known error): the configured one,
+        or the one chosen by the replay for today's spread option.
+    window_grid
+        The windows chosen among (empty when fixed).
+    window_spells
+        The window used at each past origin under today's spread option (empty when fixed).
+    factors
+        Per horizon, today's scale factor of the spread: the volatility (``ewma``), the
+        ratio of the joint to the own ML spread (``joint``) or 1 (``constant``).
     """
 
     spread_option: str
@@ -380,3 +451,8 @@ class Adjustments:
     recalibration: tuple[RecalibrationRow, ...]
     verdict: Verdict
     sensitivity: tuple[SensitivityRow, ...]
+    window_choice: str = "fixed"
+    window: int = 0
+    window_grid: tuple[int, ...] = ()
+    window_spells: tuple[MethodSpell, ...] = ()
+    factors: tuple[float, ...] = ()

@@ -24,6 +24,7 @@ from riskreport._typing import (
     RECALIBRATION_METHODS,
     SCORE_AGAINST,
     SPREAD_CHOICES,
+    WINDOW_CHOICES,
     Basis,
     Centre,
     CombinationMethod,
@@ -33,6 +34,7 @@ from riskreport._typing import (
     RecalibrationMethod,
     ScoreAgainst,
     SpreadChoice,
+    WindowChoice,
 )
 from riskreport.combination import SHRINKAGE, SHRINKAGE_BOUNDS
 from riskreport.errors import InputError
@@ -123,6 +125,7 @@ class Config:
     spread: SpreadChoice = "constant"
     recalibrate: bool = False
     recalibration: RecalibrationMethod = "tracking"
+    window_choice: WindowChoice = "fixed"  # "auto": the replay also chooses the window
     thresholds: tuple[float, ...] = ()
     density_horizons: tuple[int, ...] | None = None  # None: the policy horizon
     score_against: ScoreAgainst = "latest"  # with a vintage column in the actuals
@@ -171,6 +174,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "centre",
         "monotone",
         "spread",
+        "window_choice",
         "recalibrate",
         "recalibration",
         "bootstrap_replicates",
@@ -485,12 +489,12 @@ def load(path: str | Path) -> Config:
     directory = output._get("directory", str, "a folder path", "out")
     shrinkage = _shrinkage(combination)
     spread = cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant"))
-    if spread == "ewma" and distribution not in ("auto", *EWMA_FAMILIES):
-        # The replay offers the time-varying spread only with these laws: no candidate
-        # would be left to choose from (was an IndexError, exit 1).
+    if spread in ("ewma", "joint") and distribution not in ("auto", *EWMA_FAMILIES):
+        # The replay offers these spreads only with these laws: no candidate would be
+        # left to choose from (was an IndexError, exit 1).
         raise uncertainty.error(
             "spread",
-            f"'ewma' is offered with distribution = {' or '.join(EWMA_FAMILIES)} "
+            f"'{spread}' is offered with distribution = {' or '.join(EWMA_FAMILIES)} "
             f"(or auto), not {distribution}; use spread = 'auto' or 'constant'",
         )
 
@@ -530,6 +534,9 @@ def load(path: str | Path) -> Config:
         combination_shrinkage=shrinkage,
         max_abs_value=bound,
         spread=spread,
+        window_choice=cast(
+            WindowChoice, uncertainty.choice("window_choice", WINDOW_CHOICES, "fixed")
+        ),
         recalibrate=uncertainty.flag("recalibrate", False),
         recalibration=cast(
             RecalibrationMethod,

@@ -382,6 +382,7 @@ def _adjustments(
         margins.outcome[cfg.policy_horizon], band.lower, band.upper
     ).p_inside
     label = periods.label
+    windows = replayed.windows.get(chosen.current.spread)
     return adjustments_module.Adjustments(
         spread_option=cfg.spread,
         spread=chosen.current.spread.label,
@@ -401,6 +402,27 @@ def _adjustments(
         recalibration=recalibrated,
         verdict=adjustments_module.verdict(replayed),
         sensitivity=adjustments_module.sensitivity(cfg, replayed, errors, margins.point, headline),
+        window_choice=cfg.window_choice,
+        window=cfg.window if replayed.window is None else replayed.window,
+        window_grid=windows.grid if windows is not None else (),
+        window_spells=()
+        if windows is None
+        else tuple(
+            adjustments_module.MethodSpell(
+                label(int(panel.origins[s.first_origin]), cfg.frequency),
+                label(int(panel.origins[s.last_origin]), cfg.frequency),
+                s.candidate,
+            )
+            for s in windows.spells
+        ),
+        factors=tuple(
+            float(v)
+            for v in dynamics.factors(
+                errors[:, : cfg.horizons + 1],
+                chosen.current.spread,
+                cfg.window if replayed.window is None else replayed.window,
+            )
+        ),
     )
 
 
@@ -558,8 +580,15 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         else None
     )
     family = today.family
+    window = replayed.window
     margins = uncertainty.build(
-        cfg, errors, point, given, family=family, choice=choice, spread=today.spread
+        cfg if window is None else dataclasses.replace(cfg, window=window),
+        errors,
+        point,
+        given,
+        family=family,
+        choice=choice,
+        spread=today.spread,
     )
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
     if cfg.recalibrate:
