@@ -254,3 +254,39 @@ def test_windowed_training_matches_the_fixed_window_samples(rng: np.random.Gener
     for row, origin in enumerate(tests):
         want = short[row] if origin % 2 == 0 else every[row]
         np.testing.assert_array_equal(ours[row][np.isfinite(ours[row])], want[np.isfinite(want)])
+
+
+def test_window_and_joint_spread_reach_the_json_and_the_words(tmp_path: Path) -> None:
+    from riskreport.report.sections import method
+
+    errors = _garch_errors(200, 0.9, 4)
+    path = constant_forecast_world(tmp_path, errors, horizons=2, window=60)
+    cfg = dataclasses.replace(
+        config.load(path), distribution="normal", spread="joint", window_choice="auto"
+    )
+    result = assess_config(cfg, search=tmp_path / "none")
+    adj = result.adjustments
+    assert adj is not None and adj.spread == "joint"
+    assert adj.window_grid == (60, 30, 0) and adj.window in adj.window_grid
+    record = json.loads(result.to_json())["adjustments"]
+    assert record["window_choice"] == "auto"
+    assert record["window"] == adj.window and len(record["factors"]) == 3
+    assert {row["window"] for row in record["sensitivity"]} >= {60, 30, 0}
+    words = " ".join(method.adjustment_text(result))
+    assert "estimated jointly" in words and "error window was chosen" in words
+    names = [line.method for line in method.sensitivity_lines(result)]
+    assert any("every past error" in n for n in names)
+
+
+def test_joint_spread_option_and_window_choice_are_validated(tmp_path: Path) -> None:
+    path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1)
+    text = path.read_text()
+    path.write_text(text.replace("[uncertainty]\n", '[uncertainty]\nspread = "joint"\n'))
+    assert config.load(path).spread == "joint"
+    path.write_text(text.replace("[uncertainty]\n", '[uncertainty]\nwindow_choice = "best"\n'))
+    with pytest.raises(InputError, match="window_choice"):
+        config.load(path)
+    skew = text.replace('distribution = "normal"', 'distribution = "skew-normal"')
+    path.write_text(skew.replace("[uncertainty]\n", '[uncertainty]\nspread = "joint"\n'))
+    with pytest.raises(InputError, match="joint"):
+        config.load(path)
