@@ -335,7 +335,10 @@ class Verdict:
     """What the replay says of the graded method against the constant-spread normal law.
 
     Mean |coverage - nominal| over the replayed horizons, at 50% and 90%, and the mean log
-    score over horizons; ``near`` is whether both gaps are within NEAR.
+    score over horizons; ``near`` is whether both gaps are within NEAR. ``short_horizons``
+    are the horizons whose 90% coverage misses by more than NEAR, ``worst_h`` the horizon
+    with the largest miss and ``worst_coverage_90`` its 90% coverage (-1 and NaN when no
+    horizon was replayed).
     """
 
     method: str
@@ -348,6 +351,9 @@ class Verdict:
     baseline_gap_90: float
     baseline_log_score: float
     near: bool
+    short_horizons: tuple[int, ...] = ()
+    worst_h: int = -1
+    worst_coverage_90: float = float("nan")
 
 
 def _gaps(result: Replays, label: str) -> tuple[float, float, float]:
@@ -368,6 +374,12 @@ def verdict(result: Replays) -> Verdict:
     gap_50, gap_90, log_score = _gaps(result, result.graded)
     base_50, base_90, base_log = _gaps(result, result.baseline)
     current = result.selection.current
+    cover = {
+        h: float(np.mean(np.abs(r.pit - 0.5) <= 0.45))
+        for (lab, h), r in result.runs.items()
+        if lab == result.graded
+    }
+    worst = max(sorted(cover), key=lambda h: abs(cover[h] - 0.9), default=-1)
     return Verdict(
         current.label,
         current.spread.label,
@@ -379,6 +391,9 @@ def verdict(result: Replays) -> Verdict:
         base_90,
         base_log,
         bool(gap_50 <= NEAR and gap_90 <= NEAR),
+        tuple(h for h in sorted(cover) if abs(cover[h] - 0.9) > NEAR),
+        worst,
+        cover.get(worst, float("nan")),
     )
 
 

@@ -7,7 +7,7 @@ import math
 from dataclasses import dataclass
 
 from riskreport import periods
-from riskreport.adjustments import Adjustments, SensitivityRow
+from riskreport.adjustments import NEAR, Adjustments, SensitivityRow
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import FAMILY_NAMES, KeyValue, scale_of, span, units
@@ -385,6 +385,18 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         f"(a constant normal law: {100 * v.baseline_gap_90:.0f} and "
         f"{100 * v.baseline_gap_50:.0f})."
     )
+    if v.short_horizons:
+        lines.append(
+            f"The 90% ranges missed by more than {100 * NEAR:.0f} points at "
+            f"{periods.ranges(list(v.short_horizons))} {units(a)} ahead (furthest: held "
+            f"{fmt.single_percent(v.worst_coverage_90)} of the time at {v.worst_h} "
+            f"{units(a)} ahead)"
+            + (
+                "."
+                if not v.near
+                else ": read the probabilities there as less certain than they look."
+            )
+        )
     if not v.near:
         lines.append(
             "Even so, coverage is not near nominal: the stated probabilities should be read "
