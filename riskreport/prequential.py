@@ -152,8 +152,8 @@ def replay(
     joint to the own ML spread known there (:mod:`riskreport.joint`). ``windows``, per
     spread option, gives each panel origin row its own window (chosen by
     :func:`choose_windows`) for the families of ``WINDOW_FAMILIES``; otherwise every
-    origin uses ``window``. With a ``cache``,
-    origins replayed before with identical inputs are taken from it.
+    origin uses ``window``. With a ``cache``, origins replayed before with identical inputs
+    are taken from it.
     """
     replay_horizon = calibration.replay_horizon if cache is None else cache.replay_horizon
     spreads = list(dict.fromkeys(c.spread for c in candidates))

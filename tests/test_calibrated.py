@@ -266,14 +266,18 @@ def test_window_and_joint_spread_reach_the_json_and_the_words(tmp_path: Path) ->
     )
     result = assess_config(cfg, search=tmp_path / "none")
     adj = result.adjustments
-    assert adj is not None and adj.spread == "joint"
-    assert adj.window_grid == (60, 30, 0) and adj.window in adj.window_grid
+    assert adj is not None
+    assert adj.spread == "joint"
+    assert adj.window_grid == (60, 30, 0)
+    assert adj.window in adj.window_grid
     record = json.loads(result.to_json())["adjustments"]
     assert record["window_choice"] == "auto"
-    assert record["window"] == adj.window and len(record["factors"]) == 3
+    assert record["window"] == adj.window
+    assert len(record["factors"]) == 3
     assert {row["window"] for row in record["sensitivity"]} >= {60, 30, 0}
     words = " ".join(method.adjustment_text(result))
-    assert "estimated jointly" in words and "error window was chosen" in words
+    assert "estimated jointly" in words
+    assert "error window was chosen" in words
     names = [line.method for line in method.sensitivity_lines(result)]
     assert any("every past error" in n for n in names)
 
