@@ -230,7 +230,8 @@ class SensitivityRow:
     ``log_score`` and ``coverage_90`` are the replay's mean log score and 90% coverage at
     the policy horizon (NaN when it was not replayed); ``chosen`` marks today's choice.
     ``window`` is the error window today's law rests on (0: every known error; -1 for the
-    graded sequence, whose window may differ by horizon).
+    graded sequence, whose window may differ by horizon); ``window_fixed`` is False where
+    the replay used the window chosen at each past origin rather than this one throughout.
     """
 
     method: str
@@ -241,6 +242,7 @@ class SensitivityRow:
     coverage_90: float
     chosen: bool
     window: int = -1
+    window_fixed: bool = True
 
 
 def _record_at(run: HorizonReplay | None) -> tuple[float, float]:
@@ -250,23 +252,25 @@ def _record_at(run: HorizonReplay | None) -> tuple[float, float]:
     return float(np.mean(run.log_score)), coverage
 
 
-def _methods(cfg: Config, result: Replays) -> dict[str, tuple[Candidate, int]]:
+def _methods(cfg: Config, result: Replays) -> dict[str, tuple[Candidate, int, bool]]:
     """Every replayed label the panel shows, with its candidate and today's window: each
     family under each spread option, then (window chosen) the normal law over each window
     of the grid under a constant spread and under today's spread option."""
-    out: dict[str, tuple[Candidate, int]] = {}
+    out: dict[str, tuple[Candidate, int, bool]] = {}
     for s in dynamics.options("auto"):
         chosen = result.windows.get(s)
         for f in FAMILIES:
             c = Candidate(f, s)
-            keeps = chosen is None or f not in prequential.WINDOW_FAMILIES
-            out[c.label] = (c, cfg.window if keeps or chosen is None else chosen.current)
+            if chosen is None or f not in prequential.WINDOW_FAMILIES:
+                out[c.label] = (c, cfg.window, True)
+            else:
+                out[c.label] = (c, chosen.current, False)
     shown = dict.fromkeys((dynamics.CONSTANT, result.selection.current.spread))
     for s in shown:
         if s in result.windows:
             c = Candidate("normal", s)
             for w in result.windows[s].grid:
-                out[prequential.window_label(c.label, w)] = (c, w)
+                out[prequential.window_label(c.label, w)] = (c, w, True)
     return out
 
 
@@ -293,7 +297,7 @@ def sensitivity(
     today = result.window if result.window is not None else cfg.window
     rows = []
     for label in labels:
-        candidate, window = methods[label]
+        candidate, window, fixed = methods[label]
         short = dataclasses.replace(cfg, horizons=h, window=window)  # h and below suffice
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
@@ -315,8 +319,9 @@ def sensitivity(
                 p.p_inside,
                 log_score,
                 coverage,
-                candidate == current and window == today,
+                candidate == current and window == today and label == candidate.label,
                 window,
+                fixed,
             )
         )
     if any(c.label == result.graded for c in result.candidates):

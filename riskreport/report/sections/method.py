@@ -264,7 +264,10 @@ def _row_name(row: SensitivityRow, a: Assessment) -> str:
     name = f"{NAMES.get(row.family, row.family)}, {_spread_words(row.spread)}"
     adj = a.adjustments
     if adj is not None and adj.window_grid:
-        name += f", {_window_words(row.window)}"
+        if row.window_fixed:
+            name += f", {_window_words(row.window)} throughout"
+        else:
+            name += f", window as chosen at each round (today {_window_words(row.window)})"
     return name
 
 
@@ -329,11 +332,12 @@ def _spread_sentence(adj: Adjustments) -> str:
 def _window_sentence(adj: Adjustments) -> str | None:
     if not adj.window_grid:
         return None
-    grid = ", ".join(_window_words(w) for w in adj.window_grid)
+    words = [_window_words(w) for w in adj.window_grid]
+    grid = ", ".join(words[:-1]) + " and " + words[-1] if len(words) > 1 else words[0]
     changed = len({s.method for s in adj.window_spells}) > 1
     return (
         f"The error window was chosen by the replay among {grid}: {_window_words(adj.window)} "
-        "has the better record today"
+        "has the best record today"
         + (
             "; in the replay each past round used the window best on the scores known then."
             if changed
