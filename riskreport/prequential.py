@@ -9,6 +9,10 @@ selection as it would have been made, not the in-sample best (the prequential pr
 Dawid 1984, JRSS A 147(2)). Before any score is known the first candidate is used (the
 normal law with a constant spread when it is among them). The current round's choice uses
 every score known now.
+
+With ``window_choice = "auto"`` the error window is chosen the same way, first: the normal
+law is replayed over each window of :func:`window_grid` under each spread option, and at
+each origin the window with the best record known there is the one that origin uses.
 """
 
 from __future__ import annotations
