@@ -9,8 +9,10 @@ Two histories:
    of the last four quarters), combined with equal weights, horizons 0-8.
 2. The invented demo scenario.
 
-For each: the constant normal law; ``auto`` with the family and spread chosen
-prequentially; and the same with each recalibration (online quantile tracking, beta map). Printed per horizon group: the mean |coverage - nominal|
+For each: the constant normal law; the normal law with the spread estimated jointly across
+horizons; ``auto`` with the family and spread chosen prequentially, alone and with each recalibration
+(online quantile tracking, beta map); and ``auto`` with the window chosen too
+(``window_choice = "auto"``), alone and with tracking. Printed per horizon group: the mean |coverage - nominal|
 of the 50% and 90% ranges and the mean log score, and their averages over horizons.
 Targets (issue "Calibrated by construction"): 90% gap <= 0.03 and 50% gap <= 0.04 on
 average over horizons, log score better than the constant normal in every group.
@@ -27,22 +29,16 @@ import numpy as np
 from riskreport import calibration, config, pipeline
 
 ROOT = Path(__file__).resolve().parents[1]
+AUTO = {"distribution": "auto", "spread": "auto"}
+CHOSEN = {**AUTO, "window_choice": "auto"}
 VARIANTS = (
     ("constant normal", {"distribution": "normal", "spread": "constant", "recalibrate": False}),
-    ("auto", {"distribution": "auto", "spread": "auto", "recalibrate": False}),
-    (
-        "auto + tracking",
-        {
-            "distribution": "auto",
-            "spread": "auto",
-            "recalibrate": True,
-            "recalibration": "tracking",
-        },
-    ),
-    (
-        "auto + beta map",
-        {"distribution": "auto", "spread": "auto", "recalibrate": True, "recalibration": "beta"},
-    ),
+    ("normal, joint spread", {"distribution": "normal", "spread": "joint", "recalibrate": False}),
+    ("auto", {**AUTO, "recalibrate": False}),
+    ("auto + tracking", {**AUTO, "recalibrate": True, "recalibration": "tracking"}),
+    ("auto + beta map", {**AUTO, "recalibrate": True, "recalibration": "beta"}),
+    ("auto + window", {**CHOSEN, "recalibrate": False}),
+    ("auto + window + tracking", {**CHOSEN, "recalibrate": True, "recalibration": "tracking"}),
 )
 
 
@@ -110,7 +106,7 @@ def _groups(
 def _run(name: str, path: Path, frequency: str) -> None:
     print(f"\n{name}")
     print(
-        f"{'method':<22} {'horizons':<9} {'|cov50-0.5|':>11} {'|cov90-0.9|':>11} {'log score':>10}"
+        f"{'method':<26} {'horizons':<9} {'|cov50-0.5|':>11} {'|cov90-0.9|':>11} {'log score':>10}"
     )
     for label, options in VARIANTS:
         cfg = config.load(path).replaced("uncertainty", **options)
@@ -118,10 +114,12 @@ def _run(name: str, path: Path, frequency: str) -> None:
         assessment = pipeline.assess_config(cfg, search=path.parent / "none")
         seconds = time.perf_counter() - start
         for group, gap50, gap90, log in _groups(assessment, frequency):
-            print(f"{label:<22} {group:<9} {gap50:>11.3f} {gap90:>11.3f} {log:>10.3f}")
+            print(f"{label:<26} {group:<9} {gap50:>11.3f} {gap90:>11.3f} {log:>10.3f}")
         adj = assessment.adjustments
         chosen = adj.method if adj is not None else "-"
-        print(f"{'':<22} (today: {chosen}; build {seconds:.0f} s)")
+        if adj is not None and adj.window_grid:
+            chosen += f"; window {adj.window or 'all'}"
+        print(f"{'':<26} (today: {chosen}; build {seconds:.0f} s)")
 
 
 def main() -> None:

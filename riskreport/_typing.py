@@ -11,8 +11,9 @@ Frequency = Literal["monthly", "quarterly"]
 Basis = Literal["period", "calendar-year-average", "year-end"]
 Centre = Literal["estimated", "forecast"]
 Family = Literal["normal", "two-piece-normal", "skew-normal", "empirical"]
-SpreadKind = Literal["constant", "ewma"]
-SpreadChoice = Literal["constant", "ewma", "auto"]
+SpreadKind = Literal["constant", "ewma", "joint"]
+SpreadChoice = Literal["constant", "ewma", "joint", "auto"]
+WindowChoice = Literal["fixed", "auto"]
 RecalibrationMethod = Literal["tracking", "beta"]
 DistributionChoice = Literal["normal", "two-piece-normal", "skew-normal", "empirical", "auto"]
 CombinationMethod = Literal[
@@ -37,8 +38,10 @@ DISTRIBUTION_CHOICES: tuple[DistributionChoice, ...] = get_args(DistributionChoi
 COMBINATION_METHODS: tuple[CombinationMethod, ...] = get_args(CombinationMethod)
 OUTPUT_FORMATS: tuple[OutputFormat, ...] = get_args(OutputFormat)
 FAMILIES: tuple[Family, ...] = get_args(Family)
-# The families the EWMA (time-varying) spread is offered with: their replay stays batched.
+# The families the EWMA (time-varying) and joint spreads are offered with: their replay
+# stays batched.
 EWMA_FAMILIES: tuple[Family, ...] = ("normal", "two-piece-normal")
 SPREAD_CHOICES: tuple[SpreadChoice, ...] = get_args(SpreadChoice)
+WINDOW_CHOICES: tuple[WindowChoice, ...] = get_args(WindowChoice)
 RECALIBRATION_METHODS: tuple[RecalibrationMethod, ...] = get_args(RecalibrationMethod)
 SCORE_AGAINST: tuple[ScoreAgainst, ...] = get_args(ScoreAgainst)

@@ -10,6 +10,7 @@ each past origin from the scores known then (:mod:`riskreport.prequential`), the
 
 from __future__ import annotations
 
+import dataclasses
 import warnings
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -46,12 +47,32 @@ class Replays:
         The prequential selection over them.
     graded
         The label whose calibration the brief reports.
+    windows
+        Per spread option, the window chosen at each origin (``window_choice = "auto"``;
+        empty when the window is fixed).
+    baseline
+        The label of the constant normal law over the configured window (the verdict's
+        benchmark).
     """
 
     runs: dict[tuple[str, int], HorizonReplay]
     candidates: tuple[Candidate, ...]
     selection: PrequentialSelection
     graded: str
+    windows: dict[dynamics.SpreadOption, prequential.WindowChoice] = dataclasses.field(
+        default_factory=dict
+    )
+    baseline: str = "normal"
+
+    @property
+    def window(self) -> int | None:
+        """Today's window when chosen (None when fixed, or today's family keeps the
+        configured window)."""
+        current = self.selection.current
+        chosen = self.windows.get(current.spread)
+        if chosen is None or current.family not in prequential.WINDOW_FAMILIES:
+            return None
+        return chosen.current
 
 
 def replays(
@@ -71,23 +92,45 @@ def replays(
         Candidate(f, s)
         for s in every
         for f in FAMILIES
-        if s.smoothing is None or f in dynamics.FAMILIES
+        if s.kind == "constant" or f in dynamics.FAMILIES
     )
     allowed = (
         FAMILIES if cfg.uncertainty.distribution == "auto" else (cfg.uncertainty.distribution,)
     )
     candidates = tuple(c for c in replayed if c.family in allowed and c.spread in spreads)
+    mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
+    stage: dict[tuple[str, int], HorizonReplay] = {}
+    windows: dict[dynamics.SpreadOption, prequential.WindowChoice] = {}
+    baseline = "normal"
+    if (
+        cfg.uncertainty.window_choice == "auto"
+        and len(prequential.window_grid(cfg.uncertainty.window)) > 1
+    ):
+        stage, windows = prequential.choose_windows(
+            panel,
+            combined,
+            errors,
+            cfg.brief.horizons,
+            window=cfg.uncertainty.window,
+            mode=mode,
+            band_for=cfg.band_for,
+            spreads=every,
+            cache=cache,
+        )
+        baseline = prequential.window_label("normal", cfg.uncertainty.window)
     runs = prequential.replay(
         panel,
         combined,
         errors,
         cfg.brief.horizons,
         window=cfg.uncertainty.window,
-        mode=0.0 if cfg.uncertainty.centre == "forecast" else None,
+        mode=mode,
         band_for=cfg.band_for,
         candidates=replayed,
         cache=cache,
+        windows={s: w.rows for s, w in windows.items()} or None,
     )
+    runs.update(stage)
     chosen = prequential.select(runs, candidates, panel.origins.size)
     graded = candidates[0].label
     if len(candidates) > 1:
@@ -104,7 +147,7 @@ def replays(
             )
             runs[(recalibration.LABEL, run.h)] = mapped
         graded = recalibration.LABEL
-    return Replays(runs, candidates, chosen, graded)
+    return Replays(runs, candidates, chosen, graded, windows, baseline)
 
 
 @dataclass(frozen=True)
@@ -191,6 +234,9 @@ class SensitivityRow:
 
     ``log_score`` and ``coverage_90`` are the replay's mean log score and 90% coverage at
     the policy horizon (NaN when it was not replayed); ``chosen`` marks today's choice.
+    ``window`` is the error window today's law rests on (0: every known error; -1 for the
+    graded sequence, whose window may differ by horizon); ``window_fixed`` is False where
+    the replay used the window chosen at each past origin rather than this one throughout.
     """
 
     method: str
@@ -200,6 +246,8 @@ class SensitivityRow:
     log_score: float
     coverage_90: float
     chosen: bool
+    window: int = -1
+    window_fixed: bool = True
 
 
 def _record_at(run: HorizonReplay | None) -> tuple[float, float]:
@@ -207,6 +255,28 @@ def _record_at(run: HorizonReplay | None) -> tuple[float, float]:
         return float("nan"), float("nan")
     coverage = float(np.mean(np.abs(run.pit - 0.5) <= 0.45))
     return float(np.mean(run.log_score)), coverage
+
+
+def _methods(cfg: Config, result: Replays) -> dict[str, tuple[Candidate, int, bool]]:
+    """Every replayed label the panel shows, with its candidate and today's window: each
+    family under each spread option, then (window chosen) the normal law over each window
+    of the grid under a constant spread and under today's spread option."""
+    out: dict[str, tuple[Candidate, int, bool]] = {}
+    for s in dynamics.options("auto"):
+        chosen = result.windows.get(s)
+        for f in FAMILIES:
+            c = Candidate(f, s)
+            if chosen is None or f not in prequential.WINDOW_FAMILIES:
+                out[c.label] = (c, cfg.uncertainty.window, True)
+            else:
+                out[c.label] = (c, chosen.current, False)
+    shown = dict.fromkeys((dynamics.CONSTANT, result.selection.current.spread))
+    for s in shown:
+        if s in result.windows:
+            c = Candidate("normal", s)
+            for w in result.windows[s].grid:
+                out[prequential.window_label(c.label, w)] = (c, w, True)
+    return out
 
 
 def sensitivity(
@@ -217,27 +287,25 @@ def sensitivity(
     headline: float,
     given: ErrorQuantiles | None = None,
 ) -> tuple[SensitivityRow, ...]:
-    """One row per replayed method (each family under each spread option), then the graded
-    sequence with today's model-based P(inside) (``headline``)."""
+    """One row per replayed method (each family under each spread option, and with a chosen
+    window the normal law over each window), then the graded sequence with today's
+    model-based P(inside) (``headline``)."""
     from riskreport import uncertainty  # imported here: uncertainty imports selection
 
     h = cfg.brief.policy_horizon
     band = cfg.band_for(cfg.brief.as_of + h)
-    labels = list(dict.fromkeys(label for label, _ in result.runs))
-    short = cfg.replaced("brief", horizons=h)  # the monotone rule needs only h and below
+    methods = _methods(cfg, result)
+    labels = [
+        label for label in dict.fromkeys(label for label, _ in result.runs) if label in methods
+    ]
+    current = result.selection.current
+    today = result.window if result.window is not None else cfg.uncertainty.window
     rows = []
     for label in labels:
-        candidate = next(
-            (
-                Candidate(f, s)
-                for s in dynamics.options("auto")
-                for f in FAMILIES
-                if Candidate(f, s).label == label
-            ),
-            None,
-        )
-        if candidate is None:
-            continue
+        candidate, window, fixed = methods[label]
+        short = cfg.replaced("brief", horizons=h).replaced(
+            "uncertainty", window=window
+        )  # h and below suffice
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             margins = uncertainty.build(
@@ -258,7 +326,9 @@ def sensitivity(
                 p.p_inside,
                 log_score,
                 coverage,
-                candidate == result.selection.current,
+                candidate == current and window == today and label == candidate.label,
+                window,
+                fixed,
             )
         )
     if any(c.label == result.graded for c in result.candidates):
@@ -277,7 +347,10 @@ class Verdict:
     """What the replay says of the graded method against the constant-spread normal law.
 
     Mean |coverage - nominal| over the replayed horizons, at 50% and 90%, and the mean log
-    score over horizons; ``near`` is whether both gaps are within NEAR.
+    score over horizons; ``near`` is whether both gaps are within NEAR. ``short_horizons``
+    are the horizons whose 90% coverage misses by more than NEAR, ``worst_h`` the horizon
+    with the largest miss and ``worst_coverage_90`` its 90% coverage (-1 and NaN when no
+    horizon was replayed).
     """
 
     method: str
@@ -290,6 +363,9 @@ class Verdict:
     baseline_gap_90: float
     baseline_log_score: float
     near: bool
+    short_horizons: tuple[int, ...] = ()
+    worst_h: int = -1
+    worst_coverage_90: float = float("nan")
 
 
 def _gaps(result: Replays, label: str) -> tuple[float, float, float]:
@@ -308,8 +384,14 @@ def _gaps(result: Replays, label: str) -> tuple[float, float, float]:
 def verdict(result: Replays) -> Verdict:
     """The graded method's coverage gaps and log score beside the constant normal law's."""
     gap_50, gap_90, log_score = _gaps(result, result.graded)
-    base_50, base_90, base_log = _gaps(result, "normal")
+    base_50, base_90, base_log = _gaps(result, result.baseline)
     current = result.selection.current
+    cover = {
+        h: float(np.mean(np.abs(r.pit - 0.5) <= 0.45))
+        for (lab, h), r in result.runs.items()
+        if lab == result.graded
+    }
+    worst = max(sorted(cover), key=lambda h: abs(cover[h] - 0.9), default=-1)
     return Verdict(
         current.label,
         current.spread.label,
@@ -321,6 +403,9 @@ def verdict(result: Replays) -> Verdict:
         base_90,
         base_log,
         bool(gap_50 <= NEAR and gap_90 <= NEAR),
+        tuple(h for h in sorted(cover) if abs(cover[h] - 0.9) > NEAR),
+        worst,
+        cover.get(worst, float("nan")),
     )
 
 
@@ -368,6 +453,18 @@ class Adjustments:
         What the replay says of the graded sequence beside the constant normal law.
     sensitivity
         P(inside) at the policy horizon under every replayed method.
+    window_choice
+        The configured ``[uncertainty] window_choice`` (``fixed`` or ``auto``).
+    window
+        The error window today's law rests on (0: every known error): the configured one,
+        or the one chosen by the replay for today's spread option.
+    window_grid
+        The windows chosen among (empty when fixed).
+    window_spells
+        The window used at each past origin under today's spread option (empty when fixed).
+    factors
+        Per horizon, today's scale factor of the spread: the volatility (``ewma``), the
+        ratio of the joint to the own ML spread (``joint``) or 1 (``constant``).
     """
 
     spread_option: str
@@ -381,3 +478,8 @@ class Adjustments:
     recalibration: tuple[RecalibrationRow, ...]
     verdict: Verdict
     sensitivity: tuple[SensitivityRow, ...]
+    window_choice: str = "fixed"
+    window: int = 0
+    window_grid: tuple[int, ...] = ()
+    window_spells: tuple[MethodSpell, ...] = ()
+    factors: tuple[float, ...] = ()

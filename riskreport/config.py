@@ -24,6 +24,7 @@ from riskreport._typing import (
     RECALIBRATION_METHODS,
     SCORE_AGAINST,
     SPREAD_CHOICES,
+    WINDOW_CHOICES,
     Basis,
     Centre,
     CombinationMethod,
@@ -33,6 +34,7 @@ from riskreport._typing import (
     RecalibrationMethod,
     ScoreAgainst,
     SpreadChoice,
+    WindowChoice,
 )
 from riskreport.combination import SHRINKAGE, SHRINKAGE_BOUNDS
 from riskreport.errors import InputError
@@ -145,6 +147,7 @@ class UncertaintySection:
     spread: SpreadChoice = "constant"
     recalibrate: bool = False
     recalibration: RecalibrationMethod = "tracking"
+    window_choice: WindowChoice = "fixed"  # "auto": the replay also chooses the window
 
 
 @dataclass(frozen=True)
@@ -219,6 +222,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "centre",
         "monotone",
         "spread",
+        "window_choice",
         "recalibrate",
         "recalibration",
         "bootstrap_replicates",
@@ -533,12 +537,12 @@ def load(path: str | Path) -> Config:
     directory = output._get("directory", str, "a folder path", "out")
     shrinkage = _shrinkage(combination)
     spread = cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant"))
-    if spread == "ewma" and distribution not in ("auto", *EWMA_FAMILIES):
-        # The replay offers the time-varying spread only with these laws: no candidate
-        # would be left to choose from (was an IndexError, exit 1).
+    if spread in ("ewma", "joint") and distribution not in ("auto", *EWMA_FAMILIES):
+        # The replay offers these spreads only with these laws: no candidate would be
+        # left to choose from (was an IndexError, exit 1).
         raise uncertainty.error(
             "spread",
-            f"'ewma' is offered with distribution = {' or '.join(EWMA_FAMILIES)} "
+            f"'{spread}' is offered with distribution = {' or '.join(EWMA_FAMILIES)} "
             f"(or auto), not {distribution}; use spread = 'auto' or 'constant'",
         )
 
@@ -588,6 +592,9 @@ def load(path: str | Path) -> Config:
             ),
             seed=uncertainty.integer("seed", 20240101, minimum=0, maximum=2**63 - 1),
             spread=spread,
+            window_choice=cast(
+                WindowChoice, uncertainty.choice("window_choice", WINDOW_CHOICES, "fixed")
+            ),
             recalibrate=uncertainty.flag("recalibrate", False),
             recalibration=cast(
                 RecalibrationMethod,

@@ -38,8 +38,10 @@ class SpreadOption:
     Attributes
     ----------
     kind
-        ``"constant"`` (one error law over the window) or ``"ewma"`` (filtered historical
-        simulation with an exponentially weighted volatility).
+        ``"constant"`` (one error law over the window), ``"ewma"`` (filtered historical
+        simulation with an exponentially weighted volatility) or ``"joint"`` (each
+        horizon's spread rescaled to the ML estimate of all horizons' errors jointly,
+        :mod:`riskreport.joint`).
     smoothing
         The EWMA smoothing constant lambda (weight of the past), None for ``constant``.
     """
@@ -49,11 +51,12 @@ class SpreadOption:
 
     @property
     def label(self) -> str:
-        """A short name, e.g. ``constant`` or ``ewma 0.9``."""
-        return "constant" if self.smoothing is None else f"{self.kind} {self.smoothing:g}"
+        """A short name, e.g. ``constant``, ``ewma 0.9`` or ``joint``."""
+        return self.kind if self.smoothing is None else f"{self.kind} {self.smoothing:g}"
 
 
 CONSTANT = SpreadOption("constant")
+JOINT = SpreadOption("joint")
 
 
 def options(spread: str) -> tuple[SpreadOption, ...]:
@@ -63,7 +66,9 @@ def options(spread: str) -> tuple[SpreadOption, ...]:
         return (CONSTANT,)
     if spread == "ewma":
         return ewma
-    return (CONSTANT, *ewma)
+    if spread == "joint":
+        return (JOINT,)
+    return (CONSTANT, *ewma, JOINT)
 
 
 def base_horizon(errors: np.ndarray) -> int:
@@ -106,7 +111,8 @@ def volatility(errors: np.ndarray, smoothing: float) -> np.ndarray:
 def standardise(errors: np.ndarray, option: SpreadOption) -> tuple[np.ndarray, np.ndarray]:
     """The errors divided by the volatility of their origin, and that volatility.
 
-    For ``constant`` the errors come back unchanged with a volatility of 1 everywhere.
+    For ``constant`` and ``joint`` the errors come back unchanged with a volatility of 1
+    everywhere (the joint spread rescales each horizon instead: :func:`factors`).
     """
     if option.smoothing is None:
         return errors, np.ones(errors.shape[0])
@@ -124,3 +130,15 @@ def current(errors: np.ndarray, option: SpreadOption) -> float:
         return 1.0
     value = float(volatility(errors, option.smoothing)[-1])
     return value if np.isfinite(value) else 1.0
+
+
+def factors(errors: np.ndarray, option: SpreadOption, window: int) -> np.ndarray:
+    """Today's scale factor per horizon (columns of ``errors``; the current round is the
+    last row): the volatility for ``ewma``, the joint-to-own spread ratio for ``joint``
+    over the last ``window`` origins (0: all), 1 for ``constant``."""
+    if option.kind == "joint":
+        from riskreport import joint  # imported here: only the joint spread needs it
+
+        n = errors.shape[0]
+        return joint.ratios(errors, np.full(n, window))[-1]
+    return np.full(errors.shape[1], current(errors, option))

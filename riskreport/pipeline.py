@@ -216,8 +216,15 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         else None
     )
     family = today.family
+    window = replayed.window
     margins = uncertainty.build(
-        cfg, errors, point, given, family=family, choice=choice, spread=today.spread
+        cfg if window is None else cfg.replaced("uncertainty", window=window),
+        errors,
+        point,
+        given,
+        family=family,
+        choice=choice,
+        spread=today.spread,
     )
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
     if cfg.uncertainty.recalibrate:

@@ -255,6 +255,8 @@ def adjustments(
         margins.outcome[cfg.brief.policy_horizon], band.lower, band.upper
     ).p_inside
     label = periods.label
+    windows = replayed.windows.get(chosen.current.spread)
+    window = cfg.uncertainty.window if replayed.window is None else replayed.window
     return adjustments_module.Adjustments(
         spread_option=cfg.uncertainty.spread,
         spread=chosen.current.spread.label,
@@ -274,6 +276,25 @@ def adjustments(
         recalibration=recalibrated,
         verdict=adjustments_module.verdict(replayed),
         sensitivity=adjustments_module.sensitivity(cfg, replayed, errors, margins.point, headline),
+        window_choice=cfg.uncertainty.window_choice,
+        window=window,
+        window_grid=windows.grid if windows is not None else (),
+        window_spells=()
+        if windows is None
+        else tuple(
+            adjustments_module.MethodSpell(
+                label(int(panel.origins[s.first_origin]), cfg.brief.frequency),
+                label(int(panel.origins[s.last_origin]), cfg.brief.frequency),
+                s.candidate,
+            )
+            for s in windows.spells
+        ),
+        factors=tuple(
+            float(v)
+            for v in dynamics.factors(
+                errors[:, : cfg.brief.horizons + 1], chosen.current.spread, window
+            )
+        ),
     )
 
 

@@ -82,12 +82,6 @@ def _borrow(columns: list[np.ndarray], h: int, minimum: int) -> tuple[np.ndarray
     return np.concatenate(pooled), used
 
 
-def _standardised(errors: np.ndarray, spread: dynamics.SpreadOption) -> tuple[np.ndarray, float]:
-    """The errors standardised by their origin's volatility, and today's volatility."""
-    z, _ = dynamics.standardise(errors, spread)
-    return z, dynamics.current(errors, spread)
-
-
 def _rescaled(fitted: Distribution, scale: float) -> Distribution:
     """The law of ``scale`` times a variable with law ``fitted`` (scaled about zero)."""
     if scale == 1.0:
@@ -140,7 +134,8 @@ def build(
 
     With a time-varying ``spread``, the law is fitted to the standardised errors and
     rescaled by today's volatility (:mod:`riskreport.dynamics`); ``samples`` then hold the
-    standardised errors.
+    standardised errors. With the ``joint`` spread each horizon's law is rescaled by the
+    ratio of its joint to its own ML spread (:mod:`riskreport.joint`).
 
     Raises
     ------
@@ -149,7 +144,9 @@ def build(
         distribution.
     """
     mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
-    errors, today = _standardised(errors[:, : cfg.brief.horizons + 1], spread)
+    errors = errors[:, : cfg.brief.horizons + 1]
+    today = dynamics.factors(errors, spread, cfg.uncertainty.window)  # per horizon
+    errors, _ = dynamics.standardise(errors, spread)
     mask = window_mask(errors, cfg.uncertainty.window)
     columns = [errors[mask[:, h], h] for h in range(cfg.brief.horizons + 1)]
     given_h = given.by_horizon if given is not None else {}
@@ -197,7 +194,7 @@ def build(
         sources.append(
             "track record" + (f", borrowing from h = {', '.join(map(str, used))}" if used else "")
         )
-        fits.append(_rescaled(fitted, today))
+        fits.append(_rescaled(fitted, float(today[h])))
     small = [
         h
         for h in range(cfg.brief.horizons + 1)

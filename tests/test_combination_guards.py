@@ -141,7 +141,7 @@ def test_flags_for_negative_weights_and_leaving_the_range(rng: np.random.Generat
 
 def test_the_shrinkage_constant_is_a_config_key(tmp_path: Path) -> None:
     path = macrodata_world(tmp_path, "shrink", horizons=1, extra="shrinkage = 2.0\n")
-    assert config.load(path).combination_shrinkage == 2.0
+    assert config.load(path).combination.shrinkage == 2.0
     shrunk = riskreport.assess(path)
     assert shrunk.combination.shrinkage == 2.0
     base = riskreport.assess(macrodata_world(tmp_path, "ols-sum-to-one", horizons=1))
@@ -151,7 +151,7 @@ def test_the_shrinkage_constant_is_a_config_key(tmp_path: Path) -> None:
         ols = np.array([w.weight for w in base.combination.weights if w.h == h])
         ours = np.array([w.weight for w in shrunk.combination.weights if w.h == h])
         assert ours == pytest.approx(lam * ols + (1 - lam) / 4, abs=1e-12)
-    assert config.load(macrodata_world(tmp_path, "shrink")).combination_shrinkage == 0.25
+    assert config.load(macrodata_world(tmp_path, "shrink")).combination.shrinkage == 0.25
 
 
 @pytest.mark.parametrize("value", ["-0.1", "10.5", '"a lot"'])

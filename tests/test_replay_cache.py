@@ -65,7 +65,7 @@ def test_an_origin_scores_the_same_in_any_batch(
                 np.testing.assert_array_equal(getattr(part, name), getattr(whole, name)[rows])
 
 
-AUTO = 'distribution = "auto"\nspread = "auto"\nrecalibrate = true\n'
+AUTO = 'distribution = "auto"\nspread = "auto"\nwindow_choice = "auto"\nrecalibrate = true\n'
 
 
 def _auto(case: Case) -> Path:

@@ -7,7 +7,7 @@ import math
 from dataclasses import dataclass
 
 from riskreport import periods
-from riskreport.adjustments import Adjustments
+from riskreport.adjustments import NEAR, Adjustments, SensitivityRow
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
@@ -246,17 +246,38 @@ NAMES = {
 }
 
 
+def _spread_words(spread: str) -> str:
+    if spread == "constant":
+        return "constant spread"
+    if spread == "joint":
+        return "spread estimated jointly across horizons"
+    return f"spread following recent errors (smoothing {spread.split(' ')[1]})"
+
+
+def _window_words(window: int) -> str:
+    return "every past error" if window == 0 else f"the last {window} errors"
+
+
 def _method_name(label: str) -> str:
     if label == "auto":
         return "as chosen at each past round"
     if label == "auto, recalibrated":
         return "as chosen at each past round, then recalibrated"
     family, _, spread = label.partition(", ")
-    name = NAMES.get(family, family)
-    if not spread:
-        return f"{name}, constant spread"
-    lam = spread.split(" ")[1]
-    return f"{name}, spread following recent errors (smoothing {lam})"
+    return f"{NAMES.get(family, family)}, {_spread_words(spread or 'constant')}"
+
+
+def _row_name(row: SensitivityRow, a: Assessment) -> str:
+    if row.family == "as selected":
+        return _method_name(row.method)
+    name = f"{NAMES.get(row.family, row.family)}, {_spread_words(row.spread)}"
+    adj = a.adjustments
+    if adj is not None and adj.window_grid:
+        if row.window_fixed:
+            name += f", {_window_words(row.window)} throughout"
+        else:
+            name += f", window as chosen at each round (today {_window_words(row.window)})"
+    return name
 
 
 def _score(value: float) -> str:
@@ -274,7 +295,7 @@ def sensitivity_lines(a: Assessment) -> tuple[SensitivityLine, ...]:
         return ()
     return tuple(
         SensitivityLine(
-            _method_name(r.method),
+            _row_name(r, a),
             fmt.single_percent(r.p_inside),
             _score(r.log_score),
             _share(r.coverage_90),
@@ -298,14 +319,39 @@ def _spread_sentence(adj: Adjustments) -> str:
         if adj.spread_option == "constant":
             return "The spread of errors is taken as constant over the error window."
         return (
-            "A spread that follows recent errors was tried, but the constant spread has "
-            "the better record, so it is used."
+            "A spread that follows recent errors and one estimated jointly across horizons "
+            "were tried, but the constant spread has the better record, so it is used."
+        )
+    if adj.spread == "joint":
+        low, high = (min(adj.factors), max(adj.factors)) if adj.factors else (1.0, 1.0)
+        return (
+            "The spread of each horizon is estimated jointly with the shorter horizons: "
+            "the recent short-horizon errors, whose outcomes are already known, inform the "
+            "spread of the longer horizons (maximum likelihood under joint normality); "
+            f"today this scales the spreads by {low:.2f} to {high:.2f}."
         )
     lam = adj.spread.split(" ")[1]
     return (
         "The spread follows the size of recent errors: past errors are divided by the "
         f"error volatility of their time (smoothing {lam}, chosen by the replay) and the "
         f"shape learned from them is rescaled by today's volatility ({adj.volatility:.2f} pp)."
+    )
+
+
+def _window_sentence(adj: Adjustments) -> str | None:
+    if not adj.window_grid:
+        return None
+    words = [_window_words(w) for w in adj.window_grid]
+    grid = ", ".join(words[:-1]) + " and " + words[-1] if len(words) > 1 else words[0]
+    changed = len({s.method for s in adj.window_spells}) > 1
+    return (
+        f"The error window was chosen by the replay among {grid}: {_window_words(adj.window)} "
+        "has the best record today"
+        + (
+            "; in the replay each past round used the window best on the scores known then."
+            if changed
+            else ", and every past round of the replay used it too."
+        )
     )
 
 
@@ -316,6 +362,9 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         return ()
     v = adj.verdict
     lines = [_spread_sentence(adj)]
+    window = _window_sentence(adj)
+    if window is not None:
+        lines.append(window)
     if a.uncertainty.selection is not None:
         lines.append(
             f"The method ({_method_name(adj.method)}) was chosen by log score; in the replay "
@@ -349,6 +398,18 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         f"(a constant normal law: {100 * v.baseline_gap_90:.0f} and "
         f"{100 * v.baseline_gap_50:.0f})."
     )
+    if v.short_horizons:
+        lines.append(
+            f"The 90% ranges missed by more than {100 * NEAR:.0f} points at "
+            f"{periods.ranges(list(v.short_horizons))} {units(a)} ahead (furthest: held "
+            f"{fmt.single_percent(v.worst_coverage_90)} of the time at {v.worst_h} "
+            f"{units(a)} ahead)"
+            + (
+                "."
+                if not v.near
+                else ": read the probabilities there as less certain than they look."
+            )
+        )
     if not v.near:
         lines.append(
             "Even so, coverage is not near nominal: the stated probabilities should be read "
