@@ -19,6 +19,7 @@ from riskreport import benchmarks, periods
 from riskreport.assessment import json_key
 from riskreport.combination import Combination
 from riskreport.errors import SmallSampleWarning
+from riskreport.inputs import BENCHMARK_NAMES
 from riskreport.panel import Panel, steps_ahead, window_mask
 
 if TYPE_CHECKING:  # the tests (scipy.stats) load only when run: `check` needs none of them
@@ -73,13 +74,21 @@ def error_matrix(forecast: np.ndarray, outcomes: np.ndarray) -> np.ndarray:
 
 
 def forecasters(panel: Panel, combination: Combination) -> dict[str, np.ndarray]:
-    """Every forecaster scored: the models, the combination and the two benchmarks."""
-    return {
-        **dict(zip(panel.models, panel.forecasts, strict=True)),
-        "combination": combination.combined,
-        "no-change": benchmarks.no_change(panel),
-        "autoregression": benchmarks.autoregression(panel),
-    }
+    """Every forecaster scored: the models, the combination and the two benchmarks (whose
+    names no model may take: ``inputs.BENCHMARK_NAMES``, refused when the forecasts are read)."""
+    own = dict(
+        zip(
+            BENCHMARK_NAMES,
+            (
+                combination.combined,
+                benchmarks.no_change(panel),
+                benchmarks.autoregression(panel),
+            ),
+            strict=True,
+        )
+    )
+    assert not own.keys() & set(panel.models), "a model has a benchmark's name"
+    return {**dict(zip(panel.models, panel.forecasts, strict=True)), **own}
 
 
 def _accuracy(errors: dict[str, np.ndarray], horizons: int) -> list[AccuracyRow]:

@@ -46,7 +46,7 @@ def macrodata_world(folder: Path, method: str, *, horizons: int = 4, extra: str 
             level = intercept + slope * level
             period = _quarter(origin + h)
             values = {
-                "no-change": past[-1],
+                "last-value": past[-1],
                 "ar1": level,
                 "mean8": past[-8:].mean(),
                 "long-mean": past.mean(),

@@ -19,6 +19,20 @@ def test_good_case_builds(run: Callable[..., Result], case: Case) -> None:
     assert (case.folder / "out" / "assessment-2024-12.json").is_file()
 
 
+@pytest.mark.parametrize("name", ["no-change", "Autoregression", "combination"])
+def test_a_model_may_not_take_a_benchmarks_name(
+    run: Callable[..., Result], case: Case, name: str
+) -> None:
+    # A model called like one of the track record's own forecasters was silently replaced
+    # by the tool's own in the accuracy table and the tests (a dict merge).
+    first = next(i for i, row in enumerate(case.forecasts) if i and row[2] == "b")
+    case.forecasts = [
+        [*row[:2], name if i and row[2] == "b" else row[2], row[3]]
+        for i, row in enumerate(case.forecasts)
+    ]
+    _fails(run, case, "forecasts.csv", f"row {first + 1}", "column 'model'", repr(name))
+
+
 def test_missing_column(run: Callable[..., Result], case: Case) -> None:
     case.forecasts = [row[:3] for row in case.forecasts]
     _fails(run, case, "forecasts.csv", "row 1", "missing column 'value'")
