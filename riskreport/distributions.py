@@ -238,11 +238,15 @@ class Adjusted:
 
     ``T(x) = mode + shift + scale * (x - mode)``: ``shift`` moves the whole distribution
     (and its mode) and ``scale`` multiplies every distance from the mode (the spread).
+    With ``about_zero`` the map is ``T(x) = scale * x`` (a law of errors rescaled to
+    today's error size): ``shift`` is then ``(scale - 1) * mode`` and :func:`rebase`
+    recomputes it from the new base's mode.
     """
 
     base: Distribution
     shift: float = 0.0
     scale: float = 1.0
+    about_zero: bool = False
 
     def __post_init__(self) -> None:
         if not self.scale > 0:
@@ -367,6 +371,13 @@ def innermost(dist: Distribution) -> Distribution:
     return dist
 
 
+def scale_about_zero(dist: Distribution, scale: float) -> Distribution:
+    """The law of ``scale`` times a variable with law ``dist``."""
+    if scale == 1.0:
+        return dist
+    return Adjusted(dist, shift=(scale - 1.0) * float(dist.mode), scale=scale, about_zero=True)
+
+
 def rebase(dist: Distribution, base: Distribution) -> Distribution:
     """The same chain of maps as ``dist``, rebuilt on another fitted distribution.
 
@@ -374,7 +385,14 @@ def rebase(dist: Distribution, base: Distribution) -> Distribution:
     (monotone spread, point forecast, judgement).
     """
     if isinstance(dist, Adjusted):
-        return Adjusted(rebase(dist.base, base), shift=dist.shift, scale=dist.scale)
+        inner = rebase(dist.base, base)
+        if dist.about_zero:
+            # scale * X for the new X: its shift follows the new mode (a fixed shift would
+            # move each replicate's centre by 1 x its mode change instead of scale x).
+            # (a batch of refits has one mode per replicate: the shift broadcasts)
+            shift = (dist.scale - 1.0) * inner.mode
+            return Adjusted(inner, shift=shift, scale=dist.scale, about_zero=True)
+        return Adjusted(inner, shift=dist.shift, scale=dist.scale)
     if isinstance(dist, Tilted):
         return Tilted(rebase(dist.base, base), tilt=dist.tilt)
     with_base = getattr(dist, "with_base", None)  # any other map that carries its base

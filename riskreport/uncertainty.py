@@ -82,13 +82,6 @@ def _borrow(columns: list[np.ndarray], h: int, minimum: int) -> tuple[np.ndarray
     return np.concatenate(pooled), used
 
 
-def _rescaled(fitted: Distribution, scale: float) -> Distribution:
-    """The law of ``scale`` times a variable with law ``fitted`` (scaled about zero)."""
-    if scale == 1.0:
-        return fitted
-    return distributions.Adjusted(fitted, shift=(scale - 1.0) * float(fitted.mode), scale=scale)
-
-
 def _fit(family: Family, sample: np.ndarray, mode: float | None, h: int) -> Distribution:
     try:
         return distributions.fit(family, sample, mode=mode)
@@ -194,7 +187,7 @@ def build(
         sources.append(
             "track record" + (f", borrowing from h = {', '.join(map(str, used))}" if used else "")
         )
-        fits.append(_rescaled(fitted, float(today[h])))
+        fits.append(distributions.scale_about_zero(fitted, float(today[h])))
     small = [
         h
         for h in range(cfg.brief.horizons + 1)

@@ -78,3 +78,24 @@ def test_fit_rejects_degenerate_samples() -> None:
         distributions.fit("normal", [1.0])
     # A constant sample is degenerate but fitted (tests/reference/test_families.py).
     assert distributions.fit("normal", [0.5, 0.5, 0.5]).notes
+
+
+def test_a_law_rescaled_about_zero_keeps_its_meaning_in_every_bootstrap_replicate(
+    rng: np.random.Generator,
+) -> None:
+    # Today's law under a time-varying spread is the law of s * X (errors rescaled to today's
+    # error size). A bootstrap replicate refits X on a resample and must give s * X_r: for a
+    # normal X_r ~ N(mu, sd^2), s * X_r ~ N(s mu, (s sd)^2) (scipy.stats.norm as the oracle).
+    # The replicate used to keep the point estimate's shift, moving its centre by 1 x the
+    # change of mode instead of s x (the interval's location spread shrank by s).
+    s = 1.6
+    today = distributions.scale_about_zero(distributions.fit("normal", rng.normal(0.2, 1, 60)), s)
+    replicate = distributions.fit("normal", rng.normal(0.9, 1.3, 60))
+    rebased = distributions.rebase(today, replicate)
+    x = np.linspace(-6, 8, 29)
+    oracle = stats.norm(s * replicate.loc, s * replicate.scale)
+    assert rebased.mode == pytest.approx(s * replicate.loc, abs=1e-12)
+    np.testing.assert_allclose(rebased.cdf(x), oracle.cdf(x), atol=1e-12)
+    # A judgement-style map (shift and scale about the mode) still keeps its fixed shift.
+    moved = distributions.rebase(Adjusted(today, shift=0.3, scale=1.2), replicate)
+    assert moved.mode == pytest.approx(s * replicate.loc + 0.3, abs=1e-12)
