@@ -13,7 +13,7 @@ from __future__ import annotations
 import dataclasses
 import warnings
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
@@ -342,6 +342,11 @@ def sensitivity(
     return tuple(rows)
 
 
+# Mean log scores closer than this are read as equal (common practice, no source: a
+# hundredth of a nat per forecast is far inside the noise of a few hundred past rounds).
+SAME_SCORE = 0.01
+
+
 @dataclass(frozen=True)
 class Verdict:
     """What the replay says of the graded method against the constant-spread normal law.
@@ -366,6 +371,15 @@ class Verdict:
     short_horizons: tuple[int, ...] = ()
     worst_h: int = -1
     worst_coverage_90: float = float("nan")
+
+    @property
+    def against_baseline(self) -> Literal["better", "about the same", "worse"]:
+        """The graded method's mean replay log score against the constant normal law's,
+        with differences within ``SAME_SCORE`` read as no difference."""
+        gap = self.log_score - self.baseline_log_score
+        if not np.isfinite(gap) or abs(gap) <= SAME_SCORE:
+            return "about the same"
+        return "better" if gap > 0 else "worse"
 
 
 def _gaps(result: Replays, label: str) -> tuple[float, float, float]:

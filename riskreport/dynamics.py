@@ -8,8 +8,12 @@ that of z rescaled by today's volatility. The volatility is one series for every
 an exponentially weighted mean of the squared errors of the shortest horizon with a track
 record (the nowcast), so that the recent size of short-horizon errors propagates to the
 longer horizons, whose shape and relative size are learned from their own standardised
-errors (in the spirit of Clark, McCracken & Mertens 2020, REStat 102(1), where the
-volatility of multi-horizon errors follows one common stochastic-volatility factor).
+errors. In the spirit of Clark, McCracken & Mertens (2020, "Modeling time-varying
+uncertainty of multiple-horizon forecast errors", REStat 102(1)), where the errors of
+all horizons are built from the same underlying forecast updates with time-varying
+volatilities; their model is richer (stochastic volatility per update, estimated by
+Bayesian methods; this description is recalled from memory) and a single EWMA factor is
+our simplification, not theirs.
 
 No look-ahead: s(o) uses only errors e(o', b) of the base horizon b whose outcome period
 o' + b is at most o - 1.

@@ -4,8 +4,9 @@ At a forecast origin j, the error e(o, h) of the forecast made at origin o for h
 known only once its outcome is, o + h <= j - 1: over the recent origins the short-horizon
 errors are known and the long-horizon ones are not yet. Estimating each horizon's spread
 from its own errors alone ignores what the recent short-horizon errors say about the long
-ones (Knueppel 2014, "Efficient estimation of forecast uncertainty based on recent forecast
-errors", International Journal of Forecasting 30(2)).
+ones (the idea of Knueppel 2014, "Efficient estimation of forecast uncertainty based on
+recent forecast errors", International Journal of Forecasting 30(2), who estimates the
+mean squared errors of all horizons jointly; the estimator below is another one).
 
 With the errors of one origin jointly normal across horizons, the pattern is monotone
 (every row that holds horizon h holds every shorter one) and the maximum-likelihood mean

@@ -34,7 +34,7 @@ from riskreport import panel as panel_module
 from riskreport import thresholds as thresholds_module
 from riskreport.assessment import Assessment
 from riskreport.config import Config
-from riskreport.distributions import GIVEN_FAMILY, Distribution
+from riskreport.distributions import FAMILIES, GIVEN_FAMILY, Distribution
 from riskreport.errors import (
     CombinationFallbackWarning,
     CombinationRangeWarning,
@@ -206,12 +206,14 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     replayed = adjustments_module.replays(cfg, panel, combo.combined, errors, cache=cache)
     runs = replayed.runs
     today = replayed.selection.current
+    totals = adjustments_module.family_totals(replayed)
+    # The runner-up family is the best other family: the runner-up candidate may be the
+    # chosen family under another spread option.
+    others = sorted(
+        (f for f in FAMILIES if f in totals and f != today.family), key=lambda f: -totals[f]
+    )
     choice = (
-        selection.Selection(
-            today.family,
-            replayed.selection.runner_up.family if replayed.selection.runner_up else None,
-            adjustments_module.family_totals(replayed),
-        )
+        selection.Selection(today.family, others[0] if others else None, totals)
         if cfg.uncertainty.distribution == "auto"
         else None
     )

@@ -357,9 +357,17 @@ def test_page_one_quotes_the_reliability_bin_nearest_the_headline(demo_build: Pa
     assert nearest is not near_70  # the demo tells the two apart, so this test can fail
     first = " ".join(PdfReader(out / f"brief-{AS_OF}.pdf").pages[0].extract_text().split())
     said, happened = _whole(nearest["forecast_mean"]), _whole(nearest["observed_frequency"])
-    assert f"statements like today's ({said}% inside) came true {happened}% of the time" in first
+    lo, hi = (_whole(edge) for edge in nearest["bin"])
+    edges = f"{lo}% or more" if hi >= 100 else f"under {hi}%" if lo <= 0 else f"{lo}% to {hi}%"
+    # The bin is pooled over all horizons: the sentence gives its edges, today's value, its
+    # count and mean (it used to present the bin's mean as today's value, and the count of
+    # one horizon as the bin's).
+    assert (
+        f"the {nearest['n']} statements of {edges} inside, at all horizons, came true "
+        f"{happened}% of the time"
+    ) in first
     # Direction in plain words, and the 90% range at the policy horizon.
-    sentence = first[first.index("statements like today's") :]
+    sentence = first[first.index(f"statements of {edges}") :]
     if happened > said + 5:
         assert "more often than stated" in sentence or "times as often as stated" in sentence
     elif happened < said - 5:
@@ -371,7 +379,7 @@ def test_page_one_quotes_the_reliability_bin_nearest_the_headline(demo_build: Pa
         for c in data["calibration"]["coverage"]
         if c["h"] == data["policy_horizon"] and c["nominal"] == 0.9
     )
-    assert f"the 90% ranges held the outcome {_whole(cover['observed'])}% of the time" in first
+    assert f"the 90% ranges held {_whole(cover['observed'])}% of {cover['n']} outcomes" in first
 
 
 def test_no_verbal_phrase_contradicts_its_number(demo_build: Path) -> None:

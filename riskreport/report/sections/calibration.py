@@ -126,7 +126,8 @@ def calibration(
             + (
                 f"rejects calibration at {join_h(a, rejected)}."
                 if rejected
-                else f"does not reject calibration at {join_h(a, run)}."
+                else f"does not reject calibration at {join_h(a, run)}; it has little "
+                "power far ahead, so this is weak evidence that the ranges are right."
             )
         )
     elif not undefined:

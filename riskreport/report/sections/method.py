@@ -27,6 +27,11 @@ VINTAGE_TEXT = {
     "latest": "the latest release of each outcome published by the as_of date "
     "(revisions known by then are included)",
 }
+ONE_RELEASE_TEXT = (
+    "the one release of each outcome in the actuals file: past rounds are fitted and scored "
+    "on it, so revisions published after a past round count as known then (a vintage "
+    "column in the actuals would replay what was known at each round)"
+)
 TESTS_METHOD = (
     "Two forecasts: Diebold-Mariano and encompassing tests with the Harvey-Leybourne-Newbold "
     "correction, Student t; for a forecast n periods ahead the long-run variance uses n\u22121 lags "
@@ -88,6 +93,9 @@ JUDGEMENT_SOURCES = (
     "of Bank of England and National Institute inflation forecast uncertainties, National "
     "Institute Economic Review 189"
 )
+
+
+AGAINST_BASELINE = {"about the same": "about as well as", "worse": "worse than"}
 
 
 def judgement_text(a: Assessment) -> str:
@@ -207,7 +215,8 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
         KeyValue(
             "Plausible range of inside",
             f"{int(100 * u.interval_level)}% of {u.bootstrap_replicates} moving-block "
-            "bootstrap resamples of the past errors",
+            "bootstrap resamples of the past errors; it leaves out the uncertainty of the "
+            "choice of method (the sensitivity panel shows that)",
         ),
         KeyValue(
             "Path probabilities",
@@ -216,10 +225,9 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
         KeyValue("Accuracy tests", TESTS_METHOD),
         KeyValue("Verbal scale", verbal_text(a)),
         KeyValue("Staff judgement", judgement_text(a)),
-        *(
-            (KeyValue("Outcomes scored against", VINTAGE_TEXT[a.score_against]),)
-            if a.score_against
-            else ()
+        KeyValue(
+            "Outcomes scored against",
+            VINTAGE_TEXT[a.score_against] if a.score_against else ONE_RELEASE_TEXT,
         ),
     )
 
@@ -396,8 +404,19 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         f"Over the replayed horizons, the 90% ranges missed their nominal share by "
         f"{100 * v.gap_90:.0f} points on average and the 50% ranges by {100 * v.gap_50:.0f} "
         f"(a constant normal law: {100 * v.baseline_gap_90:.0f} and "
-        f"{100 * v.baseline_gap_50:.0f})."
+        f"{100 * v.baseline_gap_50:.0f}); its mean log score was {fmt.number(v.log_score, 2)} "
+        f"against {fmt.number(v.baseline_log_score, 2)} for the constant normal law (higher "
+        "is better)."
     )
+    chose = (
+        a.uncertainty.distribution == "auto" or adj.spread_option != "constant" or adj.recalibrate
+    )
+    if chose and v.against_baseline != "better":
+        lines.append(
+            f"By that score the method used did {AGAINST_BASELINE[v.against_baseline]} the "
+            "plain constant normal law in the replay: the choice of method shows no gain on "
+            "this record."
+        )
     if v.short_horizons:
         lines.append(
             f"The 90% ranges missed by more than {100 * NEAR:.0f} points at "

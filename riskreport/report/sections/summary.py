@@ -113,11 +113,16 @@ def centre_label(a: Assessment) -> str:
     moved = policy.centre - policy.point_forecast
     judged = any(policy.period in j.periods for j in a.judgement)
     if a.uncertainty.centre == "estimated":
-        why = "their average past miss" + (" and staff judgement" if judged else "")
+        scaled = a.adjustments is not None and a.adjustments.spread != "constant"
+        why = (
+            "their average past miss"
+            + (", scaled to today's error size," if scaled else "")
+            + (" and staff judgement" if judged else "")
+        )
         size = (
-            "under 0.05 percentage points, pp, here"
+            f"under 0.05 pp in {policy.period}"
             if fmt.number(abs(moved)) == "0.0"
-            else f"{fmt.number(moved, signed=True)} percentage points, pp"
+            else f"{fmt.number(moved, signed=True)} percentage points, pp, in {policy.period}"
         )
         return f"the models' forecast corrected by {why} ({size})"
     if judged and fmt.number(moved) not in ("0.0", "\u22120.0"):
@@ -168,9 +173,11 @@ def messages(a: Assessment) -> tuple[str, ...]:
     head = a.headline
     tilt = "above" if head.p_above > head.p_below else "below"
     subject = "at the policy horizon" if head.basis == "period" else f"to the {head.label}"
+    # The same three shares as the headline (largest remainder: they add to 100), not each
+    # rounded on its own, which could print 29% here beside the headline's 30%.
+    below, _, above = fmt.outcome_texts(head.p_below, head.p_inside, head.p_above)
     lines = [
-        f"Risks {subject} lean {tilt} the band: above "
-        f"{fmt.single_percent(head.p_above)}, below {fmt.single_percent(head.p_below)}. "
+        f"Risks {subject} lean {tilt} the band: above {above}, below {below}. "
         f"The centre (most likely value) is {fmt.number(policy.centre)}% in {policy.period}: {centre_label(a)}.",
         _path_message(a),
     ]
@@ -216,10 +223,32 @@ def _calibration_sentence(a: Assessment) -> str:
         else "about right"
     )
     return (
-        f"In a replay over {cover.n} past rounds, statements like today's "
-        f"({fmt.single_percent(said)} inside) came true {fmt.single_percent(happened)} of the "
-        f"time, {_held(said, happened)}. {ahead(a, a.policy_horizon).capitalize()}, the 90% "
-        f"ranges held the outcome {fmt.single_percent(held)} of the time: {ranges}."
+        f"In the replay, the {r.n} statements of {_bin_words(r.bin)} inside, at all horizons, "
+        f"came true {fmt.single_percent(happened)} of the time, {_held(said, happened)}. "
+        f"{ahead(a, a.policy_horizon).capitalize()}, the 90% ranges held "
+        f"{fmt.single_percent(held)} of {cover.n} outcomes: {ranges}." + _against_baseline(a)
+    )
+
+
+def _bin_words(edges: tuple[float, float]) -> str:
+    """A reliability bin's edges in words: "30% to 40%", "90% or more", "under 10%"."""
+    lo, hi = (round(100 * edge) for edge in edges)
+    if hi >= 100:
+        return f"{lo}% or more"
+    if lo <= 0:
+        return f"under {hi}%"
+    return f"{lo}% to {hi}%"
+
+
+def _against_baseline(a: Assessment) -> str:
+    """A warning on page 1 when the method chosen did worse in the replay than the plain
+    constant normal law (the method page gives the scores)."""
+    adj = a.adjustments
+    if adj is None or adj.verdict.against_baseline != "worse":
+        return ""
+    return (
+        " The method chosen for these probabilities scored worse in the replay than a plain "
+        "normal law with a constant spread (see the method page)."
     )
 
 

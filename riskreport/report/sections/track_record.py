@@ -147,12 +147,12 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             "Models that would still add information to the combination (encompassing test, "
             f"HLN 1998): {'; '.join(f'{m} ({join_h(a, hs)})' for m, hs in adds.items())}."
         )
-    elif encompassing and whole:
-        lines.append("The combination encompasses every model at these horizons (HLN 1998 test).")
     elif encompassing:
+        # A non-rejection is not evidence of encompassing: say what was not found.
         lines.append(
-            f"The combination encompasses every model tested, at {none_at(encompassing)} "
-            "(HLN 1998 test)."
+            "No model was found to add significant information to the combination at "
+            f"{'these horizons' if whole else none_at(encompassing)} (encompassing test, "
+            "HLN 1998); with this many past rounds the test may miss a small gain."
         )
     fallback = [t for t in a.tests if any("Bartlett" in note for note in t.notes)]
     if fallback:
@@ -167,6 +167,13 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         lines.append(
             f"Tests use {span(n)} past rounds per horizon; overlapping multi-step "
             "errors make them less reliable at long horizons."
+        )
+    if len(ran) > 1:
+        lines.append(
+            f"{len(ran)} tests were run, each at the {level} level with no adjustment for "
+            f"their number: even with no real differences, about "
+            f"{fmt.number(len(ran) * SIGNIFICANCE, 0)} would be expected to come out "
+            "significant by chance."
         )
     return tuple(lines)
 
