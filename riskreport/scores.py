@@ -72,7 +72,6 @@ def _a(mu: np.ndarray, var: np.ndarray) -> np.ndarray:
 
 GRID_STEP = 0.5  # spacing, in bandwidths, of the grid for the mixture's E|X - X'|
 GRID_REACH = 9.0  # the grid spans the sample -+ this many bandwidths (Phi(-9) < 1e-18)
-GRID_BLOCK = 32  # grid points evaluated at once (bounds the memory of a batch)
 
 
 def _pair_term_exact(x: np.ndarray, ok: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -108,14 +107,18 @@ def kernel_mixture_spread(sample: ArrayLike, bandwidth: ArrayLike) -> np.ndarray
     b and vanishes beyond the sample -+ 9 b, so the trapezoid rule with step b / 2 is
     accurate to rounding (relative error below 1e-12 against all pairs in the tests; the
     trapezoid rule converges geometrically for smooth integrands that vanish at both ends,
-    Trefethen & Weideman 2014, SIAM Review 56:385-458). Each row costs
-    n x (range / b + 36) CDF terms instead of the n^2 pairs of the closed form
-    (Grimit et al. 2006); rows whose grid would be longer than the sample fall back to the
-    pairs, so the cost is never worse than before. Hand-rolled: scipy has no CRPS of a
-    Gaussian mixture.
+    Trefethen & Weideman 2014, SIAM Review 56:385-458; for step s b the aliasing error of
+    the Gaussian-smooth integrand is about exp(-pi^2 / s^2), 7e-18 at s = 1/2 and 5e-5 at
+    s = 1, which is why the step is not coarser). Each component's CDF is evaluated only
+    on the grid points within -+ 9 b of its centre (below it is < 1e-18, above it rounds
+    to 1), and added to F by a bincount, so each row costs n x 37 CDF terms however wide
+    the sample is, instead of the n^2 pairs of the closed form (Grimit et al. 2006); rows
+    whose grid would be longer than the sample fall back to the pairs. Hand-rolled: scipy
+    has no CRPS of a Gaussian mixture.
     """
     x = np.atleast_2d(np.asarray(sample, dtype=float))
-    b = np.broadcast_to(np.asarray(bandwidth, dtype=float).reshape(-1), (x.shape[0],))
+    rows = x.shape[0]
+    b = np.broadcast_to(np.asarray(bandwidth, dtype=float).reshape(-1), (rows,))
     ok = np.isfinite(x)
     n = ok.sum(axis=1)
     low = np.min(np.where(ok, x, np.inf), axis=1) - GRID_REACH * b
@@ -123,15 +126,24 @@ def kernel_mixture_spread(sample: ArrayLike, bandwidth: ArrayLike) -> np.ndarray
     points = int(np.ceil(np.max((high - low) / (GRID_STEP * b)))) + 1
     if points >= x.shape[1]:
         return _pair_term_exact(x, ok, b.reshape(-1, 1))
-    steps = np.linspace(0.0, 1.0, points)
-    centres = np.where(ok, x, 0.0)
-    total = np.zeros(x.shape[0])
-    for first in range(0, points, GRID_BLOCK):
-        grid = low[:, None] + (high - low)[:, None] * steps[None, first : first + GRID_BLOCK]
-        z = (grid[:, :, None] - centres[:, None, :]) / b[:, None, None]
-        f = np.where(ok[:, None, :], special.ndtr(z), 0.0).sum(axis=2) / n[:, None]
-        total += (f * (1.0 - f)).sum(axis=1)  # the ends are ~0: trapezoid = plain sum
-    return np.asarray(2.0 * total * (high - low) / (points - 1))
+    reach = int(np.ceil(GRID_REACH / GRID_STEP))  # grid steps either side of a centre
+    width = points + 2 * reach + 2  # every index below stays inside a row of this width
+    # Grid point k of a row is low + k s b; a centre sits u = (x - low) / (s b) >= reach
+    # steps above low, and its CDF term at k is Phi((k - u) s). Only real centres count.
+    row_of = np.broadcast_to(np.arange(rows)[:, None], x.shape)[ok]
+    u = (x[ok] - low[row_of]) / (GRID_STEP * b[row_of])
+    first = np.ceil(u - reach).astype(np.intp)  # the first k with (k - u) s >= -9
+    k = first[:, None] + np.arange(2 * reach + 1)[None, :]
+    terms = special.ndtr((k - u[:, None]) * GRID_STEP)
+    base = row_of * width
+    near = np.bincount((base[:, None] + k).ravel(), terms.ravel(), rows * width)
+    # Beyond its window a component's CDF is 1: count it in from there on.
+    done = np.bincount(base + first + 2 * reach + 1, minlength=rows * width)
+    cdf = (near.reshape(rows, width) + np.cumsum(done.reshape(rows, width), axis=1))[
+        :, :points
+    ] / n[:, None]
+    # The ends are ~0, so the trapezoid rule is the plain sum times the step.
+    return np.asarray(2.0 * (cdf * (1.0 - cdf)).sum(axis=1) * GRID_STEP * b)
 
 
 def crps_kernel_mixture(y: ArrayLike, sample: np.ndarray, bandwidth: ArrayLike) -> np.ndarray:
