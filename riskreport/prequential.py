@@ -19,7 +19,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport import calibration, dynamics
+from riskreport import calibration, dynamics, parallel
 from riskreport._typing import Family
 from riskreport.calibration import HorizonReplay
 from riskreport.config import Band
@@ -27,7 +27,9 @@ from riskreport.dynamics import SpreadOption
 from riskreport.panel import Panel
 
 if TYPE_CHECKING:
-    from riskreport.replay_cache import ReplayCache
+    from riskreport.replay_cache import Pending, ReplayCache
+
+Key = tuple[str, int]  # (candidate label, horizon)
 
 SELECTED = "auto"  # the label of the selected sequence in the replay
 
@@ -101,40 +103,79 @@ def replay(
     on standardised errors and rescales by the volatility of each evaluation origin. With a
     ``cache``, origins replayed before with identical inputs are taken from it.
     """
-    replay_horizon = calibration.replay_horizon if cache is None else cache.replay_horizon
     spreads = list(dict.fromkeys(c.spread for c in candidates))
     standardised = {s: dynamics.standardise(errors, s) for s in spreads}
-    out: dict[tuple[str, int], HorizonReplay] = {}
-    for h in range(horizons + 1):
-        data = calibration.horizon_data(
-            panel, combined, errors, h, window=window, band_for=band_for
-        )
-        if data is None:
-            continue
-        for spread in spreads:
-            z, scale = standardised[spread]
-            if spread.smoothing is None:
-                shared, at = data, None
-            else:
-                _, train, _ = calibration.training(errors, h, window, values=z)
-                shared = calibration.HorizonData(
-                    data.h,
-                    data.tests,
-                    train,
-                    data.test,
-                    data.lower,
-                    data.upper,
-                    data.category,
-                    data.climatology,
-                )
-                at = scale[data.tests]
-                at = np.where(np.isfinite(at), at, 1.0)
-            for c in candidates:
-                if c.spread == spread:
-                    out[(c.label, h)] = replay_horizon(
-                        c.family, shared, mode=mode, scale=at, label=c.label
-                    )
-    return out
+
+    def replay_some(hs: list[int], pending: list[Pending] | None) -> dict[Key, HorizonReplay]:
+        """The replays at horizons ``hs``; with ``pending``, cached origins are looked up
+        and what is new is collected there instead of recorded."""
+        out: dict[Key, HorizonReplay] = {}
+        for h in hs:
+            data = calibration.horizon_data(
+                panel, combined, errors, h, window=window, band_for=band_for
+            )
+            if data is None:
+                continue
+            for spread in spreads:
+                shared, at = _shared(data, errors, window, spread, standardised[spread])
+                for c in candidates:
+                    if c.spread != spread:
+                        continue
+                    if cache is None:
+                        out[(c.label, h)] = calibration.replay_horizon(
+                            c.family, shared, mode=mode, scale=at, label=c.label
+                        )
+                    elif pending is None:
+                        out[(c.label, h)] = cache.replay_horizon(
+                            c.family, shared, mode=mode, scale=at, label=c.label
+                        )
+                    else:
+                        out[(c.label, h)], found = cache.lookup(
+                            c.family, shared, mode=mode, scale=at, label=c.label
+                        )
+                        pending.append(found)
+        return out
+
+    def there() -> tuple[dict[Key, HorizonReplay], list[Pending]]:
+        pending: list[Pending] = []
+        return replay_some(second, pending), pending
+
+    # The horizons in two halves, one in a forked child when a second core is free
+    # (riskreport.parallel); every horizon's replay is the same either way.
+    first, second = parallel.split(list(range(horizons + 1)))
+    mine, (theirs, pending) = parallel.both(lambda: replay_some(first, None), there)
+    if cache is not None:
+        for found in pending:
+            cache.record(found)
+    merged = {**mine, **theirs}
+    return {key: merged[key] for key in sorted(merged, key=lambda key: key[1])}
+
+
+def _shared(
+    data: calibration.HorizonData,
+    errors: np.ndarray,
+    window: int,
+    spread: SpreadOption,
+    standardised: tuple[np.ndarray, np.ndarray],
+) -> tuple[calibration.HorizonData, np.ndarray | None]:
+    """The horizon's data for one spread option, and the volatility at each evaluation
+    origin (None for a constant spread)."""
+    if spread.smoothing is None:
+        return data, None
+    z, scale = standardised
+    _, train, _ = calibration.training(errors, data.h, window, values=z)
+    shared = calibration.HorizonData(
+        data.h,
+        data.tests,
+        train,
+        data.test,
+        data.lower,
+        data.upper,
+        data.category,
+        data.climatology,
+    )
+    at = scale[data.tests]
+    return shared, np.where(np.isfinite(at), at, 1.0)
 
 
 def _records(
