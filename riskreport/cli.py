@@ -24,7 +24,7 @@ from importlib import resources
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from riskreport import __version__, progress
+from riskreport import __version__, parallel, progress
 from riskreport.errors import EnvironmentFailure, InputError
 
 if TYPE_CHECKING:  # annotations only: `check` runs without loading the pipeline
@@ -499,6 +499,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     _setup_logging(args)
     progress.configure(enabled=not (args.quiet or args.json))
+    parallel.configure(enabled=True)  # the second core, for this command only
+    try:
+        return _main(args)
+    finally:
+        parallel.configure(enabled=False)
+
+
+def _main(args: argparse.Namespace) -> int:
     try:
         summary = _run(args)
         code = int(summary.pop("exit_code", EXIT_OK))

@@ -5,9 +5,11 @@ are still written by this process alone).
 
 The child is forked (``multiprocessing`` "fork" context), so it starts with this process's
 memory: nothing is imported or read again and nothing has to be pickled on the way in; its
-result comes back pickled through a pipe. The serial path is taken where fork is
-unavailable (Windows), on one core, inside a child of ``multiprocessing`` (a worker of
-``batch --jobs``, or such a child itself), and with ``RISKREPORT_WORKERS=1``.
+result comes back pickled through a pipe. The command line turns this on
+(:func:`configure`); the serial path is taken otherwise, where fork is unavailable
+(Windows), on one core, inside a child of ``multiprocessing`` (a worker of
+``batch --jobs``, or such a child itself), while another thread runs, and with
+``RISKREPORT_WORKERS=1``.
 
 Errors: a piece that fails in the child is run again here, so it raises exactly what the
 serial path raises (an :class:`~riskreport.errors.InputError` stays a one-line error with
@@ -23,6 +25,7 @@ import multiprocessing
 import os
 import pickle
 import sys
+import threading
 import warnings
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -35,15 +38,28 @@ ENV = "RISKREPORT_WORKERS"
 log = logging.getLogger("riskreport")
 
 
+_state = {"enabled": False}
+
+
+def configure(*, enabled: bool) -> None:
+    """Allow the child for this process (the command line does; a library caller that
+    does not, or sets ``RISKREPORT_WORKERS``, stays serial: forking inside someone else's
+    program, a notebook with its threads say, is not ours to decide)."""
+    _state["enabled"] = enabled
+
+
 def workers() -> int:
     """How many processes a run may use: 1 (serial) or 2.
 
-    ``RISKREPORT_WORKERS`` (a whole number; 1 turns the child off), else the cores this
-    process may run on; 1 where fork is unavailable or inside a ``multiprocessing`` child.
+    ``RISKREPORT_WORKERS`` (a whole number; 1 turns the child off) where set, else 2 when
+    :func:`configure` allowed it and this process may run on two cores or more. Always 1
+    where fork is unavailable, inside a ``multiprocessing`` child, or while another
+    thread runs (a fork copies only the calling thread, and a lock another thread holds
+    would stay locked in the child).
     """
     if "fork" not in multiprocessing.get_all_start_methods():
         return 1
-    if multiprocessing.parent_process() is not None:
+    if multiprocessing.parent_process() is not None or threading.active_count() > 1:
         return 1
     text = os.environ.get(ENV, "").strip()
     if text:
@@ -53,6 +69,8 @@ def workers() -> int:
             log.warning("%s=%r is not a whole number; running serially", ENV, text)
             return 1
         return max(1, min(wanted, 2))
+    if not _state["enabled"]:
+        return 1
     try:
         cores = len(os.sched_getaffinity(0))
     except AttributeError:  # not on Linux

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import multiprocessing
 import os
+import threading
 import time
 import warnings
 from collections.abc import Callable
@@ -41,6 +42,25 @@ def test_one_worker_runs_both_here(monkeypatch: pytest.MonkeyPatch) -> None:
     assert parallel.both(os.getpid, os.getpid) == (os.getpid(), os.getpid())
     monkeypatch.setenv(parallel.ENV, "many")
     assert parallel.workers() == 1
+
+
+def test_library_use_stays_serial_unless_asked(monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.delenv(parallel.ENV, raising=False)
+    parallel.configure(enabled=False)
+    assert parallel.workers() == 1
+
+
+def test_a_running_thread_keeps_it_serial(two: None) -> None:
+    release = threading.Event()
+    waiting = threading.Thread(target=release.wait)
+    waiting.start()
+    try:
+        assert parallel.workers() == 1
+    finally:
+        release.set()
+        waiting.join()
+    if FORKS:
+        assert parallel.workers() == 2
 
 
 def _bad_period() -> None:
