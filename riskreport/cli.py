@@ -424,6 +424,10 @@ def _one_config(
     """Every brief of one config, in period order; each failure is recorded, not raised."""
     results = []
     rounds: list[str | None] = list(months) if months else [None]
+    if len(rounds) > 1 and parallel.workers() > 1:
+        # Each round renders its workbook and PNG charts in a forked child; imported here
+        # once, the child of every round inherits them instead of importing them again.
+        from riskreport.report import slides, workbook  # noqa: F401
     for as_of in progress.bar(rounds, config.name) if len(rounds) > 1 else rounds:
         try:
             summary = _build(config, out, as_of, force, cache=cache)
