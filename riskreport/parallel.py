@@ -14,16 +14,19 @@ result comes back pickled through a pipe. The command line turns this on
 Errors: a piece that fails in the child is run again here, so it raises exactly what the
 serial path raises (an :class:`~riskreport.errors.InputError` stays a one-line error with
 exit code 2); when the piece run here fails first, the child is stopped and that error is
-raised, as in the serial order. A child never outlives the call. Warnings a piece emits in
+raised, as in the serial order. A child never outlives the call, nor (on Linux) a killed
+parent. Warnings a piece emits in
 the child are emitted again here, in order.
 """
 
 from __future__ import annotations
 
+import ctypes
 import logging
 import multiprocessing
 import os
 import pickle
+import signal
 import sys
 import threading
 import warnings
@@ -35,6 +38,7 @@ from typing import Any, TypeVar
 T = TypeVar("T")
 
 ENV = "RISKREPORT_WORKERS"
+PR_SET_PDEATHSIG = 1  # from <linux/prctl.h>
 log = logging.getLogger("riskreport")
 
 
@@ -87,8 +91,21 @@ class _Outcome:
     warned: tuple[tuple[str, type[Warning]], ...]
 
 
-def _child(task: Callable[[], Any], pipe: Connection) -> None:
+def _die_with_parent(parent: int) -> None:
+    """Ask Linux to stop this child when its parent dies (prctl PR_SET_PDEATHSIG), so a
+    killed run leaves no process behind; elsewhere nothing is done."""
+    try:
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(PR_SET_PDEATHSIG, signal.SIGTERM)
+    except (OSError, AttributeError):  # not Linux
+        return
+    if os.getppid() != parent:  # the parent died before the request took effect
+        os._exit(1)
+
+
+def _child(task: Callable[[], Any], pipe: Connection, parent: int) -> None:
     """Run ``task`` in the forked child and send its outcome (any failure only as a flag)."""
+    _die_with_parent(parent)
     try:
         with warnings.catch_warnings(record=True) as caught:
             value = task()
@@ -123,7 +140,7 @@ def both(here: Callable[[], T], there: Callable[[], Any]) -> tuple[T, Any]:
     receiver, sender = context.Pipe(duplex=False)
     for stream in (sys.stdout, sys.stderr):  # the child must not repeat buffered output
         stream.flush()
-    child = context.Process(target=_child, args=(there, sender), daemon=True)
+    child = context.Process(target=_child, args=(there, sender, os.getpid()), daemon=True)
     child.start()
     sender.close()
     outcome: _Outcome | None = None

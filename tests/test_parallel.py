@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import multiprocessing
 import os
+import subprocess
+import sys
 import threading
 import time
 import warnings
@@ -164,3 +166,41 @@ def test_the_cache_learns_the_same_from_a_parallel_replay(
     assert reused["1"] == reused["2"]
     assert not reused["1"].startswith("0 ")
     assert Path(case.folder / "out-2" / ".riskreport.cache" / "replay.npz").is_file()
+
+
+@needs_fork
+def test_a_killed_run_leaves_no_child(tmp_path: Path) -> None:
+    # A run killed outright (SIGKILL: no clean-up of its own) takes its child with it.
+    pid_file = tmp_path / "child.pid"
+    script = (
+        "import os, time\n"
+        "from riskreport import parallel\n"
+        "def there():\n"
+        f"    open({str(pid_file)!r}, 'w').write(str(os.getpid()))\n"
+        "    time.sleep(60)\n"
+        "parallel.both(lambda: time.sleep(60), there)\n"
+    )
+    run = subprocess.Popen([sys.executable, "-c", script], env={**os.environ, parallel.ENV: "2"})
+    try:
+        deadline = time.monotonic() + 30
+        while not pid_file.exists() or not pid_file.read_text():
+            assert time.monotonic() < deadline, "the child never started"
+            time.sleep(0.05)
+        child = int(pid_file.read_text())
+        run.kill()
+        run.wait()
+        deadline = time.monotonic() + 10
+        while _alive(child):
+            assert time.monotonic() < deadline, "the child outlived its killed parent"
+            time.sleep(0.05)
+    finally:
+        run.kill()
+
+
+def _alive(pid: int) -> bool:
+    """True while ``pid`` runs (a zombie waiting for its reaper counts as gone)."""
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii") as handle:
+            return handle.read().rsplit(")", 1)[1].split()[0] != "Z"
+    except FileNotFoundError:
+        return False
