@@ -4,7 +4,7 @@ nominal, and does the log score beat the constant normal law?
 Two histories:
 1. US CPI inflation, quarterly, year on year, 1960-2009, from the macrodata set that ships
    with statsmodels (``statsmodels.datasets.macrodata``: US Bureau of Labor Statistics CPI
-   as compiled there), with three simple pseudo-real-time forecasters built here (no-change,
+   as compiled there), with three simple pseudo-real-time forecasters built here (last value,
    an AR(1) fitted by least squares on the history up to the origin and iterated, the mean
    of the last four quarters), combined with equal weights, horizons 0-8.
 2. The invented demo scenario.
@@ -64,7 +64,7 @@ def _cpi_case(folder: Path) -> Path:
             if o + h >= len(labels):
                 break
             period = labels[o + h]
-            rows.append(f"{labels[o]},{period},no-change,{past[-1]:.4f}")
+            rows.append(f"{labels[o]},{period},last-value,{past[-1]:.4f}")
             rows.append(f"{labels[o]},{period},ar1,{ar[h]:.4f}")
             rows.append(f"{labels[o]},{period},mean4,{past[-4:].mean():.4f}")
     as_of = len(yoy) - 1

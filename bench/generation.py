@@ -3,7 +3,8 @@ asserted in the tests). Every figure is a fresh process, so imports are paid as 
 pays them; each ratio's two sides are measured back to back, repeated, and the median of
 the per-repeat ratios is printed (the machine may be shared).
 
-1. build / import floor, check / floor, identical re-run / floor, on the demo; the floor is
+1. build / import floor (also in CPU seconds), check / floor, identical re-run / floor and
+   the serial build (RISKREPORT_WORKERS=1) / build, on the demo; the floor is
    a bare import of the dependency stack (numpy, pandas, scipy.stats, statsmodels,
    matplotlib, jinja2, weasyprint).
 2. A batch of 12 monthly rounds / one build.
@@ -44,22 +45,26 @@ ARCHIVES = {"1x": (6, 26, 24), "4x": (12, 50, 24), "16x": (20, 50, 36)}
 
 @dataclass(frozen=True)
 class Run:
-    """One command in a fresh process: wall seconds and peak resident memory."""
+    """One command in a fresh process: wall seconds, peak resident memory (the largest
+    process: a forked helper child counts on its own, not added) and CPU seconds (user +
+    system, children included), which a busy machine inflates far less than wall time."""
 
     seconds: float
     peak_mb: float
+    cpu: float
 
 
-def _run(argv: list[str]) -> Run:
+def _run(argv: list[str], **extra_env: str) -> Run:
     """Run ``argv`` in a child that reports its own child's peak memory (ru_maxrss, KiB)."""
     probe = (
         "import resource, subprocess, sys, time\n"
         "t = time.perf_counter()\n"
         "subprocess.run(sys.argv[1:], check=True, stdout=subprocess.DEVNULL, stderr=sys.stderr)\n"
         "t = time.perf_counter() - t\n"
-        "print(t, resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss)\n"
+        "u = resource.getrusage(resource.RUSAGE_CHILDREN)\n"
+        "print(t, u.ru_maxrss, u.ru_utime + u.ru_stime)\n"
     )
-    env = {**os.environ, "MPLBACKEND": "Agg"}
+    env = {**os.environ, "MPLBACKEND": "Agg", **extra_env}
     done = subprocess.run(
         [sys.executable, "-c", probe, *argv],
         check=True,
@@ -68,8 +73,8 @@ def _run(argv: list[str]) -> Run:
         cwd=ROOT,
         env=env,
     )
-    seconds, kib = done.stdout.split()
-    return Run(float(seconds), int(kib) / 1024)
+    seconds, kib, cpu = done.stdout.split()
+    return Run(float(seconds), int(kib) / 1024, float(cpu))
 
 
 def _cli(*args: str) -> list[str]:
@@ -87,14 +92,22 @@ def _median_ratio(pairs: list[tuple[float, float]]) -> tuple[float, float, float
 
 def demo_ratios(repeats: int, work: Path) -> None:
     """Build, check and identical re-run against the import floor, back to back."""
-    build_pairs, check_pairs, rerun_pairs = [], [], []
+    build_pairs, check_pairs, rerun_pairs, cpu_pairs, serial_pairs = [], [], [], [], []
     for i in range(repeats):
         out = work / f"demo-{i}"
-        floor = _run([sys.executable, "-c", FLOOR]).seconds
-        build = _run(_cli("build", str(DEMO), "--out", str(out))).seconds
+        floor_run = _run([sys.executable, "-c", FLOOR])
+        floor = floor_run.seconds
+        build_run = _run(_cli("build", str(DEMO), "--out", str(out)))
+        build = build_run.seconds
         check = _run(_cli("check", str(DEMO))).seconds
         rerun = _run(_cli("build", str(DEMO), "--out", str(out))).seconds
+        serial = _run(
+            _cli("build", str(DEMO), "--out", str(work / f"serial-{i}")),
+            RISKREPORT_WORKERS="1",
+        )
         build_pairs.append((build, floor))
+        cpu_pairs.append((build_run.cpu, floor_run.cpu))
+        serial_pairs.append((serial.seconds, build))
         check_pairs.append((check, floor))
         rerun_pairs.append((rerun, floor))
         shutil.rmtree(out)
@@ -105,16 +118,21 @@ def demo_ratios(repeats: int, work: Path) -> None:
     ):
         ratio, a, b = _median_ratio(pairs)
         print(f"{name:34s} {ratio:6.2f} x  ({a:.1f} s / {b:.1f} s; target {target})")
+    ratio, a, b = _median_ratio(cpu_pairs)
+    print(f"{'  the same in CPU seconds':34s} {ratio:6.2f} x  ({a:.1f} s / {b:.1f} s)")
+    ratio, a, b = _median_ratio(serial_pairs)
+    print(f"{'serial build / build (2nd core)':34s} {ratio:6.2f} x  ({a:.1f} s / {b:.1f} s)")
 
 
 def batch_ratio(work: Path) -> None:
     """Twelve monthly rounds in one batch against one build, back to back."""
     out = work / "batch"
-    one = _run(_cli("build", str(DEMO), "--out", str(work / "one"))).seconds
+    one = _run(_cli("build", str(DEMO), "--out", str(work / "one")))
     twelve = _run(_cli("batch", str(DEMO), "--months", "2025-12..2026-11", "--out", str(out)))
     print(
-        f"batch of 12 months / one build       {twelve.seconds / one:6.2f} x  "
-        f"({twelve.seconds:.1f} s / {one:.1f} s; target <= 3; peak {twelve.peak_mb:.0f} MB)"
+        f"batch of 12 months / one build       {twelve.seconds / one.seconds:6.2f} x  "
+        f"({twelve.seconds:.1f} s / {one.seconds:.1f} s; target <= 3; "
+        f"peak {twelve.peak_mb:.0f} MB; CPU {twelve.cpu / one.cpu:.2f} x)"
     )
 
 
@@ -178,7 +196,7 @@ def scaling(work: Path, sizes: list[str]) -> None:
             f"cells {cells / base_cells:5.1f} x): build {build.seconds:6.1f} s = "
             f"{build.seconds / floor:5.1f} x floor, "
             f"{(build.seconds - floor) / cells * 1e6:6.1f} s per million cells above the floor, "
-            f"peak {build.peak_mb:5.0f} MB"
+            f"peak {build.peak_mb:5.0f} MB, CPU {build.cpu:6.1f} s"
         )
 
 

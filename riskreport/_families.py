@@ -863,8 +863,11 @@ def fit_empirical_batch(samples: ArrayLike, mode: float | None = None) -> Empiri
     bandwidth = np.maximum(0.9 * spread_ * np.maximum(n, 1) ** (-0.2), MIN_SCALE)
     steps = np.linspace(0, 1, 64)
     grid = q02[:, None] + (q98 - q02)[:, None] * steps[None, :]
-    z = (grid[:, :, None] - x[:, None, :]) / bandwidth[:, None, None]
-    density = np.nansum(np.exp(-0.5 * z**2), axis=2)
+    # A missing entry sits at +inf, where its kernel is exactly 0 (as nansum would count
+    # it, without nansum's copies).
+    far = np.where(np.isfinite(x), x, np.inf)
+    z = (grid[:, :, None] - far[:, None, :]) / bandwidth[:, None, None]
+    density = np.exp(-0.5 * z**2).sum(axis=2)
     rows = np.arange(x.shape[0])
     best = np.clip(np.argmax(density, axis=1), 1, steps.size - 2)
     left, centre, right = density[rows, best - 1], density[rows, best], density[rows, best + 1]

@@ -24,7 +24,7 @@ from importlib import resources
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from riskreport import __version__, progress
+from riskreport import __version__, parallel, progress
 from riskreport.errors import EnvironmentFailure, InputError
 
 if TYPE_CHECKING:  # annotations only: `check` runs without loading the pipeline
@@ -456,6 +456,10 @@ def _one_config(
     """Every brief of one config, in period order; each failure is recorded, not raised."""
     results = []
     rounds: list[str | None] = list(months) if months else [None]
+    if len(rounds) > 1 and parallel.workers() > 1:
+        # Each round renders its workbook and PNG charts in a forked child; imported here
+        # once, the child of every round inherits them instead of importing them again.
+        from riskreport.report import slides, workbook  # noqa: F401
     for as_of in progress.bar(rounds, config.name) if len(rounds) > 1 else rounds:
         try:
             summary = _build(config, out, as_of, force, cache=cache)
@@ -531,6 +535,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     _setup_logging(args)
     progress.configure(enabled=not (args.quiet or args.json))
+    parallel.configure(enabled=True)  # the second core, for this command only
+    try:
+        return _main(args)
+    finally:
+        parallel.configure(enabled=False)
+
+
+def _main(args: argparse.Namespace) -> int:
     try:
         summary = _run(args)
         code = int(summary.pop("exit_code", EXIT_OK))

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import csv
 import datetime as dt
+import hashlib
+import io
 import math
 import zipfile
 from dataclasses import dataclass
@@ -143,22 +145,39 @@ def read_table(
     return result
 
 
+_PARSED: dict[tuple[str, bytes], pd.DataFrame] = {}  # the last few CSV files parsed
+PARSED_KEPT = 4
+
+
 def _read_csv(path: Path) -> pd.DataFrame:
     """Every record of a CSV as text, the header too; blank lines kept as empty rows.
 
     Read with the standard csv module rather than pandas.read_csv: pandas either drops blank
     lines (and so renumbers the rows after them) or fixes the number of columns from the
-    first line, and the row numbers in messages must match what a spreadsheet shows.
+    first line, and the row numbers in messages must match what a spreadsheet shows. A
+    file read again with the same content (the rounds of a ``batch``) is not parsed again:
+    the last few parses are kept by path and content digest, and a copy is returned.
     """
     try:
-        with path.open(encoding="utf-8-sig", newline="") as handle:
-            records = list(csv.reader(handle, skipinitialspace=True))
+        content = path.read_bytes()
+    except OSError as exc:
+        raise InputError(f"cannot read the file ({exc.strerror or exc})", file=path) from None
+    key = (str(path.resolve()), hashlib.blake2b(content, digest_size=16).digest())
+    if key not in _PARSED:
+        while len(_PARSED) >= PARSED_KEPT:
+            del _PARSED[next(iter(_PARSED))]
+        _PARSED[key] = _parse_csv(content, path)
+    return _PARSED[key].copy()
+
+
+def _parse_csv(content: bytes, path: Path) -> pd.DataFrame:
+    try:
+        text = content.decode("utf-8-sig")
+        records = list(csv.reader(io.StringIO(text, newline=""), skipinitialspace=True))
     except UnicodeDecodeError:
         raise InputError("expected UTF-8 text", file=path) from None
     except csv.Error as exc:
         raise InputError(f"cannot read as CSV ({exc})", file=path) from None
-    except OSError as exc:
-        raise InputError(f"cannot read the file ({exc.strerror or exc})", file=path) from None
     header = next((r for r in records if any(cell.strip() for cell in r)), [])
     width = len(header)
     for number, record in enumerate(records, start=1):

@@ -15,11 +15,13 @@ import logging
 from collections.abc import Iterable
 from pathlib import Path
 
-from riskreport import folder
+from riskreport import folder, parallel
 from riskreport._typing import OUTPUT_FORMATS, OutputFormat
 from riskreport.assessment import Assessment, HorizonResult, plain
 
 log = logging.getLogger("riskreport")
+
+PAGE_FORMATS: frozenset[OutputFormat] = frozenset({"html", "pdf"})
 
 
 def run_id(assessment_json: str) -> str:
@@ -94,8 +96,30 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
     unknown = chosen - set(OUTPUT_FORMATS)
     if unknown:
         raise ValueError(f"formats: expected items from {OUTPUT_FORMATS}, got {sorted(unknown)}")
-    as_of = assessment.as_of
     text = assessment.to_json()
+    others = chosen - PAGE_FORMATS
+
+    def page() -> dict[str, bytes]:
+        return _page_files(chosen, assessment, text)
+
+    def rest() -> dict[str, bytes]:
+        return _other_files(others, assessment, text)
+
+    if chosen & PAGE_FORMATS and others:
+        # The page (SVG charts, HTML, PDF) here, the rest in a forked child when a second
+        # core is free (riskreport.parallel); the files are the same either way. The chart
+        # modules both sides use are imported first, so the child inherits them.
+        from riskreport.report import charts  # noqa: F401
+
+        made, more = parallel.both(page, rest)
+    else:
+        made, more = page(), rest()
+    return {**more, **made}
+
+
+def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -> dict[str, bytes]:
+    """The JSON, CSV tables, workbook, PNG charts and slides of ``chosen``."""
+    as_of = assessment.as_of
     files: dict[str, bytes] = {}
     if "json" in chosen:
         files[f"assessment-{as_of}.json"] = text.encode("utf-8")
@@ -145,6 +169,13 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
             for picture in pictures:
                 files[f"{folder}/{picture.name}-{as_of}.png"] = picture.png
                 files[f"{folder}/{picture.name}-{as_of}.txt"] = (picture.alt + "\n").encode("utf-8")
+    return files
+
+
+def _page_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -> dict[str, bytes]:
+    """The SVG charts, HTML page and PDF of ``chosen`` (none unless html or pdf is in it)."""
+    as_of = assessment.as_of
+    files: dict[str, bytes] = {}
     if chosen & {"html", "pdf"}:
         from riskreport.report import render as render_module
 

@@ -91,15 +91,22 @@ def parse_column(texts: pd.Series) -> tuple[pd.Series, pd.Series]:
         Per row: ``"monthly"``, ``"quarterly"`` or missing (unparseable), and the pandas
         ordinal (missing where unparseable).
     """
-    parts = texts.astype(str).str.extract(_ANY)
+    # A forecast file repeats each label once per model and origin: parse the distinct
+    # labels once and map them back (84k rows hold about 600 labels in the demo).
+    codes, labels = pd.factorize(texts.astype(str), use_na_sentinel=False)
+    parts = pd.Series(labels).str.extract(_ANY)
     year = pd.to_numeric(parts[0])
     month = pd.to_numeric(parts[1])
     quarter = pd.to_numeric(parts[2])
-    frequency = pd.Series(pd.NA, index=texts.index, dtype="object")
-    frequency.loc[month.notna()] = "monthly"
-    frequency.loc[quarter.notna()] = "quarterly"
+    unique_frequency = pd.Series(pd.NA, index=parts.index, dtype="object")
+    unique_frequency.loc[month.notna()] = "monthly"
+    unique_frequency.loc[quarter.notna()] = "quarterly"
     # pandas ordinals count periods from 1970-01 (monthly) or 1970-Q1 (quarterly).
-    ordinal = ((year - 1970) * 12 + month - 1).where(month.notna(), (year - 1970) * 4 + quarter - 1)
+    unique_ordinal = ((year - 1970) * 12 + month - 1).where(
+        month.notna(), (year - 1970) * 4 + quarter - 1
+    )
+    frequency = pd.Series(unique_frequency.to_numpy()[codes], index=texts.index, dtype="object")
+    ordinal = pd.Series(unique_ordinal.to_numpy()[codes], index=texts.index)
     return frequency, ordinal
 
 

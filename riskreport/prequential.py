@@ -24,7 +24,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport import calibration, dynamics, joint
+from riskreport import calibration, dynamics, joint, parallel
 from riskreport._typing import Family
 from riskreport.calibration import HorizonReplay
 from riskreport.config import Band
@@ -32,7 +32,9 @@ from riskreport.dynamics import SpreadOption
 from riskreport.panel import Panel
 
 if TYPE_CHECKING:
-    from riskreport.replay_cache import ReplayCache
+    from riskreport.replay_cache import Pending, ReplayCache
+
+Key = tuple[str, int]  # (candidate label, horizon)
 
 SELECTED = "auto"  # the label of the selected sequence in the replay
 # The families whose window the replay chooses (``window_choice = "auto"``): the law the
@@ -161,7 +163,6 @@ def replay(
     origin uses ``window``. With a ``cache``, origins replayed before with identical inputs
     are taken from it.
     """
-    replay_horizon = calibration.replay_horizon if cache is None else cache.replay_horizon
     spreads = list(dict.fromkeys(c.spread for c in candidates))
     per_row = {s: (windows or {}).get(s) for s in spreads}
     standardised = {s: dynamics.standardise(errors, s) for s in spreads}
@@ -170,41 +171,87 @@ def replay(
         for s in spreads
         if s.kind == "joint"
     }
-    out: dict[tuple[str, int], HorizonReplay] = {}
-    for h in range(horizons + 1):
-        data = calibration.horizon_data(
-            panel, combined, errors, h, window=window, band_for=band_for
-        )
-        if data is None:
-            continue
-        for spread in spreads:
-            z, scale = standardised[spread]
-            values = z if spread.kind == "ewma" else None
-            rows = per_row[spread]
-            if values is not None:
-                _, train, _ = calibration.training(errors, h, window, values=values)
-            else:
-                train = data.train
-            fixed = dataclasses.replace(data, train=train)
-            chosen = (
-                fixed
-                if rows is None
-                else dataclasses.replace(data, train=_windowed(errors, h, rows, values))
+
+    def replay_some(hs: list[int], pending: list[Pending] | None) -> dict[Key, HorizonReplay]:
+        """The replays at horizons ``hs``; with ``pending``, cached origins are looked up
+        and what is new is collected there instead of recorded."""
+        out: dict[Key, HorizonReplay] = {}
+        for h in hs:
+            data = calibration.horizon_data(
+                panel, combined, errors, h, window=window, band_for=band_for
             )
-            at: np.ndarray | None = None
-            if spread.kind == "ewma":
-                at = scale[data.tests]
-            elif spread.kind == "joint":
-                at = ratios[spread][data.tests, h]
-            if at is not None:
-                at = np.where(np.isfinite(at), at, 1.0)
-            for c in candidates:
-                if c.spread == spread:
+            if data is None:
+                continue
+            for spread in spreads:
+                fixed, chosen, at = _shared(
+                    data, errors, window, spread, standardised[spread], per_row[spread], ratios
+                )
+                for c in candidates:
+                    if c.spread != spread:
+                        continue
                     shared = chosen if c.family in WINDOW_FAMILIES else fixed
-                    out[(c.label, h)] = replay_horizon(
-                        c.family, shared, mode=mode, scale=at, label=c.label
-                    )
-    return out
+                    if cache is None:
+                        out[(c.label, h)] = calibration.replay_horizon(
+                            c.family, shared, mode=mode, scale=at, label=c.label
+                        )
+                    elif pending is None:
+                        out[(c.label, h)] = cache.replay_horizon(
+                            c.family, shared, mode=mode, scale=at, label=c.label
+                        )
+                    else:
+                        out[(c.label, h)], found = cache.lookup(
+                            c.family, shared, mode=mode, scale=at, label=c.label
+                        )
+                        pending.append(found)
+        return out
+
+    def there() -> tuple[dict[Key, HorizonReplay], list[Pending]]:
+        pending: list[Pending] = []
+        return replay_some(second, pending), pending
+
+    # The horizons in two halves, one in a forked child when a second core is free
+    # (riskreport.parallel); every horizon's replay is the same either way.
+    first, second = parallel.split(list(range(horizons + 1)))
+    mine, (theirs, pending) = parallel.both(lambda: replay_some(first, None), there)
+    if cache is not None:
+        for found in pending:
+            cache.record(found)
+    merged = {**mine, **theirs}
+    return {key: merged[key] for key in sorted(merged, key=lambda key: key[1])}
+
+
+def _shared(
+    data: calibration.HorizonData,
+    errors: np.ndarray,
+    window: int,
+    spread: SpreadOption,
+    standardised: tuple[np.ndarray, np.ndarray],
+    rows: np.ndarray | None,
+    ratios: dict[SpreadOption, np.ndarray],
+) -> tuple[calibration.HorizonData, calibration.HorizonData, np.ndarray | None]:
+    """The horizon's data for one spread option over the configured window and over each
+    origin's chosen window (``rows``; the same when None), and the scale at each evaluation
+    origin (the volatility for ``ewma``, the joint-to-own ratio for ``joint``; None for a
+    constant spread)."""
+    z, scale = standardised
+    values = z if spread.kind == "ewma" else None
+    fixed = data
+    if values is not None:
+        _, train, _ = calibration.training(errors, data.h, window, values=values)
+        fixed = dataclasses.replace(data, train=train)
+    chosen = (
+        fixed
+        if rows is None
+        else dataclasses.replace(data, train=_windowed(errors, data.h, rows, values))
+    )
+    at: np.ndarray | None = None
+    if spread.kind == "ewma":
+        at = scale[data.tests]
+    elif spread.kind == "joint":
+        at = ratios[spread][data.tests, data.h]
+    if at is not None:
+        at = np.where(np.isfinite(at), at, 1.0)
+    return fixed, chosen, at
 
 
 def _rows_or(rows: np.ndarray | None, window: int, n: int) -> np.ndarray:

@@ -21,6 +21,15 @@ def configure(*, enabled: bool) -> None:
     _state["enabled"] = enabled
 
 
+def _tqdm() -> Any:
+    """tqdm's bar class, without its monitor thread (a thread must not be running when
+    :mod:`riskreport.parallel` forks; the monitor only tunes how often a bar redraws)."""
+    from tqdm import tqdm
+
+    tqdm.monitor_interval = 0
+    return tqdm
+
+
 def _options(description: str, total: int | None) -> dict[str, Any]:
     return {
         "desc": description,
@@ -38,9 +47,7 @@ def bar(items: Iterable[T], description: str, total: int | None = None) -> Itera
     if not _state["enabled"]:
         yield from items
         return
-    from tqdm import tqdm
-
-    yield from tqdm(items, **_options(description, total))
+    yield from _tqdm()(items, **_options(description, total))
 
 
 @dataclass
@@ -57,10 +64,8 @@ class Steps:
         """A bar of ``total`` steps (drawn on a terminal only)."""
         if not _state["enabled"]:
             return cls(total)
-        from tqdm import tqdm
-
         options = {**_options("", total), "bar_format": "{desc} {bar} {n}/{total}"}
-        return cls(total, tqdm(**options))
+        return cls(total, _tqdm()(**options))
 
     def step(self, name: str) -> None:
         """Mark the previous step done and show ``name`` as running."""

@@ -260,16 +260,32 @@ class ReplayCache:
         label: str | None = None,
     ) -> HorizonReplay:
         """:func:`riskreport.calibration.replay_horizon`, fitting only origins not cached."""
+        replayed, pending = self.lookup(family, data, mode=mode, scale=scale, label=label)
+        self.record(pending)
+        return replayed
+
+    def lookup(
+        self,
+        family: Family,
+        data: HorizonData,
+        *,
+        mode: float | None,
+        scale: np.ndarray | None = None,
+        label: str | None = None,
+    ) -> tuple[HorizonReplay, Pending]:
+        """:meth:`replay_horizon` without changing the cache: the replay and what
+        :meth:`record` adds to the cache (so a forked child can replay and the parent
+        record)."""
         name = f"{label or family}|mode={mode!r}"
         table = self._tables.get(name)
-        if table is None:
-            table = self._tables[name] = _Table([], np.empty((0, VALUES)), np.empty(0, np.int64))
+        index = table.index if table is not None else {}
         digests = _row_digests(data, scale)
-        found = np.array([table.index.get(d, -1) for d in digests], dtype=np.int64)
+        found = np.array([index.get(d, -1) for d in digests], dtype=np.int64)
         missing = np.flatnonzero(found < 0)
         values = np.empty((len(digests), VALUES))
         have = found >= 0
-        values[have] = table.values[found[have]]
+        if table is not None:
+            values[have] = table.values[found[have]]
         if missing.size:
             fresh = calibration.replay_horizon(
                 family,
@@ -281,17 +297,7 @@ class ReplayCache:
             values[missing] = np.column_stack(
                 [fresh.pit, fresh.probabilities, fresh.log_score, fresh.crps]
             )
-            start = len(table.keys)
-            for j, row in enumerate(missing):
-                table.keys.append(digests[row])
-                table.index[digests[row]] = start + j
-            table.values = np.concatenate([table.values, values[missing]])
-            table.used = np.concatenate([table.used, np.zeros(missing.size, np.int64)])
-            found[missing] = start + np.arange(missing.size)
-        table.used[found] = self._generation + 1
-        self.hits += int(have.sum())
-        self.misses += int(missing.size)
-        return HorizonReplay(
+        replayed = HorizonReplay(
             family=label or family,
             h=data.h,
             origins=data.tests,
@@ -302,6 +308,40 @@ class ReplayCache:
             log_score=values[:, 4].copy(),
             crps=values[:, 5].copy(),
         )
+        return replayed, Pending(name, digests, values, ~have)
+
+    def record(self, pending: Pending) -> None:
+        """Add a :meth:`lookup`'s fitted origins to the cache and mark all its origins used
+        (an origin another lookup added meanwhile is not added twice)."""
+        table = self._tables.get(pending.name)
+        if table is None:
+            table = self._tables[pending.name] = _Table(
+                [], np.empty((0, VALUES)), np.empty(0, np.int64)
+            )
+        found = np.array([table.index.get(d, -1) for d in pending.digests], dtype=np.int64)
+        new = np.flatnonzero(found < 0)
+        if new.size:
+            start = len(table.keys)
+            for j, row in enumerate(new):
+                table.keys.append(pending.digests[row])
+                table.index[pending.digests[row]] = start + j
+            table.values = np.concatenate([table.values, pending.values[new]])
+            table.used = np.concatenate([table.used, np.zeros(new.size, np.int64)])
+            found[new] = start + np.arange(new.size)
+        table.used[found] = self._generation + 1
+        self.hits += int((~pending.fitted).sum())
+        self.misses += int(pending.fitted.sum())
+
+
+@dataclass(frozen=True)
+class Pending:
+    """One :meth:`ReplayCache.lookup`: the method's table name, each origin's digest and
+    values, and which origins were fitted (not found in the cache)."""
+
+    name: str
+    digests: list[bytes]
+    values: np.ndarray
+    fitted: np.ndarray
 
 
 # --- identical re-runs --------------------------------------------------------------------

@@ -64,7 +64,7 @@ def _macrodata_case(tmp_path: Path) -> tuple[Path, np.ndarray]:
                 period = labels[o + h] if o + h < len(labels) else None
                 if period is None:
                     continue
-                rows.append(f"{labels[o]},{period},no-change,{last:.4f}")
+                rows.append(f"{labels[o]},{period},last-value,{last:.4f}")
                 rows.append(f"{labels[o]},{period},mean8,{mean8:.4f}")
     as_of = len(infl) - 1
     # The outcome of the last quarter (the current round's nowcast target) is not known yet.

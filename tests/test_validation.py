@@ -6,6 +6,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from tests.conftest import Case, Result
@@ -253,3 +254,21 @@ def test_batch_over_months_and_configs(
     assert codes == [0, 2]
     assert (tmp_path / "m" / "assessment-2024-12.json").is_file()
     assert run("batch", config, "--months", "2024-12..2024-10").code == 2
+
+
+def test_a_file_changed_between_reads_is_read_again(case: Case) -> None:
+    # Parsed CSV files are kept for the rounds of a batch: a file whose content changed
+    # must be parsed afresh, and a kept parse must not be changed by its reader.
+    from riskreport import inputs
+
+    case.write()
+    path = case.folder / "actuals.csv"
+    first = inputs.read_actuals(path, "monthly")
+    assert inputs._read_csv(path) is not inputs._read_csv(path)
+    rows = path.read_text(encoding="utf-8").splitlines()
+    label, value = rows[-1].split(",")
+    rows[-1] = f"{label},{float(value) + 1:.3f}"
+    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    again = inputs.read_actuals(path, "monthly")
+    assert again.value[-1] == pytest.approx(first.value[-1] + 1, abs=1e-9)
+    assert np.array_equal(again.value[:-1], first.value[:-1])

@@ -5,7 +5,7 @@ statsmodels as ``statsmodels.datasets.macrodata``), the CPI as year-on-year infl
 percent, 100 (CPI_t / CPI_{t-4} - 1). Four simple pseudo-real-time forecasters are built
 here; each forecast at origin o uses outcomes up to o - 1 only:
 
-- no-change: the last known rate;
+- last-value: the last known rate;
 - AR(1) fitted by least squares on the rates up to o - 1, iterated h + 1 steps;
 - the mean of the last four known rates;
 - target-anchored: 2 + (last known rate - 2) * 0.8^(h + 1).
@@ -35,7 +35,7 @@ H = 8
 WINDOW = 40
 BAND = (1.0, 3.0)
 AS_OF = "2009Q3"  # the last quarter of the data: its outcome is in the file but not used
-MODELS = ("no-change", "ar1", "mean4", "anchored")
+MODELS = ("last-value", "ar1", "mean4", "anchored")
 
 
 @dataclass(frozen=True)
@@ -58,7 +58,7 @@ def _forecasts(y: np.ndarray, end: int) -> dict[str, np.ndarray]:
         value = intercept + slope * value
         ar.append(value)
     return {
-        "no-change": np.full(H + 1, last),
+        "last-value": np.full(H + 1, last),
         "ar1": np.array(ar),
         "mean4": np.full(H + 1, past[-4:].mean()),
         "anchored": 2.0 + (last - 2.0) * 0.8**steps,

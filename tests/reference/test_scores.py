@@ -123,7 +123,37 @@ def test_kernel_mixture_spread_is_the_pair_mean() -> None:
     assert grid[0] == pytest.approx(quad, rel=1e-8)
 
 
-def test_crps_numeric_matches_quadrature() -> None:
+@pytest.mark.parametrize(
+    ("xi", "omega", "alpha", "y"),
+    [(1.0, 2.0, 3.0, 2.0), (0.0, 1.0, -6.0, -0.4), (-0.3, 0.5, 0.7, 1.9), (0.2, 1.3, 25.0, -1.0)],
+)
+def test_crps_skew_normal_closed_form_matches_quadrature(
+    xi: float, omega: float, alpha: float, y: float
+) -> None:
+    # CRPS = int F^2 below y + int (1 - F)^2 above y, integrated by scipy's quad with
+    # scipy.stats.skewnorm (Azzalini's parametrisation: a = alpha, loc = xi, scale = omega).
+    law = stats.skewnorm(alpha, xi, omega)
+    below, _ = integrate.quad(lambda x: law.cdf(x) ** 2, -np.inf, y, epsabs=1e-13, limit=200)
+    above, _ = integrate.quad(lambda x: law.sf(x) ** 2, y, np.inf, epsabs=1e-13, limit=200)
+    ours = float(scores.crps_skew_normal(y, xi, omega, alpha))
+    assert ours == pytest.approx(below + above, rel=1e-10)
+
+
+def test_skewnormal_spread_limits_and_quadrature() -> None:
+    # E|Z - Z'| = 2 int F (1 - F): 2/sqrt(pi) for the normal, (4 - 2 sqrt 2)/sqrt(pi) for the
+    # half-normal (Gini mean differences; alpha -> inf), and scipy's quad with skewnorm.
+    assert float(scores.skewnormal_spread(0.0)) == pytest.approx(2 / np.sqrt(np.pi), rel=1e-14)
+    half = (4 - 2 * np.sqrt(2)) / np.sqrt(np.pi)
+    assert float(scores.skewnormal_spread(1e8)) == pytest.approx(half, rel=1e-9)
+    for alpha in (-4.0, 1.5, 10.0):
+        law = stats.skewnorm(alpha)
+        quad, _ = integrate.quad(
+            lambda x, law=law: 2 * law.cdf(x) * law.sf(x), -np.inf, np.inf, limit=200
+        )
+        assert float(scores.skewnormal_spread(alpha)) == pytest.approx(quad, rel=1e-9)
+
+
+def test_crps_of_a_skew_normal_fit_matches_quadrature() -> None:
     f = SkewNormalFit(xi=np.array([1.0]), omega=np.array([2.0]), alpha=np.array([3.0]))
     y = 2.0
     below, _ = integrate.quad(lambda x: stats.skewnorm.cdf(x, 3, 1, 2) ** 2, -np.inf, y)
