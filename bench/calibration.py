@@ -26,7 +26,9 @@ from pathlib import Path
 
 import numpy as np
 
-from riskreport import calibration, config, pipeline
+from riskreport import pipeline
+from riskreport.reading import config
+from riskreport.replay import calibration
 
 ROOT = Path(__file__).resolve().parents[1]
 AUTO = {"distribution": "auto", "spread": "auto"}

@@ -23,8 +23,8 @@ from pathlib import Path
 import numpy as np
 from scipy import optimize, stats
 
-from riskreport import distributions
-from riskreport.probabilities import block_indices
+from riskreport.laws import distributions
+from riskreport.laws.probabilities import block_indices
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIG = ROOT / "example_inputs" / "config.toml"
@@ -68,9 +68,10 @@ def _naive_fit(family: str, x: np.ndarray) -> None:
 
 def _replay_inputs(copies: int) -> tuple[object, np.ndarray, np.ndarray]:
     """The demo's panel and combined-forecast errors, the history repeated ``copies`` times."""
-    from riskreport import combination, inputs, panel
-    from riskreport import config as config_module
-    from riskreport.track_record import error_matrix
+    from riskreport.forecasts import combination
+    from riskreport.forecasts.track_record import error_matrix
+    from riskreport.reading import config as config_module
+    from riskreport.reading import inputs, panel
 
     cfg = config_module.load(CONFIG)
     fc = inputs.read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
@@ -101,7 +102,7 @@ def _replay_inputs(copies: int) -> tuple[object, np.ndarray, np.ndarray]:
 
 
 def _replay_seconds(copies: int) -> tuple[float, int]:
-    from riskreport import calibration
+    from riskreport.replay import calibration
 
     (grown, cfg), combined, errors = _replay_inputs(copies)
     start = time.perf_counter()

@@ -24,8 +24,8 @@ import sys
 import numpy as np
 from scipy import stats as st
 
-from riskreport import stats
-from riskreport._families import fit_two_piece_normal_batch
+from riskreport.forecasts import stats
+from riskreport.laws._families import fit_two_piece_normal_batch
 
 LEVEL = 0.05
 

@@ -14,15 +14,15 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
-    from riskreport.adjustments import Adjustments
-    from riskreport.annual import AnnualResult
-    from riskreport.calibration import CalibrationRecord
-    from riskreport.change import ChangeRecord
-    from riskreport.density import DensityCurve
-    from riskreport.history import RoundPoint, YearPoint
-    from riskreport.judgement import AppliedJudgement
-    from riskreport.thresholds import ThresholdResult
-    from riskreport.track_record import AccuracyRow, TestRow
+    from riskreport.forecasts.track_record import AccuracyRow, TestRow
+    from riskreport.laws.annual import AnnualResult
+    from riskreport.laws.density import DensityCurve
+    from riskreport.laws.judgement import AppliedJudgement
+    from riskreport.laws.thresholds import ThresholdResult
+    from riskreport.replay.adjustments import Adjustments
+    from riskreport.replay.calibration import CalibrationRecord
+    from riskreport.rounds.change import ChangeRecord
+    from riskreport.rounds.history import RoundPoint, YearPoint
 
 
 def json_key(
@@ -130,7 +130,7 @@ class UncertaintyRecord:
 
 @dataclass(frozen=True)
 class Quantiles:
-    """The outcome's quantiles at the levels :data:`riskreport.probabilities.QUANTILE_LEVELS`.
+    """The outcome's quantiles at the levels :data:`riskreport.laws.probabilities.QUANTILE_LEVELS`.
 
     Each level is a named field (``q05`` is the 5% quantile); the JSON keys are the levels
     as written there (``"0.05"``, ``"0.1"``, ...).

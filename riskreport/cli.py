@@ -192,8 +192,11 @@ def _build(
     previous: Path | None = None,
     cache: bool = True,
 ) -> dict[str, Any]:
-    from riskreport import change, folder, outputs, periods, pipeline, replay_cache
-    from riskreport import config as config_module
+    from riskreport import folder, outputs, pipeline
+    from riskreport.reading import config as config_module
+    from riskreport.reading import periods
+    from riskreport.replay import cache as replay_cache
+    from riskreport.rounds import change
 
     out_dir = out.resolve() if out is not None else None
     record: dict[str, Any] = {
@@ -291,8 +294,9 @@ def _build(
 
 
 def _build_key(cfg: Any, previous: Path | None) -> str:
-    """The digest of everything the build's files are made from (see replay_cache)."""
-    from riskreport import periods, replay_cache
+    """The digest of everything the build's files are made from (see riskreport.replay.cache)."""
+    from riskreport.reading import periods
+    from riskreport.replay import cache as replay_cache
 
     inputs = {"forecasts": cfg.inputs.forecasts, "actuals": cfg.inputs.actuals}
     if cfg.inputs.error_quantiles:
@@ -325,8 +329,8 @@ def _rerun(out_dir: Path, record: dict[str, Any], again: dict[str, Any]) -> dict
 
 def _check(config: Path, as_of: str | None) -> dict[str, Any]:
     # Validation only: nothing is fitted, so there are no probabilities ("headline": null).
-    from riskreport import config as config_module
-    from riskreport import screening
+    from riskreport.reading import config as config_module
+    from riskreport.reading import screening
 
     cfg = config_module.load_config(config, as_of)
     found = screening.screen(cfg)
@@ -356,8 +360,9 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
 
 
 def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) -> dict[str, Any]:
-    from riskreport import config as config_module
-    from riskreport import folder, outputs, periods, pipeline
+    from riskreport import folder, outputs, pipeline
+    from riskreport.reading import config as config_module
+    from riskreport.reading import periods
     from riskreport.report import tables
 
     out_dir = out.resolve() if out is not None else None
@@ -414,7 +419,7 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
 
 
 def _compare(old: Path, new: Path) -> dict[str, Any]:
-    from riskreport import compare
+    from riskreport.rounds import compare
 
     result = compare.compare_files(old, new)
     return {
@@ -428,7 +433,7 @@ def _compare(old: Path, new: Path) -> dict[str, Any]:
 
 def _periods_between(text: str) -> list[str]:
     """The periods FROM..TO (inclusive), both written like the config's as_of."""
-    from riskreport import periods
+    from riskreport.reading import periods
 
     if ".." not in text:
         raise InputError(f"--months expected FROM..TO, e.g. 2026-01..2026-11, got {text!r}")

@@ -5,11 +5,11 @@ from __future__ import annotations
 
 import warnings
 
-from riskreport import annual as annual_module
-from riskreport import periods
 from riskreport.assessment import BasisResult, HorizonResult
-from riskreport.config import Config
 from riskreport.errors import HeadlineBasisWarning
+from riskreport.laws import annual as annual_module
+from riskreport.reading import periods
+from riskreport.reading.config import Config
 
 BASIS_WORDS = {"calendar-year-average": "average", "year-end": "year end"}
 

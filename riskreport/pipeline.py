@@ -12,39 +12,33 @@ from pathlib import Path
 
 import numpy as np
 
-from riskreport import adjustments as adjustments_module
-from riskreport import annual as annual_module
-from riskreport import (
-    calibration,
-    judgement,
-    periods,
-    probabilities,
-    records,
-    screening,
-    selection,
-    uncertainty,
-)
-from riskreport import change as change_module
-from riskreport import combination as combination_module
-from riskreport import config as config_module
-from riskreport import density as density_module
 from riskreport import headline as headline_module
-from riskreport import history as history_module
-from riskreport import panel as panel_module
-from riskreport import thresholds as thresholds_module
+from riskreport import records
 from riskreport.assessment import Assessment
-from riskreport.config import Config
-from riskreport.distributions import FAMILIES, GIVEN_FAMILY, Distribution
 from riskreport.errors import (
     CombinationFallbackWarning,
     CombinationRangeWarning,
     InputError,
     RiskReportWarning,
 )
-from riskreport.inputs import read_actuals, read_error_quantiles, read_forecasts
-from riskreport.panel import window_mask
-from riskreport.replay_cache import ReplayCache
-from riskreport.track_record import error_matrix, evaluate
+from riskreport.forecasts import combination as combination_module
+from riskreport.forecasts.track_record import error_matrix, evaluate
+from riskreport.laws import annual as annual_module
+from riskreport.laws import density as density_module
+from riskreport.laws import judgement, probabilities, uncertainty
+from riskreport.laws import thresholds as thresholds_module
+from riskreport.laws.distributions import FAMILIES, GIVEN_FAMILY, Distribution
+from riskreport.reading import config as config_module
+from riskreport.reading import panel as panel_module
+from riskreport.reading import periods, screening
+from riskreport.reading.config import Config
+from riskreport.reading.inputs import read_actuals, read_error_quantiles, read_forecasts
+from riskreport.reading.panel import window_mask
+from riskreport.replay import adjustments as adjustments_module
+from riskreport.replay import calibration, selection
+from riskreport.replay.cache import ReplayCache
+from riskreport.rounds import change as change_module
+from riskreport.rounds import history as history_module
 
 
 def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:
@@ -320,7 +314,7 @@ def assess(
         An earlier assessment JSON to compare with; by default the latest earlier one in
         the config's output directory, if any.
     cache
-        A :class:`~riskreport.replay_cache.ReplayCache` (e.g. ``ReplayCache.load(folder)``)
+        A :class:`~riskreport.replay.cache.ReplayCache` (e.g. ``ReplayCache.load(folder)``)
         whose replayed past origins are reused and which collects the new ones; nothing is
         written unless its ``save()`` is called. Results are the same with or without it.
 

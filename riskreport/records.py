@@ -15,10 +15,6 @@ from pathlib import Path
 
 import numpy as np
 
-from riskreport import adjustments as adjustments_module
-from riskreport import change as change_module
-from riskreport import combination as combination_module
-from riskreport import distributions, dynamics, periods, probabilities
 from riskreport.assessment import (
     CombinationRecord,
     FamilyScore,
@@ -39,11 +35,16 @@ from riskreport.assessment import (
     UncertaintyRecord,
     WeightRow,
 )
-from riskreport.config import Config
-from riskreport.distributions import GIVEN_FAMILY, Distribution
-from riskreport.inputs import Actuals, ErrorQuantiles, Forecasts
-from riskreport.panel import Panel
-from riskreport.uncertainty import Margins
+from riskreport.forecasts import combination as combination_module
+from riskreport.laws import distributions, dynamics, probabilities
+from riskreport.laws.distributions import GIVEN_FAMILY, Distribution
+from riskreport.laws.uncertainty import Margins
+from riskreport.reading import periods
+from riskreport.reading.config import Config
+from riskreport.reading.inputs import Actuals, ErrorQuantiles, Forecasts
+from riskreport.reading.panel import Panel
+from riskreport.replay import adjustments as adjustments_module
+from riskreport.rounds import change as change_module
 
 HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
 

@@ -11,20 +11,14 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from riskreport import (
-    adjustments,
-    calibration,
-    combination,
-    config,
-    dynamics,
-    panel,
-    prequential,
-    recalibration,
-)
 from riskreport.errors import InputError
-from riskreport.inputs import read_actuals, read_forecasts
+from riskreport.forecasts import combination
+from riskreport.forecasts.track_record import error_matrix
+from riskreport.laws import dynamics
 from riskreport.pipeline import assess_config
-from riskreport.track_record import error_matrix
+from riskreport.reading import config, panel
+from riskreport.reading.inputs import read_actuals, read_forecasts
+from riskreport.replay import adjustments, calibration, prequential, recalibration
 from tests.conftest import constant_forecast_world
 
 

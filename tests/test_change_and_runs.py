@@ -17,7 +17,7 @@ import pytest
 from scipy import stats
 
 import riskreport
-from riskreport import change
+from riskreport.rounds import change
 from tests.conftest import Case, Result
 
 

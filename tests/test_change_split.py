@@ -20,7 +20,7 @@ from hypothesis import strategies as st
 from hypothesis.configuration import set_hypothesis_home_dir
 from scipy import optimize, stats
 
-from riskreport import change
+from riskreport.rounds import change
 
 LEVELS = np.arange(1, 100) / 100
 # Hypothesis keeps a cache of constants; keep it out of the source tree.

@@ -11,9 +11,10 @@ import pytest
 import statsmodels.api as sm
 
 import riskreport
-from riskreport import combination, config
 from riskreport.errors import InputError
-from riskreport.panel import Panel
+from riskreport.forecasts import combination
+from riskreport.reading import config
+from riskreport.reading.panel import Panel
 
 
 def _quarter(index: int) -> str:

@@ -385,7 +385,7 @@ def test_page_one_quotes_the_reliability_bin_nearest_the_headline(demo_build: Pa
 def test_no_verbal_phrase_contradicts_its_number(demo_build: Path) -> None:
     # Every "word (NN%)" and "word to be inside ...: NN% inside" the brief prints must say
     # the side of 50% its number is on (IPCC AR5 terms, Mastrandrea et al. 2010, Table 1).
-    from riskreport import verbal
+    from riskreport.report import verbal
 
     html = (_out(demo_build) / f"brief-{AS_OF}.html").read_text("utf-8")
     text = " ".join(re.sub(r"<[^>]+>", " ", html).split())

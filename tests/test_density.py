@@ -7,8 +7,8 @@ import pytest
 from scipy import integrate, stats
 
 import riskreport
-from riskreport import density
-from riskreport.distributions import Distribution
+from riskreport.laws import density
+from riskreport.laws.distributions import Distribution
 from riskreport.report import charts
 from riskreport.report import formatting as fmt
 from riskreport.report.sections import outlook

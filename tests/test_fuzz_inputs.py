@@ -17,9 +17,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from riskreport import cli, config
+from riskreport import cli
 from riskreport.errors import InputError
-from riskreport.inputs import read_actuals, read_error_quantiles, read_forecasts
+from riskreport.reading import config
+from riskreport.reading.inputs import read_actuals, read_error_quantiles, read_forecasts
 
 BUDGET = settings(
     max_examples=50,

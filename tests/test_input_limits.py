@@ -16,7 +16,7 @@ import pytest
 
 from riskreport.assessment import WeightRow
 from riskreport.errors import InputError
-from riskreport.inputs import read_actuals, read_forecasts
+from riskreport.reading.inputs import read_actuals, read_forecasts
 from riskreport.report import charts
 from tests.conftest import Case, Result
 from tests.conftest import build_fails as _fails

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 from scipy import optimize, stats
 
-from riskreport import joint
+from riskreport.laws import joint
 
 
 def _correlated(rng: np.random.Generator, n: int, k: int) -> np.ndarray:

@@ -4,6 +4,7 @@ sub-package's ``__init__`` loads nothing (so ``riskreport check`` stays light)."
 from __future__ import annotations
 
 import ast
+import re
 from pathlib import Path
 
 PACKAGE = Path(__file__).resolve().parents[1] / "riskreport"
@@ -59,3 +60,21 @@ def test_sub_package_inits_load_nothing() -> None:
         if init.parent == PACKAGE:
             continue  # the package itself resolves its public names lazily
         assert _top_level_imports(init) <= {"riskreport"}, init
+
+
+def test_the_architecture_table_names_every_module() -> None:
+    # DEVELOPERS.md's table must match the tree: every module is named there (by its path
+    # under riskreport/, or by its name in the report/ row), and every path it names exists.
+    text = (PACKAGE.parent / "DEVELOPERS.md").read_text("utf-8")
+    named = set(re.findall(r"`([\w/]+\.py)`", text))
+    for path in PACKAGE.rglob("*.py"):
+        relative = path.relative_to(PACKAGE).as_posix()
+        if path.name in ("__init__.py", "__main__.py"):
+            continue
+        if relative.startswith("report/"):
+            assert f"`{path.stem}`" in text, f"DEVELOPERS.md does not name report module {relative}"
+        else:
+            assert relative in named, f"DEVELOPERS.md does not name {relative}"
+    for name in named:
+        if "/" in name and not name.startswith(("tests/", "bench/", "example_inputs/")):
+            assert (PACKAGE / name).exists(), f"DEVELOPERS.md names {name}, which does not exist"

@@ -7,8 +7,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from riskreport import track_record
 from riskreport.errors import SmallSampleWarning
+from riskreport.forecasts import track_record
 
 
 def test_mariano_preve_skipped_when_models_outnumber_frequencies() -> None:

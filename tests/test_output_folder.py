@@ -16,7 +16,8 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import folder, replay_cache
+from riskreport import folder
+from riskreport.replay import cache as replay_cache
 from tests.conftest import REPO, Case, Result
 
 AS_OF = "2024-12"

@@ -5,6 +5,7 @@ own namespace, with no top-level packages of generic names."""
 from __future__ import annotations
 
 import os
+import shutil
 import subprocess
 import sys
 import tomllib
@@ -28,10 +29,39 @@ def test_every_sub_package_is_listed_for_installation() -> None:
     assert found <= _listed(), f"not listed in pyproject.toml: {sorted(found - _listed())}"
 
 
+def _source_copy(folder: Path) -> Path:
+    """The files of the project, without build leftovers: setuptools reuses a ``build/``
+    folder left in the tree, which could ship modules that no longer exist."""
+    listed = subprocess.run(
+        ["git", "ls-files", "--cached", "--others", "--exclude-standard"],
+        check=True,
+        capture_output=True,
+        text=True,
+        cwd=REPO,
+    ).stdout.splitlines()
+    for name in listed:
+        source = REPO / name
+        if source.is_file():
+            (folder / name).parent.mkdir(parents=True, exist_ok=True)
+            shutil.copy2(source, folder / name)
+    return folder
+
+
 def test_only_the_package_is_installed_at_the_top(tmp_path: Path) -> None:
     target = tmp_path / "site"
+    source = _source_copy(tmp_path / "source")
     subprocess.run(
-        [sys.executable, "-m", "pip", "install", "--quiet", "--no-deps", "--target", target, REPO],
+        [
+            sys.executable,
+            "-m",
+            "pip",
+            "install",
+            "--quiet",
+            "--no-deps",
+            "--target",
+            target,
+            source,
+        ],
         check=True,
         capture_output=True,
         cwd=tmp_path,

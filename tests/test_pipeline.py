@@ -12,9 +12,9 @@ import pytest
 from scipy import stats
 
 import riskreport
-from riskreport import combination
 from riskreport.assessment import FamilyScore, Quantiles, ScheduledBand, SelectionRecord, plain
-from riskreport.probabilities import QUANTILE_LEVELS
+from riskreport.forecasts import combination
+from riskreport.laws.probabilities import QUANTILE_LEVELS
 from tests.conftest import Case, Result, constant_forecast_world
 
 
@@ -79,9 +79,9 @@ def test_skew_adds_mean_minus_mode() -> None:
     Science 29(1):106-112)."""
     from scipy import integrate
 
-    from riskreport import distributions
-    from riskreport.config import Judgement
-    from riskreport.judgement import apply_one
+    from riskreport.laws import distributions
+    from riskreport.laws.judgement import apply_one
+    from riskreport.reading.config import Judgement
 
     base = distributions.Adjusted(distributions.fit("normal", [-1.0, -0.2, 0.1, 0.4, 0.9]), shift=2)
     judged = apply_one(base, Judgement(0, 0, shift=0.0, scale=1.5, skew=0.25, reason="r"))
@@ -159,8 +159,8 @@ def test_weights_use_no_future_outcome(tmp_path: Path) -> None:
     """Perturb outcomes after a past origin: the weights at and before it must not move."""
     import shutil
 
-    from riskreport import config as config_module
-    from riskreport import inputs, panel
+    from riskreport.reading import config as config_module
+    from riskreport.reading import inputs, panel
 
     demo = Path(__file__).resolve().parents[1] / "example_inputs"
     shutil.copytree(demo, tmp_path / "d", ignore=shutil.ignore_patterns("*.py", "__pycache__"))

@@ -11,8 +11,8 @@ from typing import Any
 
 import pytest
 
-from riskreport import change
 from riskreport.errors import InputError
+from riskreport.rounds import change
 from tests.conftest import Case, Result
 
 

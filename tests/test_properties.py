@@ -18,10 +18,13 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 from scipy import stats
 
-from riskreport import assess, combination, distributions, panel
+from riskreport import assess
 from riskreport._typing import COMBINATION_METHODS, CombinationMethod, Family
-from riskreport.inputs import Actuals, Forecasts
-from riskreport.probabilities import QUANTILE_LEVELS, band_probabilities
+from riskreport.forecasts import combination
+from riskreport.laws import distributions
+from riskreport.laws.probabilities import QUANTILE_LEVELS, band_probabilities
+from riskreport.reading import panel
+from riskreport.reading.inputs import Actuals, Forecasts
 from tests.conftest import Case
 
 BUDGET = settings(

@@ -15,7 +15,7 @@ import pandas as pd
 import pytest
 
 import riskreport
-from riskreport import periods
+from riskreport.reading import periods
 from tests import quarterly_world as qw
 from tests.conftest import Result
 

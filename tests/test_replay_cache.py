@@ -14,8 +14,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from riskreport import calibration, replay_cache
 from riskreport.pipeline import assess
+from riskreport.replay import cache as replay_cache
+from riskreport.replay import calibration
 from tests.conftest import Case, Result
 
 FAMILIES = ("normal", "two-piece-normal", "skew-normal", "empirical")

@@ -8,7 +8,8 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import folder, history
+from riskreport import folder
+from riskreport.rounds import history
 from tests.conftest import Case, Result
 
 

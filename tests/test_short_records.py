@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 
 import riskreport
-from riskreport import probabilities
+from riskreport.laws import probabilities
 from riskreport.report import tables
 from riskreport.report.sections import calibration, track_record
 from tests.conftest import Case, Result, constant_forecast_world
@@ -52,7 +52,7 @@ def test_gap_in_the_actuals_builds(tmp_path: Path) -> None:
 def test_bootstrap_interval_is_not_a_point_for_a_thin_far_horizon() -> None:
     # 20 errors at h = 24: blocks of h + 1 = 25 rows were cut to the whole sample, so every
     # replicate was the sample itself and the interval had zero width.
-    from riskreport import distributions
+    from riskreport.laws import distributions
 
     errors = np.random.default_rng(7).normal(0, 1, 20)
     fit = distributions.fit("normal", errors)
@@ -125,7 +125,7 @@ def test_tests_not_run_are_not_reported_as_not_significant(tmp_path: Path) -> No
 def test_borrowing_skips_a_neighbour_with_no_spread() -> None:
     # A thin horizon borrows its neighbours' errors rescaled by their root mean square; a
     # neighbour whose errors are all 0 gave 0/0 = NaN errors to the fit.
-    from riskreport.uncertainty import _borrow
+    from riskreport.laws.uncertainty import _borrow
 
     columns = [np.array([0.3, -0.2, 0.1]), np.zeros(6), np.array([0.5, -0.4, 0.2, -0.1, 0.3])]
     pooled, used = _borrow(columns, 0, 8)

@@ -12,8 +12,8 @@ import pytest
 from scipy import stats
 
 import riskreport
-from riskreport import thresholds
-from riskreport.distributions import Distribution
+from riskreport.laws import thresholds
+from riskreport.laws.distributions import Distribution
 from tests.conftest import Case, Result
 
 

@@ -10,12 +10,12 @@ import pytest
 from scipy import stats
 
 import riskreport
-from riskreport import calibration, selection
-from riskreport.annual import annual
 from riskreport.assessment import Quantiles
-from riskreport.config import Band
-from riskreport.distributions import FAMILIES, NormalFit, fit_batch
-from riskreport.periods import parse
+from riskreport.laws.annual import annual
+from riskreport.laws.distributions import FAMILIES, NormalFit, fit_batch
+from riskreport.reading.config import Band
+from riskreport.reading.periods import parse
+from riskreport.replay import calibration, selection
 from tests.conftest import Case, Result, constant_forecast_world
 
 
@@ -151,7 +151,7 @@ def test_two_piece_errors_from_a_known_law(tmp_path: Path) -> None:
     """Errors drawn from a two-piece normal (mode 0.2, sigma1 0.4, sigma2 0.9): the fitted
     band probabilities land within sampling error of the true ones (the two-piece normal CDF,
     Wallis 2014, Statistical Science 29(1):106-112)."""
-    from riskreport.distributions import Tilted
+    from riskreport.laws.distributions import Tilted
 
     rng = np.random.default_rng(99)
     truth = Tilted(NormalFit(loc=0.2, scale=0.65, loglik=0.0, nobs=1), (0.9 - 0.4) / 1.3)

@@ -259,7 +259,7 @@ def test_batch_over_months_and_configs(
 def test_a_file_changed_between_reads_is_read_again(case: Case) -> None:
     # Parsed CSV files are kept for the rounds of a batch: a file whose content changed
     # must be parsed afresh, and a kept parse must not be changed by its reader.
-    from riskreport import inputs
+    from riskreport.reading import inputs
 
     case.write()
     path = case.folder / "actuals.csv"

@@ -13,7 +13,7 @@ from types import SimpleNamespace
 
 import pytest
 
-from riskreport import verbal
+from riskreport.report import verbal
 from riskreport.report.sections import common
 
 # The published middle ranges, typed from the sources above: each straddles 50%.

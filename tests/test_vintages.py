@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 import riskreport
-from riskreport import inputs, periods
+from riskreport.reading import inputs, periods
 from tests.conftest import Case, Result
 
 

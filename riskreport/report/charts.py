@@ -20,15 +20,15 @@ import numpy as np
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
-from riskreport import periods
 from riskreport._typing import Frequency
 from riskreport.assessment import Assessment, HorizonResult
+from riskreport.reading import periods
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import summary_horizons
 
 if TYPE_CHECKING:
-    from riskreport.change import ChangeHorizon
-    from riskreport.density import DensityCurve
+    from riskreport.laws.density import DensityCurve
+    from riskreport.rounds.change import ChangeHorizon
 
 MM = 1 / 25.4  # inches per millimetre: figures are sized to their box in the page CSS
 

@@ -12,8 +12,8 @@ from pathlib import Path
 import jinja2
 import markupsafe
 
-from riskreport import periods
 from riskreport.assessment import Assessment
+from riskreport.reading import periods
 from riskreport.report import charts as charts_module
 from riskreport.report import context as context_module
 from riskreport.report.sections import calibration, outlook, summary, track_record

@@ -15,7 +15,7 @@ from scipy import stats as st
 from statsmodels.stats.multivariate import test_mvmean as hotelling_test
 from statsmodels.stats.sandwich_covariance import S_hac_simple, weights_uniform
 
-from riskreport import stats
+from riskreport.forecasts import stats
 from tests.reference.test_scores import PIT as BERKOWITZ_PITS
 
 # Oracle data for Diebold-Mariano with the HLN factor (T = 24, h = 3).

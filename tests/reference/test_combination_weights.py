@@ -17,7 +17,7 @@ import pytest
 import statsmodels.api as sm
 from scipy import optimize
 
-from riskreport.combination import weights
+from riskreport.forecasts.combination import weights
 
 Y = np.array([2.1, 2.5, 1.8, 3.0, 2.7, 2.2, 1.9, 2.4, 3.1, 2.8, 2.0, 2.6])
 F = np.column_stack(

@@ -16,8 +16,8 @@ import numpy as np
 import pytest
 from scipy import optimize, stats
 
-from riskreport import distributions
-from riskreport._families import (
+from riskreport.laws import distributions
+from riskreport.laws._families import (
     CONSTANT_NOTE,
     MIN_SCALE,
     PENALTY_C1,

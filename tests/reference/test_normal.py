@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from riskreport import distributions
-from riskreport.distributions import Adjusted
-from riskreport.probabilities import QUANTILE_LEVELS, band_probabilities
+from riskreport.laws import distributions
+from riskreport.laws.distributions import Adjusted
+from riskreport.laws.probabilities import QUANTILE_LEVELS, band_probabilities
 
 # Worked example of bands from historical errors, computed outside the project with numpy and
 # scipy: errors e = actual - forecast, point forecast 2.4, band [1, 3]. The method (a normal

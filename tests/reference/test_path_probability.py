@@ -15,8 +15,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from riskreport.distributions import Distribution, NormalFit, Tilted
-from riskreport.probabilities import (
+from riskreport.laws.distributions import Distribution, NormalFit, Tilted
+from riskreport.laws.probabilities import (
     band_probabilities,
     normal_scores_correlation,
     path_probabilities,

@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from riskreport import recalibration
-from riskreport.calibration import HorizonReplay
-from riskreport.distributions import fit
+from riskreport.laws.distributions import fit
+from riskreport.replay import recalibration
+from riskreport.replay.calibration import HorizonReplay
 
 
 def test_method_of_moments_matches_scipy(rng: np.random.Generator) -> None:

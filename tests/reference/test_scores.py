@@ -15,9 +15,9 @@ import pytest
 import scoringrules as sr
 from scipy import integrate, stats
 
-from riskreport import scores
-from riskreport import stats as rstats
-from riskreport._families import SkewNormalFit
+from riskreport.forecasts import stats as rstats
+from riskreport.laws._families import SkewNormalFit
+from riskreport.replay import scores
 
 PIT = [
     0.12,

@@ -12,8 +12,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from riskreport.distributions import NormalFit, Tilted, mean, tilt_for_skew
-from riskreport.probabilities import band_probabilities
+from riskreport.laws.distributions import NormalFit, Tilted, mean, tilt_for_skew
+from riskreport.laws.probabilities import band_probabilities
 
 
 def two_piece(mode: float, sigma1: float, sigma2: float) -> Tilted:

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import pytest
 
-from riskreport.verbal import term
+from riskreport.report.verbal import term
 
 
 @pytest.mark.parametrize(
@@ -51,7 +51,7 @@ def test_out_of_range() -> None:
     ],
 )
 def test_icd_203(p: float, expected: str) -> None:
-    from riskreport.verbal import ICD_203
+    from riskreport.report.verbal import ICD_203
 
     assert term(p, ICD_203) == expected
 
@@ -69,6 +69,6 @@ def test_icd_203(p: float, expected: str) -> None:
     ],
 )
 def test_efsa(p: float, expected: str) -> None:
-    from riskreport.verbal import EFSA_2018
+    from riskreport.report.verbal import EFSA_2018
 
     assert term(p, EFSA_2018) == expected

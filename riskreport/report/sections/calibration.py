@@ -7,7 +7,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
-from riskreport.calibration import MIN_TEST_ROUNDS, CoverageResult
+from riskreport.replay.calibration import MIN_TEST_ROUNDS, CoverageResult
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
     FAMILY_NAMES,

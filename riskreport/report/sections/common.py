@@ -6,9 +6,9 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Generic, TypeVar
 
-from riskreport import verbal
 from riskreport.assessment import Assessment, HorizonResult
 from riskreport.report import formatting as fmt
+from riskreport.report import verbal
 
 SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
 
@@ -126,7 +126,7 @@ def phrase(a: Assessment, whole: str) -> str:
     """The scale's word with the printed number beside it, e.g. "likely (72%)".
 
     The word is chosen for the printed (rounded) number, so word and number agree, and it is
-    never on the other side of 50% from the number (see :func:`riskreport.verbal.sided_term`).
+    never on the other side of 50% from the number (see :func:`riskreport.report.verbal.sided_term`).
     """
     return f"{word(a, whole)} ({whole})"
 

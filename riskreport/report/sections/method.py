@@ -6,9 +6,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from riskreport import periods
-from riskreport.adjustments import NEAR, Adjustments, SensitivityRow
 from riskreport.assessment import Assessment
+from riskreport.reading import periods
+from riskreport.replay.adjustments import NEAR, Adjustments, SensitivityRow
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
     FAMILY_NAMES,

@@ -7,8 +7,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from riskreport.annual import AnnualResult
 from riskreport.assessment import Assessment, BasisResult
+from riskreport.laws.annual import AnnualResult
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
     ChartBlock,
@@ -26,7 +26,7 @@ from riskreport.report.sections.common import (
 )
 
 if TYPE_CHECKING:
-    from riskreport.density import DensityCurve
+    from riskreport.laws.density import DensityCurve
 
 
 @dataclass(frozen=True)

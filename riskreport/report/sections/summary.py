@@ -6,10 +6,10 @@ import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from riskreport import verbal
 from riskreport.assessment import Assessment
-from riskreport.calibration import ReliabilityBin
+from riskreport.replay.calibration import ReliabilityBin
 from riskreport.report import formatting as fmt
+from riskreport.report import verbal
 from riskreport.report.sections.calibration import COVERAGE_TOO_NARROW, COVERAGE_TOO_WIDE, coverage
 from riskreport.report.sections.common import (
     INTERVAL_TEXT,
@@ -28,7 +28,7 @@ from riskreport.report.sections.common import (
 from riskreport.report.sections.outlook import YEARS_HEAD, AnnualRow, annual_rows
 
 if TYPE_CHECKING:
-    from riskreport.thresholds import ThresholdResult
+    from riskreport.laws.thresholds import ThresholdResult
 
 CAUTIONS: tuple[str, ...] = (
     "These probabilities are model estimates built from the errors of past forecasts; they "

@@ -22,7 +22,7 @@ from riskreport.report.sections.common import (
 )
 
 if TYPE_CHECKING:
-    from riskreport.track_record import TestRow
+    from riskreport.forecasts.track_record import TestRow
 
 
 @dataclass(frozen=True)

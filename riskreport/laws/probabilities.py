@@ -8,7 +8,7 @@ import numpy as np
 from scipy import stats
 
 from riskreport._typing import Family
-from riskreport.distributions import Distribution, fit_batch, rebase
+from riskreport.laws.distributions import Distribution, fit_batch, rebase
 
 QUANTILE_LEVELS: tuple[float, ...] = (0.05, 0.1, 0.25, 0.5, 0.75, 0.9, 0.95)
 

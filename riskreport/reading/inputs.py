@@ -18,9 +18,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from riskreport import periods
 from riskreport._typing import Frequency, ScoreAgainst
 from riskreport.errors import InputError
+from riskreport.reading import periods
 
 # Plausibility bounds (common practice, no source): inflation rates in percent beyond
 # +-1000 are almost always a unit or typing error (a level instead of a rate, a stray

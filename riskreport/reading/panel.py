@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from riskreport.inputs import Actuals, Forecasts
+from riskreport.reading.inputs import Actuals, Forecasts
 
 
 @dataclass(frozen=True)

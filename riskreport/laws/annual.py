@@ -12,9 +12,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from riskreport import periods
 from riskreport._typing import Frequency
-from riskreport.config import Band
+from riskreport.reading import periods
+from riskreport.reading.config import Band
 
 
 @dataclass(frozen=True)

@@ -19,13 +19,15 @@ from typing import Any
 import numpy as np
 from scipy import stats as st
 
-from riskreport import periods, scores, stats
 from riskreport._typing import Family, Frequency
 from riskreport.assessment import json_key
-from riskreport.config import Band
-from riskreport.distributions import FAMILIES, fit_batch
 from riskreport.errors import SmallSampleWarning
-from riskreport.panel import Panel, steps_ahead
+from riskreport.forecasts import stats
+from riskreport.laws.distributions import FAMILIES, fit_batch
+from riskreport.reading import periods
+from riskreport.reading.config import Band
+from riskreport.reading.panel import Panel, steps_ahead
+from riskreport.replay import scores
 
 MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common practice, no source)
 NOMINAL = (0.5, 0.9)
@@ -192,7 +194,7 @@ def training(
     tests, ends = known[keep], usable[keep]
     # The padding is rounded up to PAD columns: sums over a padded row may differ in the
     # last bits with its width, so a width that stays put as the history grows lets later
-    # rounds reuse the replayed origins of earlier ones (riskreport.replay_cache).
+    # rounds reuse the replayed origins of earlier ones (riskreport.replay.cache).
     longest = -(-int(ends.max(initial=0)) // PAD) * PAD
     width = min(window, longest) if window > 0 else longest
     matrix = np.full((tests.size, max(width, 1)), np.nan)

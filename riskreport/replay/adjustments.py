@@ -3,9 +3,9 @@ whether the probabilities were recalibrated, what the replay says of the result,
 much the choice matters (the sensitivity panel).
 
 The replay graded here is the method as it would have been run: the candidate chosen at
-each past origin from the scores known then (:mod:`riskreport.prequential`), then, with
+each past origin from the scores known then (:mod:`riskreport.replay.prequential`), then, with
 ``recalibrate = true``, the beta map learned from the PITs known then
-(:mod:`riskreport.recalibration`).
+(:mod:`riskreport.replay.recalibration`).
 """
 
 from __future__ import annotations
@@ -17,17 +17,18 @@ from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
-from riskreport import calibration, dynamics, prequential, probabilities, recalibration
 from riskreport._typing import FAMILIES
-from riskreport.calibration import HorizonReplay
-from riskreport.config import Config
-from riskreport.distributions import Distribution
-from riskreport.inputs import ErrorQuantiles
-from riskreport.panel import Panel
-from riskreport.prequential import Candidate, PrequentialSelection
+from riskreport.laws import dynamics, probabilities
+from riskreport.laws.distributions import Distribution
+from riskreport.reading.config import Config
+from riskreport.reading.inputs import ErrorQuantiles
+from riskreport.reading.panel import Panel
+from riskreport.replay import calibration, prequential, recalibration
+from riskreport.replay.calibration import HorizonReplay
+from riskreport.replay.prequential import Candidate, PrequentialSelection
 
 if TYPE_CHECKING:
-    from riskreport.replay_cache import ReplayCache
+    from riskreport.replay.cache import ReplayCache
 
 NEAR = 0.05  # |coverage - nominal| the brief calls "near nominal" (common practice, no source)
 
@@ -290,7 +291,7 @@ def sensitivity(
     """One row per replayed method (each family under each spread option, and with a chosen
     window the normal law over each window), then the graded sequence with today's
     model-based P(inside) (``headline``)."""
-    from riskreport import uncertainty  # imported here: uncertainty imports selection
+    from riskreport.laws import uncertainty
 
     h = cfg.brief.policy_horizon
     band = cfg.band_for(cfg.brief.as_of + h)

@@ -1,6 +1,6 @@
 """``riskreport compare OLD.json NEW.json``: the change in P(inside) between any two rounds.
 
-The split into centre, spread and band is :func:`riskreport.change.compare`, the same as
+The split into centre, spread and band is :func:`riskreport.rounds.change.compare`, the same as
 the brief's "since the last brief"; here the two rounds need not be consecutive.
 """
 
@@ -10,9 +10,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from riskreport import change
 from riskreport.errors import InputError
 from riskreport.report import formatting as fmt
+from riskreport.rounds import change
 
 ROW_KEYS = ("period", "p_inside", "centre", "band")
 

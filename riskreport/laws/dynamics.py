@@ -45,7 +45,7 @@ class SpreadOption:
         ``"constant"`` (one error law over the window), ``"ewma"`` (filtered historical
         simulation with an exponentially weighted volatility) or ``"joint"`` (each
         horizon's spread rescaled to the ML estimate of all horizons' errors jointly,
-        :mod:`riskreport.joint`).
+        :mod:`riskreport.laws.joint`).
     smoothing
         The EWMA smoothing constant lambda (weight of the past), None for ``constant``.
     """
@@ -141,7 +141,7 @@ def factors(errors: np.ndarray, option: SpreadOption, window: int) -> np.ndarray
     last row): the volatility for ``ewma``, the joint-to-own spread ratio for ``joint``
     over the last ``window`` origins (0: all), 1 for ``constant``."""
     if option.kind == "joint":
-        from riskreport import joint  # imported here: only the joint spread needs it
+        from riskreport.laws import joint
 
         n = errors.shape[0]
         return joint.ratios(errors, np.full(n, window))[-1]

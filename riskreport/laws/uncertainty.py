@@ -14,13 +14,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from riskreport import distributions, dynamics, periods, selection
 from riskreport._typing import Family
-from riskreport.config import Config
-from riskreport.distributions import GIVEN_FAMILY, Distribution
 from riskreport.errors import BoundaryFitWarning, InputError, SmallSampleWarning
-from riskreport.inputs import ErrorQuantiles
-from riskreport.panel import window_mask
+from riskreport.laws import distributions, dynamics
+from riskreport.laws.distributions import GIVEN_FAMILY, Distribution
+from riskreport.reading import periods
+from riskreport.reading.config import Config
+from riskreport.reading.inputs import ErrorQuantiles
+from riskreport.reading.panel import window_mask
+from riskreport.replay import selection
 
 SMALL_SAMPLE = 30  # fewer errors than this earns a caution (common practice, no source)
 
@@ -126,9 +128,9 @@ def build(
     """Fit every reported horizon's error distribution and form the outcome distributions.
 
     With a time-varying ``spread``, the law is fitted to the standardised errors and
-    rescaled by today's volatility (:mod:`riskreport.dynamics`); ``samples`` then hold the
+    rescaled by today's volatility (:mod:`riskreport.laws.dynamics`); ``samples`` then hold the
     standardised errors. With the ``joint`` spread each horizon's law is rescaled by the
-    ratio of its joint to its own ML spread (:mod:`riskreport.joint`).
+    ratio of its joint to its own ML spread (:mod:`riskreport.laws.joint`).
 
     Raises
     ------

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 if TYPE_CHECKING:  # annotations only: `check` reads the config without scipy.stats
-    from riskreport.distributions import Distribution
+    from riskreport.laws.distributions import Distribution
 
 MAX_THRESHOLDS = 8  # more lines than this no longer fit one table of the brief
 LIMIT = 100.0  # |threshold| in percent; beyond it a value is almost surely a typing error

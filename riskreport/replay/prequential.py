@@ -1,7 +1,7 @@
 """Honest selection: the method (family and spread option) chosen at each past origin from
 the log scores known at that origin.
 
-Every candidate is replayed (:mod:`riskreport.calibration`); at origin j a candidate's
+Every candidate is replayed (:mod:`riskreport.replay.calibration`); at origin j a candidate's
 record is its mean log score at each horizon over the replayed forecasts whose outcome came
 before j (o' + h <= j - 1), summed over the horizons scored by then. The candidate with the
 best record is the one used at j, so the replay of the selected sequence grades the
@@ -24,15 +24,17 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport import calibration, dynamics, joint, parallel
+from riskreport import parallel
 from riskreport._typing import Family
-from riskreport.calibration import HorizonReplay
-from riskreport.config import Band
-from riskreport.dynamics import SpreadOption
-from riskreport.panel import Panel
+from riskreport.laws import dynamics, joint
+from riskreport.laws.dynamics import SpreadOption
+from riskreport.reading.config import Band
+from riskreport.reading.panel import Panel
+from riskreport.replay import calibration
+from riskreport.replay.calibration import HorizonReplay
 
 if TYPE_CHECKING:
-    from riskreport.replay_cache import Pending, ReplayCache
+    from riskreport.replay.cache import Pending, ReplayCache
 
 Key = tuple[str, int]  # (candidate label, horizon)
 
@@ -157,7 +159,7 @@ def replay(
     A constant-spread candidate is the plain replay of its family; an EWMA candidate trains
     on standardised errors and rescales by the volatility of each evaluation origin; a
     joint candidate trains on the errors and rescales each origin's law by the ratio of the
-    joint to the own ML spread known there (:mod:`riskreport.joint`). ``windows``, per
+    joint to the own ML spread known there (:mod:`riskreport.laws.joint`). ``windows``, per
     spread option, gives each panel origin row its own window (chosen by
     :func:`choose_windows`) for the families of ``WINDOW_FAMILIES``; otherwise every
     origin uses ``window``. With a ``cache``, origins replayed before with identical inputs

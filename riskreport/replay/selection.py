@@ -1,6 +1,6 @@
 """Choosing the error distribution family by out-of-sample log score (``distribution = "auto"``).
 
-The scores come from the calibration replay (:mod:`riskreport.calibration`): at each past
+The scores come from the calibration replay (:mod:`riskreport.replay.calibration`): at each past
 origin every family was fitted to the errors known then and scored on the error that
 followed. The family with the best mean log score summed over horizons is chosen; the
 runner-up is reported with it.
@@ -13,8 +13,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from riskreport._typing import Family
-from riskreport.calibration import HorizonReplay
-from riskreport.distributions import FAMILIES
+from riskreport.laws.distributions import FAMILIES
+from riskreport.replay.calibration import HorizonReplay
 
 
 @dataclass(frozen=True)

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from riskreport.panel import Panel
+from riskreport.reading.panel import Panel
 
 AR_LAGS = 2  # a low-order autoregression; common practice, no source
 AR_MIN_ROWS = 24

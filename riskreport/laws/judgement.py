@@ -21,11 +21,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from riskreport import periods
 from riskreport._typing import Frequency
-from riskreport.config import Judgement
-from riskreport.distributions import Adjusted, Distribution, Tilted, tilt_for_skew
 from riskreport.errors import InputError
+from riskreport.laws.distributions import Adjusted, Distribution, Tilted, tilt_for_skew
+from riskreport.reading import periods
+from riskreport.reading.config import Judgement
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,6 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any, TypeVar, cast
 
-from riskreport import periods
 from riskreport._typing import (
     BASES,
     CENTRES,
@@ -36,9 +35,10 @@ from riskreport._typing import (
     SpreadChoice,
     WindowChoice,
 )
-from riskreport.combination import SHRINKAGE, SHRINKAGE_BOUNDS
 from riskreport.errors import InputError
-from riskreport.inputs import FIRST_YEAR, LARGEST_MAX_ABS_VALUE, LAST_YEAR, MAX_ABS_VALUE
+from riskreport.forecasts.combination import SHRINKAGE, SHRINKAGE_BOUNDS
+from riskreport.reading import periods
+from riskreport.reading.inputs import FIRST_YEAR, LARGEST_MAX_ABS_VALUE, LAST_YEAR, MAX_ABS_VALUE
 
 VERBAL_SCALES = ("ipcc-ar5", "icd-203", "efsa-2018")
 
@@ -328,7 +328,7 @@ _REQUIRED = object()
 
 def _thresholds(reader: _Reader) -> tuple[float, ...]:
     """``[target] thresholds``: distinct finite rates in percent, at most a few."""
-    from riskreport.thresholds import LIMIT, MAX_THRESHOLDS
+    from riskreport.laws.thresholds import LIMIT, MAX_THRESHOLDS
 
     raw = reader._get("thresholds", list, "a list of numbers", [])
     values = []

@@ -15,18 +15,19 @@ from pathlib import Path
 
 import numpy as np
 
-from riskreport import combination as combination_module
-from riskreport import panel as panel_module
-from riskreport import periods
 from riskreport.assessment import ModelStatus
-from riskreport.config import Config, Judgement
 from riskreport.errors import (
     InputError,
     LaterOutcomeWarning,
     ModelLeftOutWarning,
     RiskReportWarning,
 )
-from riskreport.inputs import (
+from riskreport.forecasts import combination as combination_module
+from riskreport.forecasts.track_record import error_matrix, window_mask
+from riskreport.reading import panel as panel_module
+from riskreport.reading import periods
+from riskreport.reading.config import Config, Judgement
+from riskreport.reading.inputs import (
     Actuals,
     ErrorQuantiles,
     Forecasts,
@@ -34,7 +35,6 @@ from riskreport.inputs import (
     read_error_quantiles,
     read_forecasts,
 )
-from riskreport.track_record import error_matrix, window_mask
 
 
 @dataclass(frozen=True)

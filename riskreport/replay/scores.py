@@ -12,7 +12,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy import special
 
-from riskreport._families import EmpiricalFit, NormalFit, SkewNormalFit, TwoPieceNormalFit
+from riskreport.laws._families import EmpiricalFit, NormalFit, SkewNormalFit, TwoPieceNormalFit
 
 _SQRT_PI = np.sqrt(np.pi)
 

@@ -23,8 +23,8 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy import special, stats
 
-from riskreport.calibration import HorizonReplay
-from riskreport.distributions import Distribution
+from riskreport.laws.distributions import Distribution
+from riskreport.replay.calibration import HorizonReplay
 
 MIN_PITS = 24  # fewer known PITs than this: no map (common practice, no source)
 LIMITS = (0.2, 5.0)  # a and b are kept in this range (a guard against a degenerate fit)

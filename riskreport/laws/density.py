@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from riskreport.distributions import Distribution
+from riskreport.laws.distributions import Distribution
 
 GRID_POINTS = 241
 TAIL = 1e-4

@@ -45,9 +45,9 @@ from typing import Any
 
 import numpy as np
 
-from riskreport import calibration
 from riskreport._typing import Family
-from riskreport.calibration import HorizonData, HorizonReplay
+from riskreport.replay import calibration
+from riskreport.replay.calibration import HorizonData, HorizonReplay
 
 log = logging.getLogger("riskreport")
 
@@ -71,7 +71,7 @@ def fingerprint() -> str:
     the machine type.
     """
     digest = hashlib.sha256(f"format {FORMAT}\n".encode())
-    package = Path(__file__).resolve().parent
+    package = Path(__file__).resolve().parents[1]  # riskreport/, from riskreport/replay/
     templates = Path(str(resources.files("riskreport.report_templates")))
     for root in (package, templates):
         for path in sorted(root.rglob("*")):
@@ -259,7 +259,7 @@ class ReplayCache:
         scale: np.ndarray | None = None,
         label: str | None = None,
     ) -> HorizonReplay:
-        """:func:`riskreport.calibration.replay_horizon`, fitting only origins not cached."""
+        """:func:`riskreport.replay.calibration.replay_horizon`, fitting only origins not cached."""
         replayed, pending = self.lookup(family, data, mode=mode, scale=scale, label=label)
         self.record(pending)
         return replayed

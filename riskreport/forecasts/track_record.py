@@ -15,15 +15,16 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport import benchmarks, periods
 from riskreport.assessment import json_key
-from riskreport.combination import Combination
 from riskreport.errors import SmallSampleWarning
-from riskreport.inputs import BENCHMARK_NAMES
-from riskreport.panel import Panel, steps_ahead, window_mask
+from riskreport.forecasts import benchmarks
+from riskreport.forecasts.combination import Combination
+from riskreport.reading import periods
+from riskreport.reading.inputs import BENCHMARK_NAMES
+from riskreport.reading.panel import Panel, steps_ahead, window_mask
 
 if TYPE_CHECKING:  # the tests (scipy.stats) load only when run: `check` needs none of them
-    from riskreport import stats
+    from riskreport.forecasts import stats
 
 MIN_TEST_ROWS = 12  # fewer common rows than this: no test (common practice, no source)
 
@@ -133,7 +134,7 @@ def _common(*columns: np.ndarray) -> np.ndarray:
 
 def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int]) -> bool:
     """Enough common rows for a test of ``steps``-step errors; records h when too few."""
-    from riskreport import stats
+    from riskreport.forecasts import stats
 
     rows = int(keep.sum())
     if rows < minimum:
@@ -145,7 +146,7 @@ def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int
 
 
 def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: int) -> list[TestRow]:
-    from riskreport import stats
+    from riskreport.forecasts import stats
 
     rows: list[TestRow] = []
     skipped: set[int] = set()

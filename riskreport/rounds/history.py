@@ -2,7 +2,7 @@
 moved across the last briefs.
 
 Every ``assessment-<as_of>.json`` in the output folder is the record of a round. The reader
-walks back from the current round through :func:`riskreport.change.find_previous` (the same
+walks back from the current round through :func:`riskreport.rounds.change.find_previous` (the same
 look-up as the change since the previous brief), so it follows however that function finds
 rounds.
 """
@@ -12,8 +12,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from riskreport import change
 from riskreport.errors import InputError
+from riskreport.rounds import change
 
 ROUNDS = 6  # earlier rounds shown, besides the current one (common practice, no source)
 

@@ -1,0 +1,1 @@
+"""Combining and scoring the forecasts: weights, benchmarks, the track record and the comparative tests."""

@@ -1,0 +1,1 @@
+"""The error laws and the probabilities they give: families and their fits, the law of each horizon and its spread, staff judgement, band, path, calendar-year and threshold probabilities, densities."""
