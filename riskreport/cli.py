@@ -450,6 +450,27 @@ def _periods_between(text: str) -> list[str]:
     return [periods.label(o, first.frequency) for o in range(first.ordinal, last.ordinal + 1)]
 
 
+def _months_mismatch(config: Path, months: list[str] | None) -> str | None:
+    """Why ``--months`` cannot apply to this config (another frequency), or None. A config
+    that cannot be read is left to the rounds, which report it."""
+    from riskreport.reading import config as config_module
+    from riskreport.reading import periods
+
+    if not months:
+        return None
+    try:
+        frequency = config_module.load(config).brief.frequency
+    except InputError:
+        return None
+    first = periods.parse(months[0])
+    if first is None or first.frequency == frequency:
+        return None
+    return (
+        f"--months expected {frequency} periods like {periods.EXAMPLE[frequency]} for this "
+        f"config, got {months[0]}..{months[-1]}"
+    )
+
+
 def _one_config(
     config: Path,
     months: list[str] | None,
@@ -460,6 +481,19 @@ def _one_config(
 ) -> list[dict[str, Any]]:
     """Every brief of one config, in period order; each failure is recorded, not raised."""
     results = []
+    mismatch = _months_mismatch(config, months)
+    if mismatch is not None:
+        # Said once for the config, not once per round (each round's --as-of would fail).
+        print(f"riskreport: {config.name}: error: {mismatch}", file=sys.stderr)
+        return [
+            {
+                "config": str(config),
+                "as_of": None,
+                "exit_code": EXIT_INPUT,
+                "status": "error",
+                "error": mismatch,
+            }
+        ]
     rounds: list[str | None] = list(months) if months else [None]
     if len(rounds) > 1 and parallel.workers() > 1:
         # Each round renders its workbook and PNG charts in a forked child; imported here

@@ -254,6 +254,15 @@ def test_batch_over_months_and_configs(
     assert codes == [0, 2]
     assert (tmp_path / "m" / "assessment-2024-12.json").is_file()
     assert run("batch", config, "--months", "2024-12..2024-10").code == 2
+    # Quarters for a monthly config: said once, naming --months (it was said once per
+    # round, naming --as-of, which the user never typed).
+    wrong = run("batch", config, "--months", "2024-Q1..2024-Q3", "--out", tmp_path / "q")
+    assert wrong.code == 2
+    lines = wrong.stderr.strip().splitlines()
+    assert len(lines) == 1, wrong.stderr
+    assert "--months expected monthly periods like" in lines[0]
+    assert "2024-Q1..2024-Q3" in lines[0]
+    assert not (tmp_path / "q").exists()
 
 
 def test_a_file_changed_between_reads_is_read_again(case: Case) -> None:
