@@ -65,7 +65,8 @@ def bootstrap_p_inside(
     Returns
     -------
     lo, hi
-        The central ``level`` interval of the replicated P(inside).
+        The bias-corrected ``level`` interval of the replicated P(inside)
+        (:func:`bias_corrected_interval`).
     """
     n = errors.size
     # Blocks of at most half the sample: a block as long as the sample makes every
@@ -74,8 +75,46 @@ def bootstrap_p_inside(
     index = block_indices(n, block, replicates, rng)
     chain = rebase(dist, fit_batch(family, errors[index], mode=mode))
     p = chain.cdf(upper) - chain.cdf(lower)
-    tail = (1 - level) / 2
-    lo, hi = np.quantile(p, [tail, 1 - tail])
+    estimate = float(dist.cdf(upper) - dist.cdf(lower))
+    return bias_corrected_interval(np.asarray(p, dtype=float), estimate, level)
+
+
+def bias_corrected_interval(
+    replicated: np.ndarray, estimate: float, level: float
+) -> tuple[float, float]:
+    """Efron's bias-corrected percentile interval (BC: BCa with no acceleration).
+
+    Parameters
+    ----------
+    replicated
+        The statistic in every bootstrap replicate.
+    estimate
+        The statistic on the sample itself.
+    level
+        The coverage of the interval, e.g. 0.9.
+
+    Returns
+    -------
+    lo, hi
+        The replicates' quantiles at Phi(2 z0 -/+ z), z0 = Phi^-1(share of replicates below
+        the estimate, ties counted half), z = Phi^-1((1 + level) / 2).
+
+    Notes
+    -----
+    A moving-block bootstrap understates the spread of dependent errors (resampled blocks
+    lose the variation between them; Kuensch 1989, Annals of Statistics 17(3)), so the
+    replicates of P(inside) sit mostly on one side of the estimate and a plain percentile
+    interval can leave the estimate at its edge. The BC interval recentres on the estimate
+    (Efron 1987, JASA 82(397), eq. 2.3 with a = 0; Efron & Tibshirani 1993, An
+    Introduction to the Bootstrap, section 14.3). The share is kept within
+    [1/(R + 1), R/(R + 1)] so that z0 stays finite.
+    """
+    r = replicated.size
+    below = float(np.sum(replicated < estimate) + 0.5 * np.sum(replicated == estimate))
+    share = min(max(below / r, 1 / (r + 1)), r / (r + 1))
+    z0 = float(stats.norm.ppf(share))
+    z = float(stats.norm.ppf((1 + level) / 2))
+    lo, hi = np.quantile(replicated, stats.norm.cdf([2 * z0 - z, 2 * z0 + z]))
     return float(lo), float(hi)
 
 

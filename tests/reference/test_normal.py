@@ -99,3 +99,23 @@ def test_a_law_rescaled_about_zero_keeps_its_meaning_in_every_bootstrap_replicat
     # A judgement-style map (shift and scale about the mode) still keeps its fixed shift.
     moved = distributions.rebase(Adjusted(today, shift=0.3, scale=1.2), replicate)
     assert moved.mode == pytest.approx(s * replicate.loc + 0.3, abs=1e-12)
+
+
+def test_bias_corrected_bootstrap_interval_follows_efron() -> None:
+    # Efron (1987), "Better bootstrap confidence intervals", JASA 82(397), eq. 2.3 with no
+    # acceleration (a = 0); also Efron & Tibshirani (1993), An Introduction to the
+    # Bootstrap, section 14.3: z0 = Phi^-1(share below the estimate), and the interval is
+    # the replicates' quantiles at Phi(2 z0 -/+ z_(1 - alpha/2)).
+    from riskreport.laws.probabilities import bias_corrected_interval
+
+    replicated = stats.norm.ppf((np.arange(10_000) + 0.5) / 10_000)  # exact N(0, 1) quantiles
+    # With the estimate at the replicates' median, z0 = 0: the percentile interval.
+    assert bias_corrected_interval(replicated, 0.0, 0.9) == pytest.approx(
+        tuple(np.quantile(replicated, [0.05, 0.95])), abs=1e-12
+    )
+    # With 80% of the replicates below the estimate, z0 = Phi^-1(0.8) = 0.8416 and the
+    # quantiles move to Phi(2 (0.8416) -/+ 1.6449) = 0.5153 and 0.99956 (hand computed).
+    estimate = float(np.quantile(replicated, 0.8))
+    lo, hi = bias_corrected_interval(replicated, estimate, 0.9)
+    assert stats.norm.cdf(lo) == pytest.approx(0.5153, abs=2e-4)
+    assert stats.norm.cdf(hi) == pytest.approx(0.99956, abs=2e-4)

@@ -215,7 +215,8 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
         KeyValue(
             "Plausible range of inside",
             f"{int(100 * u.interval_level)}% of {u.bootstrap_replicates} moving-block "
-            "bootstrap resamples of the past errors; it leaves out the uncertainty of the "
+            "bootstrap resamples of the past errors (bias-corrected percentiles, Efron "
+            "1987); it leaves out the uncertainty of the "
             "choice of method (the sensitivity panel shows that)",
         ),
         KeyValue(
