@@ -29,6 +29,7 @@ from riskreport.errors import EnvironmentFailure, InputError
 
 if TYPE_CHECKING:  # annotations only: `check` runs without loading the pipeline
     from riskreport.assessment import Assessment
+    from riskreport.folder import Round
 
 log = logging.getLogger("riskreport")
 
@@ -184,6 +185,17 @@ def _record_failure(out_dir: Path, record: dict[str, Any], exc: BaseException) -
         log.warning("the failure was not recorded in runs.jsonl: %s", problem.one_line())
 
 
+def _record_success(out_dir: Path, record: dict[str, Any], written: Round) -> None:
+    """The line a run that wrote the round ``written`` adds to ``runs.jsonl``."""
+    from riskreport import folder
+
+    outputs = [
+        {"path": str(p.relative_to(out_dir)), "sha256": h}
+        for p, h in zip(written.paths, written.sha256, strict=True)
+    ]
+    folder.append_record(out_dir, {**record, "outputs": outputs, "exit_status": EXIT_OK})
+
+
 def _build(
     config: Path,
     out: Path | None,
@@ -246,17 +258,7 @@ def _build(
                 {"path": str(p), "sha256": h}
                 for p, h in zip(written.paths, written.sha256, strict=True)
             ]
-            folder.append_record(
-                out_dir,
-                {
-                    **record,
-                    "outputs": [
-                        {"path": str(p.relative_to(out_dir)), "sha256": h}
-                        for p, h in zip(written.paths, written.sha256, strict=True)
-                    ],
-                    "exit_status": EXIT_OK,
-                },
-            )
+            _record_success(out_dir, record, written)
             if replays is not None:
                 replays.save()
                 log.debug("replay: %d past origins reused, %d fitted", replays.hits, replays.misses)
@@ -390,17 +392,7 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
             written = folder.write_round(
                 out_dir, files, as_of=assessment.as_of, force=force, replace=False
             )
-            folder.append_record(
-                out_dir,
-                {
-                    **record,
-                    "outputs": [
-                        {"path": str(p.relative_to(out_dir)), "sha256": h}
-                        for p, h in zip(written.paths, written.sha256, strict=True)
-                    ],
-                    "exit_status": EXIT_OK,
-                },
-            )
+            _record_success(out_dir, record, written)
     except BaseException as exc:
         if out_dir is not None and out_dir.is_dir():
             _record_failure(out_dir, record, exc)
