@@ -289,6 +289,15 @@ def _row_name(row: SensitivityRow, a: Assessment) -> str:
     return name
 
 
+def _today(row: SensitivityRow) -> str:
+    """The panel's last column: today's method is "used"; the sequence of past choices,
+    whose record the brief reports, is "graded" (two rows marked "used" read as two
+    methods in use)."""
+    if not row.chosen:
+        return ""
+    return "graded" if row.family == "as selected" else "used"
+
+
 def _score(value: float) -> str:
     return "\u2013" if not math.isfinite(value) else f"{value:.2f}"
 
@@ -308,7 +317,7 @@ def sensitivity_lines(a: Assessment) -> tuple[SensitivityLine, ...]:
             fmt.single_percent(r.p_inside),
             _score(r.log_score),
             _share(r.coverage_90),
-            "used" if r.chosen else "",
+            _today(r),
         )
         for r in adj.sensitivity
     )
@@ -319,7 +328,9 @@ def sensitivity_caption(a: Assessment) -> str:
     return (
         f"Chance of being inside the band in {a.policy.period} ({a.policy_horizon} {units(a)} ahead) under "
         "each method, before any judgement, with that method's past record at this horizon "
-        "(mean log score: higher is better; how often its 90% range held the outcome)"
+        "(mean log score: higher is better; how often its 90% range held the outcome). "
+        "Used: today's method; graded: the method of each past round as it was chosen then, "
+        "the record this brief reports"
     )
 
 
