@@ -343,9 +343,14 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
         f"{found.horizons}, policy horizon {found.policy_horizon}",
         f"models in the current round: {', '.join(found.current_models)}"
         + (f"; left out: {', '.join(found.left_out_models)}" if found.left_out_models else ""),
-        f"past errors per horizon: {min(n)} to {max(n)}",
+        f"past errors per horizon in the error window: {min(n)} to {max(n)}"
+        + (
+            f" (the window holds the last {cfg.uncertainty.window})"
+            if cfg.uncertainty.window and max(n) == cfg.uncertainty.window
+            else ""
+        ),
         *(
-            f"input {i.role}: {i.path} ({i.rows if i.rows is not None else '-'} rows)"
+            f"input {i.role}: {i.path}" + (f" ({i.rows} rows)" if i.rows is not None else "")
             for i in found.inputs
         ),
         *(f"warning: {w}" for w in found.warnings),
