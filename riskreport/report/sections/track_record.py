@@ -8,6 +8,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from riskreport.assessment import Assessment
+from riskreport.forecasts.benchmarks import AR_LAGS
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
     SIGNIFICANCE,
@@ -34,6 +35,13 @@ class AccuracyLine:
     is_combination: bool
 
 
+BENCHMARKS_TEXT = (
+    "Beside the models: combination, the combined forecast; no-change, the last known "
+    f"outcome carried forward; autoregression, an AR({AR_LAGS}) of the outcomes alone, "
+    "refitted at each past round."
+)
+
+
 def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
     shown = summary_horizons(a)
     by_key = {(r.model, r.h): r for r in a.accuracy}
@@ -51,14 +59,16 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
     for h in shown:
         candidates = [by_key[(n, h)] for n in names if (n, h) in by_key and n in current]
         if candidates:
-            winner = min(candidates, key=lambda r: r.rmse)
-            best.setdefault(winner.model, []).append(h)
+            # Ties as printed (two decimals) are named together, not broken by order.
+            low = min(fmt.number(r.rmse, 2) for r in candidates)
+            winners = [r.model for r in candidates if fmt.number(r.rmse, 2) == low]
+            best.setdefault(" and ".join(winners), []).append(h)
     leaders = "; ".join(f"{model} ({join_h(a, hs)})" for model, hs in best.items())
     text = (
         "Root mean square error in percentage points (pp) over the error window; each forecaster is scored on the "
         "rounds in that window where it gave a forecast. Lowest among the models in the "
         f"current round: {leaders}. "
-        "Significance is discussed below."
+        f"{BENCHMARKS_TEXT} Significance is discussed below."
     )
     if left_out:
         text += (
