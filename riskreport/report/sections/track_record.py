@@ -180,8 +180,8 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         )
     if len(ran) > 1:
         lines.append(
-            f"{len(ran)} tests were run, each at the {level} level with no adjustment for "
-            f"their number: even with no real differences, about "
+            f"The {len(ran)} tests behind these lines were each run at the {level} level with "
+            f"no adjustment for their number: even with no real differences, about "
             f"{fmt.number(len(ran) * SIGNIFICANCE, 0)} would be expected to come out "
             "significant by chance."
         )
