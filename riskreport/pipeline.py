@@ -7,6 +7,7 @@ validate -> combine -> errors -> distributions -> staff judgement -> probabiliti
 from __future__ import annotations
 
 import dataclasses
+import threading
 import warnings
 from pathlib import Path
 
@@ -50,6 +51,9 @@ def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.
     )
 
 
+_ONE_AT_A_TIME = threading.Lock()
+
+
 def assess_config(
     cfg: Config,
     *,
@@ -63,7 +67,9 @@ def assess_config(
     else with the latest earlier ``assessment-*.json`` in ``search`` (default: the config's
     output directory). ``cache`` reuses past origins of the replay computed before.
     """
-    with warnings.catch_warnings(record=True) as caught:
+    # warnings.catch_warnings swaps process-wide state: two assessments in two threads at
+    # once would take each other's warnings, so one assessment runs at a time.
+    with _ONE_AT_A_TIME, warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", RiskReportWarning)
         assessment = _assess(cfg, cache)
     notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]

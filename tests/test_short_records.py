@@ -168,3 +168,24 @@ def test_undefined_calibration_tests_support_no_verdict(case: Case) -> None:
     assert "rejects" not in text
     assert "could not be computed" in text
     assert "p = nan" not in text
+
+
+def test_two_assessments_in_two_threads_keep_their_own_warnings(tmp_path: Path) -> None:
+    # warnings.catch_warnings swaps process-wide state; two assessments at once in two
+    # threads used to take each other's warnings (a brief listing another brief's warning).
+    from concurrent.futures import ThreadPoolExecutor
+
+    from tests.conftest import make_case
+
+    (tmp_path / "quiet").mkdir()
+    (tmp_path / "warned").mkdir()
+    quiet = make_case(tmp_path / "quiet")
+    warned = make_case(tmp_path / "warned")
+    # Model c gives no forecast in the current round: a warning in that brief only.
+    warned.forecasts = [r for r in warned.forecasts if not (r[2] == "c" and r[0] == "2024-12")]
+    paths = [quiet.write(), warned.write()]
+    with ThreadPoolExecutor(2) as pool:
+        for _ in range(4):  # a race: without the lock it failed about one run in three
+            a, b = pool.map(riskreport.assess, paths)
+            assert not any("has no forecast in the current round" in w for w in a.warnings)
+            assert any("has no forecast in the current round" in w for w in b.warnings)
