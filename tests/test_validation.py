@@ -281,3 +281,14 @@ def test_a_file_changed_between_reads_is_read_again(case: Case) -> None:
     again = inputs.read_actuals(path, "monthly")
     assert again.value[-1] == pytest.approx(first.value[-1] + 1, abs=1e-9)
     assert np.array_equal(again.value[:-1], first.value[:-1])
+
+
+def test_window_choice_needs_a_law_whose_window_it_chooses(
+    run: Callable[..., Result], case: Case
+) -> None:
+    # The replay chooses the window of the normal law only: with another fixed law the
+    # choice could not reach today's probabilities, and the brief contradicted itself.
+    case.config = case.config.replace(
+        'distribution = "normal"', 'distribution = "two-piece-normal"\nwindow_choice = "auto"'
+    )
+    _fails(run, case, "config.toml", "window_choice", "two-piece-normal")

@@ -545,6 +545,15 @@ def load(path: str | Path) -> Config:
             f"'{spread}' is offered with distribution = {' or '.join(EWMA_FAMILIES)} "
             f"(or auto), not {distribution}; use spread = 'auto' or 'constant'",
         )
+    window_choice = cast(WindowChoice, uncertainty.choice("window_choice", WINDOW_CHOICES, "fixed"))
+    if window_choice == "auto" and distribution not in ("auto", "normal"):
+        # The window is chosen for the normal law only (the others keep the configured
+        # one): with another fixed law the choice could not reach today's probabilities.
+        raise uncertainty.error(
+            "window_choice",
+            f"'auto' chooses the window of the normal law, so it needs distribution = "
+            f"normal or auto, not {distribution}; use window_choice = 'fixed'",
+        )
 
     return Config(
         path=path,
@@ -592,9 +601,7 @@ def load(path: str | Path) -> Config:
             ),
             seed=uncertainty.integer("seed", 20240101, minimum=0, maximum=2**63 - 1),
             spread=spread,
-            window_choice=cast(
-                WindowChoice, uncertainty.choice("window_choice", WINDOW_CHOICES, "fixed")
-            ),
+            window_choice=window_choice,
             recalibrate=uncertainty.flag("recalibrate", False),
             recalibration=cast(
                 RecalibrationMethod,

@@ -98,6 +98,21 @@ JUDGEMENT_SOURCES = (
 AGAINST_BASELINE = {"about the same": "about as well as", "worse": "worse than"}
 
 
+def _window_text(a: Assessment) -> str:
+    """The error window today's laws use: the configured one, or the one the replay chose."""
+    configured = a.uncertainty.window
+    adj = a.adjustments
+    used = adj.window if adj is not None and adj.window_grid else configured
+    text = (
+        "all past origins"
+        if used == 0
+        else f"last {used} origins with a known outcome, per horizon"
+    )
+    if used != configured:
+        text += f" (chosen by the replay; configured: {configured or 'all'})"
+    return text
+
+
 def judgement_text(a: Assessment) -> str:
     """The method line on staff judgement, with its published sources."""
     if not a.judgement:
@@ -181,9 +196,7 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
         KeyValue("Error distribution", distribution_text(a)),
         KeyValue(
             "Error window",
-            "all past origins"
-            if u.window == 0
-            else f"last {u.window} origins with a known outcome, per horizon",
+            _window_text(a),
         ),
         KeyValue(
             "Centre",

@@ -114,8 +114,15 @@ def centre_label(a: Assessment) -> str:
     judged = any(policy.period in j.periods for j in a.judgement)
     if a.uncertainty.centre == "estimated":
         scaled = a.adjustments is not None and a.adjustments.spread != "constant"
-        why = (
+        # The centre is the mode of the fitted error law: the average miss only for the
+        # normal law; a skewed law's most likely miss can even differ in sign from it.
+        miss = (
             "their average past miss"
+            if policy.distribution == "normal"
+            else "the most likely past miss of the fitted error distribution"
+        )
+        why = (
+            miss
             + (", scaled to today's error size," if scaled else "")
             + (" and staff judgement" if judged else "")
         )

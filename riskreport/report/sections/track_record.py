@@ -164,10 +164,10 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             f"{'these horizons' if whole else none_at(encompassing)} (encompassing test, "
             "HLN 1998); with this many past rounds the test may miss a small gain."
         )
-    fallback = [t for t in a.tests if any("Bartlett" in note for note in t.notes)]
+    fallback = [t for t in ran if any("Bartlett" in note for note in t.notes)]
     if fallback:
         lines.append(
-            f"In {len(fallback)} of {len(a.tests)} tests the usual (rectangular) long-run "
+            f"In {len(fallback)} of these {len(ran)} tests the usual (rectangular) long-run "
             "variance came out negative, as it can for overlapping multi-step errors; those "
             "tests use the Bartlett kernel instead (Harvey, Leybourne and Whitehouse 2017)."
         )
