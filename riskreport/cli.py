@@ -37,6 +37,17 @@ EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_ENVIRONMENT = 0, 1, 2, 3
 DEMO_PREVIOUS_ROUND = "2026-10"
 
 
+def _at_least_one(text: str) -> int:
+    """A whole number of at least 1 (``--jobs``)."""
+    try:
+        value = int(text)
+    except ValueError:
+        value = 0
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected a whole number of at least 1, got {text!r}")
+    return value
+
+
 def demo_config() -> Path:
     """The bundled, invented demo scenario's configuration."""
     return Path(str(resources.files("riskreport.example_inputs"))) / "config.toml"
@@ -101,7 +112,7 @@ def _parser() -> argparse.ArgumentParser:
     )
     batch.add_argument(
         "--jobs",
-        type=int,
+        type=_at_least_one,
         default=1,
         help="configs built in parallel (periods of one config run in order)",
     )
@@ -589,7 +600,13 @@ def _main(args: argparse.Namespace) -> int:
         print(f"riskreport: environment error: {one_line(exc)}", file=sys.stderr)
         summary, code = {"status": "error", "error": one_line(exc)}, EXIT_ENVIRONMENT
     except KeyboardInterrupt:
-        print("riskreport: interrupted; no brief was written", file=sys.stderr)
+        # A round switches over as a unit: the one being made was not written; rounds a
+        # batch had already finished stay complete.
+        print(
+            "riskreport: interrupted; the brief being made was not written (briefs already "
+            "finished are complete)",
+            file=sys.stderr,
+        )
         summary, code = {"status": "error", "error": "interrupted"}, EXIT_INTERNAL
     except Exception as exc:
         detail = traceback.format_exc() if args.verbose else f"{type(exc).__name__}: {exc}"

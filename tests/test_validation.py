@@ -292,3 +292,13 @@ def test_window_choice_needs_a_law_whose_window_it_chooses(
         'distribution = "normal"', 'distribution = "two-piece-normal"\nwindow_choice = "auto"'
     )
     _fails(run, case, "config.toml", "window_choice", "two-piece-normal")
+
+
+@pytest.mark.parametrize("jobs", ["0", "-3", "two"])
+def test_batch_jobs_must_be_at_least_one(run: Callable[..., Result], case: Case, jobs: str) -> None:
+    # `--jobs 0` and `--jobs -3` ran silently (exit 0) before.
+    config = case.write()
+    with pytest.raises(SystemExit) as stopped:
+        run("batch", config, "--jobs", jobs, "--out", case.folder / "out")
+    assert stopped.value.code == 2
+    assert not (case.folder / "out").exists()
