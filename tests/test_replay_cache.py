@@ -167,6 +167,31 @@ def test_a_damaged_cache_is_ignored(case: Case, tmp_path: Path, run: Callable[..
     assert replay_cache.ReplayCache.load(cached)._tables
 
 
+@pytest.mark.parametrize("column", [0, 2, 4])  # a PIT, P(inside), a log score
+def test_cached_values_no_replay_makes_are_not_trusted(
+    case: Case, tmp_path: Path, run: Callable[..., Result], column: int
+) -> None:
+    # A readable cache whose values no replay could make (a PIT of -4, a probability over
+    # 1, an infinite log score) was used as it was and moved the published numbers.
+    config = _auto(case)
+    cached, fresh = tmp_path / "cached", tmp_path / "fresh"
+    assert run("build", config, "--out", cached, "--as-of", "2024-11").code == 0
+    assert run("build", config, "--out", fresh, "--as-of", "2024-11", "--no-cache").code == 0
+    path = cached / replay_cache.FOLDER / replay_cache.REPLAY_NAME
+    with np.load(path, allow_pickle=False) as data:
+        arrays = {name: data[name] for name in data.files}
+    values = arrays["values0"].copy()
+    values[:, column] = {0: -4.0, 2: 1.5, 4: -np.inf}[column]
+    arrays["values0"] = values
+    with path.open("wb") as handle:
+        np.savez(handle, **arrays)
+    result = run("build", config, "--out", cached, "--as-of", "2024-12")
+    assert result.code == 0
+    assert "ignored the replay cache" in result.stderr
+    assert run("build", config, "--out", fresh, "--as-of", "2024-12", "--no-cache").code == 0
+    assert _json(cached, "2024-12") == _json(fresh, "2024-12")
+
+
 def test_a_cache_folder_that_is_a_link_is_not_used(
     case: Case, tmp_path: Path, run: Callable[..., Result]
 ) -> None:

@@ -165,6 +165,23 @@ def _rows(data: HorizonData, rows: np.ndarray) -> HorizonData:
     )
 
 
+def _check_values(name: str, values: np.ndarray) -> None:
+    """Refuse cached scores no replay could have made: a PIT or a probability outside
+    [0, 1], probabilities of below, inside and above not adding to 1, a log score that is
+    not finite (the replay floors those) or a negative or non-finite CRPS. Damage of that
+    kind makes the whole cache start afresh rather than move published numbers."""
+    pit, below, inside, above, log_score, crps = values.T
+    probabilities = np.stack([pit, below, inside, above])
+    if (
+        # (1 - F(upper) can round to -2e-16: a tolerance well above rounding, far below damage)
+        not np.all((probabilities >= -1e-9) & (probabilities <= 1 + 1e-9))
+        or not np.allclose(below + inside + above, 1.0, atol=1e-6)
+        or not np.all(np.isfinite(log_score))
+        or not np.all(np.isfinite(crps) & (crps >= 0))
+    ):
+        raise ValueError(f"table {name!r} holds values no replay makes")
+
+
 class ReplayCache:
     """Replayed scores of past origins, reused by digest of their inputs.
 
@@ -217,6 +234,7 @@ class ReplayCache:
                     or used.shape != (keys.shape[0],)
                 ):
                     raise ValueError(f"table {name!r} has an unexpected shape")
+                _check_values(name, values)
                 raw = keys.tobytes()
                 digests = [raw[j : j + DIGEST_SIZE] for j in range(0, len(raw), DIGEST_SIZE)]
                 tables[name] = _Table(digests, values, used.astype(np.int64))
