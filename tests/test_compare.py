@@ -96,3 +96,18 @@ def test_a_reader_that_goes_away_is_not_a_crash(rounds: Path) -> None:
     assert child.wait(timeout=120) == 0
     assert "Traceback" not in stderr
     assert "BrokenPipe" not in stderr
+
+
+def test_rounds_of_two_frequencies_are_refused(
+    rounds: Path, run: Callable[..., Result], tmp_path: Path
+) -> None:
+    # A monthly and a quarterly round share no target period: this exited 0 with "no
+    # target period is in both rounds", as if the comparison were empty.
+    data = json.loads((rounds / "assessment-2024-09.json").read_text("utf-8"))
+    data["frequency"] = "quarterly"
+    other = tmp_path / "quarterly.json"
+    other.write_text(json.dumps(data), "utf-8")
+    result = run("compare", other, rounds / "assessment-2024-12.json")
+    assert result.code == 2
+    assert len(result.stderr.strip().splitlines()) == 1
+    assert "one frequency" in result.stderr

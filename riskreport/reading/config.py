@@ -236,6 +236,13 @@ _KNOWN_KEYS: dict[str, set[str]] = {
 }
 
 
+def _toml(value: object) -> str:
+    """A value as the TOML file spells it (true, not Python's True), for messages."""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    return repr(value)
+
+
 class _Reader:
     """Typed look-ups in one TOML table, with errors that name the file and key."""
 
@@ -259,10 +266,8 @@ class _Reader:
                 raise self.error(key, f"missing; expected {what}")
             return default
         value = self.table[key]
-        if isinstance(value, bool) and kind is not bool:
-            raise self.error(key, f"expected {what}, got {value!r}")
-        if not isinstance(value, kind):
-            raise self.error(key, f"expected {what}, got {value!r}")
+        if (isinstance(value, bool) and kind is not bool) or not isinstance(value, kind):
+            raise self.error(key, f"expected {what}, got {_toml(value)}")
         return value
 
     def text(self, key: str, default: Any = None) -> str:

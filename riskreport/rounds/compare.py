@@ -66,6 +66,14 @@ def compare_files(old: Path, new: Path) -> Comparison:
         A file is missing, not JSON, or not an assessment.
     """
     before, now = _read(old), _read(new)
+    if before.get("frequency") != now.get("frequency"):
+        # Monthly and quarterly rounds share no target period: no comparison, not an
+        # empty one.
+        raise InputError(
+            f"expected two rounds of one frequency, got {before.get('frequency')} "
+            f"({old.name}) and {now.get('frequency')}",
+            file=new,
+        )
     try:
         record = change.compare(
             before, [(row["period"], change.side(row)) for row in now["horizons"]]

@@ -123,7 +123,7 @@ def centre_label(a: Assessment) -> str:
         )
         why = (
             miss
-            + (", scaled to today's error size," if scaled else "")
+            + (", scaled to today's error size" if scaled else "")
             + (" and staff judgement" if judged else "")
         )
         size = (
@@ -386,12 +386,12 @@ def threshold_line(a: Assessment) -> str:
         path = next(r for r in t.path if r.h == a.policy_horizon)
         if _threshold_side(a, t) == "below":
             parts.append(
-                f"below {threshold_label(t.threshold)} {fmt.single_percent(at.p_below)} "
+                f"below {threshold_label(t.threshold)}: {fmt.single_percent(at.p_below)} "
                 f"(at least once by then {fmt.single_percent(path.p_below_at_least_once)})"
             )
         else:
             parts.append(
-                f"above {threshold_label(t.threshold)} {fmt.single_percent(at.p_above)} "
+                f"above {threshold_label(t.threshold)}: {fmt.single_percent(at.p_above)} "
                 f"(at least once by then {fmt.single_percent(path.p_above_at_least_once)})"
             )
     return (
