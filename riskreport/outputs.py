@@ -189,7 +189,10 @@ def _page_files(chosen: set[OutputFormat], assessment: Assessment, text: str) ->
                 page, render_module.created_date(assessment)
             )
             for note in notes:
-                log.warning("weasyprint: %s", note)
+                # The missing HarfBuzz subset library is said once, by `make install`
+                # (riskreport._system); repeated on every brief it is noise.
+                level = logging.DEBUG if "HarfBuzz" in note else logging.WARNING
+                log.log(level, "weasyprint: %s", note)
     return files
 
 
