@@ -480,36 +480,27 @@ def berkowitz(pit: ArrayLike) -> TestResult:
 
     z = np.clip(_vector(pit, "pit"), 1e-10, 1 - 1e-10)
     x = stats.norm.ppf(z)
-    method = "Berkowitz LR3, exact Gaussian AR(1) likelihood of the normal-transformed PITs, chi-square(3)"
-    if np.ptp(x) == 0:
-        # The AR(1) likelihood of a constant series grows without bound as its variance
-        # goes to 0, so LR3 has no finite value; a fit would return whatever its variance
-        # floor gives. Undefined (NaN) with a note, as for the other tests with no variation.
-        return TestResult(
-            statistic=float("nan"),
-            pvalue=float("nan"),
-            null="PITs are iid uniform (normal scores iid N(0, 1))",
-            alternative="wrong mean, variance or first-order dependence",
-            method=method,
-            nobs=int(x.size),
-            h=1,
-            df=(3,),
-            notes=(CONSTANT_PITS,),
-        )
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # statsmodels' convergence chatter on short series
-        fitted = ARIMA(x, order=(1, 0, 0), trend="c").fit()
-    restricted = float(stats.norm.logpdf(x).sum())
-    lr = max(0.0, -2 * (restricted - float(fitted.llf)))
+    lr = float("nan")
+    notes: tuple[str, ...] = (CONSTANT_PITS,)
+    # A constant series' AR(1) likelihood grows without bound as its variance goes to 0, so
+    # LR3 has no finite value there (a fit would return whatever its variance floor gives):
+    # undefined (NaN) with a note, as for the other tests with no variation.
+    if np.ptp(x) > 0:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # statsmodels' convergence chatter on short series
+            fitted = ARIMA(x, order=(1, 0, 0), trend="c").fit()
+        restricted = float(stats.norm.logpdf(x).sum())
+        lr, notes = max(0.0, -2 * (restricted - float(fitted.llf))), ()
     return TestResult(
         statistic=lr,
         pvalue=float(stats.chi2.sf(lr, 3)),
         null="PITs are iid uniform (normal scores iid N(0, 1))",
         alternative="wrong mean, variance or first-order dependence",
-        method=method,
+        method="Berkowitz LR3, exact Gaussian AR(1) likelihood of the normal-transformed PITs, chi-square(3)",
         nobs=int(x.size),
         h=1,
         df=(3,),
+        notes=notes,
     )
 
 

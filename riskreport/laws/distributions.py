@@ -375,7 +375,8 @@ def scale_about_zero(dist: Distribution, scale: float) -> Distribution:
     """The law of ``scale`` times a variable with law ``dist``."""
     if scale == 1.0:
         return dist
-    return Adjusted(dist, shift=(scale - 1.0) * float(dist.mode), scale=scale, about_zero=True)
+    # (a batch of fits has one mode per row: the shift broadcasts)
+    return Adjusted(dist, shift=(scale - 1.0) * dist.mode, scale=scale, about_zero=True)
 
 
 def rebase(dist: Distribution, base: Distribution) -> Distribution:
@@ -389,9 +390,7 @@ def rebase(dist: Distribution, base: Distribution) -> Distribution:
         if dist.about_zero:
             # scale * X for the new X: its shift follows the new mode (a fixed shift would
             # move each replicate's centre by 1 x its mode change instead of scale x).
-            # (a batch of refits has one mode per replicate: the shift broadcasts)
-            shift = (dist.scale - 1.0) * inner.mode
-            return Adjusted(inner, shift=shift, scale=dist.scale, about_zero=True)
+            return scale_about_zero(inner, dist.scale)
         return Adjusted(inner, shift=dist.shift, scale=dist.scale)
     if isinstance(dist, Tilted):
         return Tilted(rebase(dist.base, base), tilt=dist.tilt)
