@@ -10,12 +10,11 @@ the tests use h lags (``stats`` functions take ``panel.steps_ahead(h)`` = h + 1 
 from __future__ import annotations
 
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport.assessment import json_key
 from riskreport.errors import SmallSampleWarning
 from riskreport.forecasts import benchmarks
 from riskreport.forecasts.combination import Combination
@@ -42,31 +41,11 @@ class AccuracyRow:
 
 
 @dataclass(frozen=True)
-class TestRow:
-    """One comparative test at one horizon."""
-
-    __test__ = False  # not a pytest test class
-
-    name: str
-    models: tuple[str, ...]
-    h: int
-    statistic: float
-    pvalue: float
-    nobs: int
-    null: str
-    method: str
-    notes: tuple[str, ...]
-    # Kept on the object, not written to the JSON (its keys are fixed):
-    alternative: str = field(default="", metadata=json_key(skip=True))
-    df: tuple[float, ...] = field(default=(), metadata=json_key(skip=True))
-
-
-@dataclass(frozen=True)
 class TrackRecord:
     """Accuracy rows and tests."""
 
     accuracy: tuple[AccuracyRow, ...]
-    tests: tuple[TestRow, ...]
+    tests: tuple[stats.TestResult, ...]  # labelled with their name and models
 
 
 def error_matrix(forecast: np.ndarray, outcomes: np.ndarray) -> np.ndarray:
@@ -112,22 +91,6 @@ def _accuracy(errors: dict[str, np.ndarray], horizons: int) -> list[AccuracyRow]
     return rows
 
 
-def _row(name: str, models: tuple[str, ...], h: int, result: stats.TestResult) -> TestRow:
-    return TestRow(
-        name=name,
-        models=models,
-        h=h,
-        statistic=result.statistic,
-        pvalue=result.pvalue,
-        nobs=result.nobs,
-        null=result.null,
-        method=result.method,
-        notes=result.notes,
-        alternative=result.alternative,
-        df=tuple(result.df),
-    )
-
-
 def _common(*columns: np.ndarray) -> np.ndarray:
     return np.all(np.isfinite(np.column_stack(columns)), axis=1)
 
@@ -145,10 +108,12 @@ def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int
     return True
 
 
-def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: int) -> list[TestRow]:
+def _tests(
+    errors: dict[str, np.ndarray], current: list[list[str]], horizons: int
+) -> list[stats.TestResult]:
     from riskreport.forecasts import stats
 
-    rows: list[TestRow] = []
+    rows: list[stats.TestResult] = []
     skipped: set[int] = set()
     crowded: set[int] = set()
     for h in range(horizons + 1):
@@ -160,15 +125,15 @@ def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: in
                 keep = _common(e, e_other)
                 if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
                     result = stats.diebold_mariano(e[keep], e_other[keep], h=steps)
-                    rows.append(_row("diebold-mariano", (model, other), h, result))
+                    rows.append(result.labelled("diebold-mariano", (model, other)))
             keep = _common(comb, e)
             if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
                 result = stats.encompassing(comb[keep], e[keep], h=steps)
-                rows.append(_row("encompassing", ("combination", model), h, result))
+                rows.append(result.labelled("encompassing", ("combination", model)))
         keep = _common(comb, naive)
         if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
             result = stats.diebold_mariano(comb[keep], naive[keep], h=steps)
-            rows.append(_row("diebold-mariano", ("combination", "no-change"), h, result))
+            rows.append(result.labelled("diebold-mariano", ("combination", "no-change")))
         if len(current[h]) >= 2:
             matrix = np.column_stack([errors[m][:, h] for m in current[h]])
             keep = _common(matrix)
@@ -183,7 +148,7 @@ def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: in
                     crowded.add(h)
                 else:
                     result = stats.mariano_preve(matrix[keep], h=steps)
-                    rows.append(_row("mariano-preve", tuple(current[h]), h, result))
+                    rows.append(result.labelled("mariano-preve", tuple(current[h])))
     if crowded:
         warnings.warn(
             "The test of equal accuracy of all current models together (Mariano-Preve) was "

@@ -23,7 +23,7 @@ from riskreport.report.sections.common import (
 )
 
 if TYPE_CHECKING:
-    from riskreport.forecasts.track_record import TestRow
+    from riskreport.forecasts.stats import TestResult
 
 
 @dataclass(frozen=True)
@@ -84,7 +84,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     Only tests that were run and have a p-value speak: a test skipped (too few past
     rounds) or undefined (no variation) supports no "not significant" statement.
     """
-    ran = [t for t in a.tests if t.h in shown and math.isfinite(t.pvalue)]
+    ran = [t for t in a.tests if t.horizon in shown and math.isfinite(t.pvalue)]
     if not ran:
         return (
             "No accuracy test could be computed at these horizons (too few past rounds, or "
@@ -92,8 +92,8 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             *undefined_text(a),
         )
     # Statements about "these horizons" only when every shown horizon's tests ran.
-    whole = {t.h for t in ran} == set(shown) and all(
-        math.isfinite(t.pvalue) for t in a.tests if t.h in shown
+    whole = {t.horizon for t in ran} == set(shown) and all(
+        math.isfinite(t.pvalue) for t in a.tests if t.horizon in shown
     )
     dm = [t for t in ran if t.name == "diebold-mariano"]
     better: dict[str, list[int]] = {}
@@ -102,13 +102,13 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         if t.models[1] != "combination" or not t.pvalue < SIGNIFICANCE:
             continue
         # statistic > 0: the first forecaster has the larger loss.
-        (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.h)
+        (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.horizon)
     level = f"{int(100 * SIGNIFICANCE)}%"
     lines = []
     if not any(t.models[1] == "combination" for t in dm):
         pass  # no model was tested against the combination
     elif not better and not worse:
-        tested = "" if whole else f" ({join_h(a, sorted({t.h for t in dm}))} tested)"
+        tested = "" if whole else f" ({join_h(a, sorted({t.horizon for t in dm}))} tested)"
         lines.append(
             f"No model's accuracy differs significantly from the combination's at the {level} "
             f"level{tested} (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
@@ -124,11 +124,11 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         if parts:
             lines.append(f"Significantly more accurate than the combination: {'; '.join(parts)}.")
     naive = [t for t in dm if t.models == ("combination", "no-change")]
-    beats = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
-    loses = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
+    beats = [t.horizon for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
+    loses = [t.horizon for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
 
-    def none_at(tests: list[TestRow]) -> str:
-        return "these horizons" if whole else join_h(a, sorted({t.h for t in tests}))
+    def none_at(tests: list[TestResult]) -> str:
+        return "these horizons" if whole else join_h(a, sorted({t.horizon for t in tests}))
 
     text = "Against the no-change forecast, the combination is significantly better at "
     text += join_h(a, beats) if beats else f"none of {none_at(naive)}"
@@ -136,7 +136,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     if naive:
         lines.append(text)
     joint = [t for t in ran if t.name == "mariano-preve"]
-    rejected = [t.h for t in joint if t.pvalue < SIGNIFICANCE]
+    rejected = [t.horizon for t in joint if t.pvalue < SIGNIFICANCE]
     if joint:
         lines.append(
             "Taking all current models together (Mariano-Preve test), equal accuracy is "
@@ -151,7 +151,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     adds: dict[str, list[int]] = {}
     for t in encompassing:
         if t.pvalue < SIGNIFICANCE:
-            adds.setdefault(t.models[1], []).append(t.h)
+            adds.setdefault(t.models[1], []).append(t.horizon)
     if adds:
         lines.append(
             "Models that would still add information to the combination (encompassing test, "
