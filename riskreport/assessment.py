@@ -12,6 +12,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
+from riskreport.forecasts.track_record import OwnNames
 from riskreport.serialise import Layout, json_key, plain
 
 if TYPE_CHECKING:  # annotations only: the records live with the steps that make them
@@ -374,6 +375,9 @@ class Assessment:
     round_history: tuple[RoundPoint, ...] = ()
     year_history: tuple[YearPoint, ...] = ()
     score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
+    # The names of the tool's own forecasters in `accuracy` and `tests` (renamed where a
+    # model took one); the JSON's warnings say so when they differ from the usual ones.
+    own_names: OwnNames = field(default=OwnNames(), metadata=json_key(skip=True))
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after judgement unless ``model_based``)."""

@@ -52,7 +52,7 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
             fmt.number(by_key[(name, h)].rmse, 2) if (name, h) in by_key else "\u2013"
             for h in shown
         )
-        lines.append(AccuracyLine(name, cells, name == "combination"))
+        lines.append(AccuracyLine(name, cells, name == a.own_names.combination))
     current = {m.model for m in a.models if m.in_current_round}
     left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
     best: dict[str, list[int]] = {}
@@ -99,13 +99,13 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     better: dict[str, list[int]] = {}
     worse: dict[str, list[int]] = {}
     for t in dm:
-        if t.models[1] != "combination" or not t.pvalue < SIGNIFICANCE:
+        if t.models[1] != a.own_names.combination or not t.pvalue < SIGNIFICANCE:
             continue
         # statistic > 0: the first forecaster has the larger loss.
         (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.horizon)
     level = f"{int(100 * SIGNIFICANCE)}%"
     lines = []
-    if not any(t.models[1] == "combination" for t in dm):
+    if not any(t.models[1] == a.own_names.combination for t in dm):
         pass  # no model was tested against the combination
     elif not better and not worse:
         tested = "" if whole else f" ({join_h(a, sorted({t.horizon for t in dm}))} tested)"
@@ -123,7 +123,8 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         parts = [f"{m} ({join_h(a, hs)})" for m, hs in better.items()]
         if parts:
             lines.append(f"Significantly more accurate than the combination: {'; '.join(parts)}.")
-    naive = [t for t in dm if t.models == ("combination", "no-change")]
+    own = a.own_names
+    naive = [t for t in dm if t.models == (own.combination, own.no_change)]
     beats = [t.horizon for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
     loses = [t.horizon for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
 
