@@ -157,3 +157,72 @@ def test_few_modules_at_the_top_level() -> None:
     assert len(top) <= MAX_TOP_LEVEL_MODULES, (
         f"{len(top)} modules directly in riskreport/ (at most {MAX_TOP_LEVEL_MODULES}): {top}"
     )
+
+
+# The floors of DEVELOPERS.md ("The floors at a glance"): a module imports from its own floor
+# and the ones below. Keys are paths under riskreport/ (a folder, or a module).
+FLOORS = {
+    "errors.py": 0,
+    "_typing.py": 0,
+    "serialise.py": 0,
+    "folder.py": 0,
+    "parallel.py": 0,
+    "progress.py": 0,
+    "_system.py": 0,
+    "reading": 1,
+    "forecasts": 2,
+    "laws": 3,
+    "replay": 4,
+    "rounds": 5,
+    "assessment.py": 6,
+    "records.py": 6,
+    "headline.py": 6,
+    "pipeline.py": 6,
+    "report": 7,
+    "outputs.py": 7,
+    "cli.py": 8,
+}
+# The arrows that point up on purpose (DEVELOPERS.md names each).
+UPWARD = {
+    ("riskreport.reading.screening", "riskreport.forecasts.combination"),
+    ("riskreport.reading.screening", "riskreport.forecasts.track_record"),
+    ("riskreport.reading.config", "riskreport.forecasts.combination"),
+    ("riskreport.reading.config", "riskreport.laws.thresholds"),
+    ("riskreport.laws.uncertainty", "riskreport.replay.selection"),
+    ("riskreport.rounds.compare", "riskreport.report.formatting"),
+    ("riskreport.rounds.compare", "riskreport.report.tables"),
+}
+
+
+def _floor(path: Path) -> int | None:
+    relative = path.relative_to(PACKAGE).as_posix()
+    return FLOORS.get(relative, FLOORS.get(relative.split("/")[0]))
+
+
+def _every_import(path: Path) -> set[str]:
+    """Modules of the package a module imports anywhere (in functions too)."""
+    found: set[str] = set()
+    for node in ast.walk(ast.parse(path.read_text("utf-8"))):
+        if isinstance(node, ast.ImportFrom) and (node.module or "").startswith("riskreport"):
+            for alias in node.names:
+                candidate = f"{node.module}.{alias.name}"
+                is_module = (PACKAGE.parent / Path(*candidate.split("."))).with_suffix(".py")
+                found.add(candidate if is_module.exists() else node.module or "")
+    return found
+
+
+def test_no_import_points_up_a_floor() -> None:
+    paths = {_module_name(p): p for p in PACKAGE.rglob("*.py")}
+    # Every module has a floor but the public face at the top, which re-exports.
+    public = {"__init__.py", "__main__.py", "stats.py", "distributions.py", "combination.py"}
+    unplaced = [n for n, p in paths.items() if _floor(p) is None and p.name not in public]
+    assert not unplaced, f"modules with no floor in FLOORS: {unplaced}"
+    upward = set()
+    for name, path in paths.items():
+        here = _floor(path)
+        for target in _every_import(path) & paths.keys():
+            there = _floor(paths[target])
+            if here is not None and there is not None and there > here:
+                upward.add((name, target))
+    assert upward - UPWARD == set(), "imports up a floor (see DEVELOPERS.md)"
+    assert UPWARD - upward == set(), "an allowed upward import is gone: drop it from UPWARD"
