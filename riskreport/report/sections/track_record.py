@@ -35,11 +35,14 @@ class AccuracyLine:
     is_combination: bool
 
 
-BENCHMARKS_TEXT = (
-    "Beside the models: combination, the combined forecast; no-change, the last known "
-    f"outcome carried forward; autoregression, an AR({AR_LAGS}) of the outcomes alone, "
-    "refitted at each past round."
-)
+def benchmarks_text(a: Assessment) -> str:
+    """The tool's own forecasters, under the names the tables give them."""
+    own = a.own_names
+    return (
+        f"Beside the models: {own.combination}, the combined forecast; {own.no_change}, the "
+        f"last known outcome carried forward; {own.autoregression}, an AR({AR_LAGS}) of the "
+        "outcomes alone, refitted at each past round."
+    )
 
 
 def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
@@ -68,7 +71,7 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
         "Root mean square error in percentage points (pp) over the error window; each forecaster is scored on the "
         "rounds in that window where it gave a forecast. Lowest among the models in the "
         f"current round: {leaders}. "
-        f"{BENCHMARKS_TEXT} Significance is discussed below."
+        f"{benchmarks_text(a)} Significance is discussed below."
     )
     if left_out:
         text += (
