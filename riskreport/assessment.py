@@ -8,45 +8,41 @@ from __future__ import annotations
 
 import dataclasses
 import json
-import math
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
-if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scipy loaded
-    from riskreport.forecasts.track_record import AccuracyRow, TestRow
+from riskreport.forecasts.track_record import OwnNames
+from riskreport.serialise import Layout, json_key, plain
+
+if TYPE_CHECKING:  # annotations only: the records live with the steps that make them
+    from riskreport.forecasts.stats import TestResult
+    from riskreport.forecasts.track_record import AccuracyRow
     from riskreport.laws.annual import AnnualResult
     from riskreport.laws.density import DensityCurve
     from riskreport.laws.judgement import AppliedJudgement
     from riskreport.laws.thresholds import ThresholdResult
+    from riskreport.reading.screening import ModelStatus
     from riskreport.replay.adjustments import Adjustments
     from riskreport.replay.calibration import CalibrationRecord
     from riskreport.rounds.change import ChangeRecord
     from riskreport.rounds.history import RoundPoint, YearPoint
 
 
-def json_key(
-    *,
-    name: str | None = None,
-    skip: bool = False,
-    omit_none: bool = False,
-    keyed: tuple[str, str] | None = None,
-) -> dict[str, tuple[str | None, bool, bool, tuple[str, str] | None]]:
-    """A dataclass field's metadata saying how :func:`plain` writes it.
-
-    Parameters
-    ----------
-    name
-        The JSON key, where it differs from the attribute (``from`` is a Python keyword).
-    skip
-        Kept on the object only, not written to the JSON.
-    omit_none
-        The key is left out of the JSON when the value is None.
-    keyed
-        ``(key, value)``: a tuple of dataclasses written as one JSON object mapping each
-        item's ``key`` attribute to its ``value`` attribute (e.g. family -> score).
-    """
-    return {"json": (name, skip, omit_none, keyed)}
+ACCURACY_TEST_KEYS: Layout = (
+    "name",
+    "models",
+    ("h", "horizon"),
+    "statistic",
+    "pvalue",
+    "nobs",
+    "null",
+    "method",
+    "notes",
+)
+"""The JSON keys of a comparative test of the track record (``tests``), in order: the
+horizon index as ``h`` (:attr:`TestResult.horizon`); ``alternative`` and ``df`` stay on the
+object."""
 
 
 @dataclass(frozen=True)
@@ -305,16 +301,6 @@ class CombinationRecord:
 
 
 @dataclass(frozen=True)
-class ModelStatus:
-    """A model of the forecasts file: its history and whether it is in the current round."""
-
-    model: str
-    first_origin: str
-    last_origin: str
-    in_current_round: bool
-
-
-@dataclass(frozen=True)
 class InputRecord:
     """An input file: name (relative to the config), SHA-256, rows, and period range."""
 
@@ -375,7 +361,7 @@ class Assessment:
     combination: CombinationRecord
     models: tuple[ModelStatus, ...]
     accuracy: tuple[AccuracyRow, ...]
-    tests: tuple[TestRow, ...]
+    tests: tuple[TestResult, ...] = field(metadata=json_key(layout=ACCURACY_TEST_KEYS))
     calibration: CalibrationRecord
     uncertainty: UncertaintyRecord
     history: tuple[Observation, ...]
@@ -389,6 +375,9 @@ class Assessment:
     round_history: tuple[RoundPoint, ...] = ()
     year_history: tuple[YearPoint, ...] = ()
     score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
+    # The names of the tool's own forecasters in `accuracy` and `tests` (renamed where a
+    # model took one); the JSON's warnings say so when they differ from the usual ones.
+    own_names: OwnNames = field(default=OwnNames(), metadata=json_key(skip=True))
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after judgement unless ``model_based``)."""
@@ -411,40 +400,3 @@ class Assessment:
     def to_json(self) -> str:
         """The assessment as JSON text (UTF-8, sorted nowhere, stable for identical inputs)."""
         return json.dumps(self.to_dict(), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
-
-
-def plain(value: Any) -> Any:
-    """Any part of an assessment as plain JSON values: the one place results are flattened.
-
-    Dataclasses become objects with their fields in declaration order (see
-    :func:`json_key`), tuples become lists and floats are rounded to 12 significant digits
-    (stable across BLAS); a non-finite float becomes None (JSON null).
-    """
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        out: dict[str, Any] = {}
-        for f in dataclasses.fields(value):
-            name, skip, omit_none, keyed = f.metadata.get("json", (None, False, False, None))
-            item = getattr(value, f.name)
-            if skip or (omit_none and item is None):
-                continue
-            if keyed is not None:
-                key, attribute = keyed
-                item = {getattr(x, key): getattr(x, attribute) for x in item}
-            out[name or f.name] = plain(item)
-        return out
-    return _clean(value)
-
-
-def _clean(value: Any) -> Any:
-    """Tuples to lists and floats rounded to 12 significant digits (stable across BLAS)."""
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return plain(value)
-    if isinstance(value, dict):
-        return {str(k): _clean(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_clean(v) for v in value]
-    if isinstance(value, float):
-        if not math.isfinite(value):
-            return None
-        return float(f"{value:.12g}")
-    return value

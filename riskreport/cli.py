@@ -434,6 +434,7 @@ def _compare(old: Path, new: Path) -> dict[str, Any]:
         "status": "ok",
         "old_as_of": result.old_as_of,
         "new_as_of": result.new_as_of,
+        "swapped": result.swapped,
         "horizons": [dataclasses.asdict(r) for r in result.rows],
         "summary": compare.text(result),
     }

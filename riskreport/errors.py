@@ -126,3 +126,7 @@ class HeadlineBasisWarning(RiskReportWarning):
 
 class CombinationRangeWarning(RiskReportWarning):
     """Estimated weights are negative, or the combined forecast leaves the models' range."""
+
+
+class NameClashWarning(RiskReportWarning):
+    """A model has the name of one of the track record's own forecasters, which is renamed."""

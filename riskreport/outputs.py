@@ -17,7 +17,8 @@ from pathlib import Path
 
 from riskreport import folder, parallel
 from riskreport._typing import OUTPUT_FORMATS, OutputFormat
-from riskreport.assessment import Assessment, HorizonResult, plain
+from riskreport.assessment import ACCURACY_TEST_KEYS, Assessment, HorizonResult
+from riskreport.serialise import plain
 
 log = logging.getLogger("riskreport")
 
@@ -132,7 +133,11 @@ def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -
         files[f"tables/path-{as_of}.csv"] = _csv(_rows(a.path))
         files[f"tables/accuracy-{as_of}.csv"] = _csv(_rows(a.accuracy))
         files[f"tables/tests-{as_of}.csv"] = _csv(
-            {**plain(t), "models": " vs ".join(t.models), "notes": "; ".join(t.notes)}
+            {
+                **plain(t, ACCURACY_TEST_KEYS),
+                "models": " vs ".join(t.models),
+                "notes": "; ".join(t.notes),
+            }
             for t in a.tests
         )
         files[f"tables/weights-{as_of}.csv"] = _csv(_rows(a.combination.weights))

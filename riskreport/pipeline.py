@@ -282,6 +282,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         models=status,
         accuracy=record.accuracy,
         tests=record.tests,
+        own_names=record.names,
         calibration=calibration.summarise(runs, replayed.graded, cfg.brief.frequency),
         uncertainty=records.uncertainty(cfg, margins),
         history=records.observations(act, cfg),

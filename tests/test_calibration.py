@@ -112,7 +112,7 @@ def test_us_cpi_replay_matches_an_independent_recomputation(tmp_path: Path) -> N
     assert brier.brier == pytest.approx(expected, abs=1e-10)
     counts = next(g for g in cal.pit if g.h_from == 0).counts
     assert list(counts) == np.histogram(pits_arr, bins=10, range=(0, 1))[0].tolist()
-    knuppel = next(t for t in cal.tests if t.name == "knuppel" and t.h == 0)
+    knuppel = next(t for t in cal.tests if t.name == "knuppel" and t.horizon == 0)
     u = np.sqrt(12) * (pits_arr - 0.5)
     d = np.column_stack([u, u**2 - 1])
     omega = np.cov(d.T, bias=True)

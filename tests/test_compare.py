@@ -111,3 +111,23 @@ def test_rounds_of_two_frequencies_are_refused(
     assert result.code == 2
     assert len(result.stderr.strip().splitlines()) == 1
     assert "one frequency" in result.stderr
+
+
+def test_rounds_given_newest_first_are_put_in_date_order(
+    rounds: Path, run: Callable[..., Result]
+) -> None:
+    # `compare NEW OLD` gave the change backwards without a word; the order now comes from
+    # the rounds' as_of, and the output says the files were swapped.
+    old, new = rounds / "assessment-2024-09.json", rounds / "assessment-2024-12.json"
+    right = json.loads(run("compare", old, new, "--json").stdout)
+    wrong = run("compare", new, old, "--json")
+    assert wrong.code == 0, wrong.stderr
+    swapped = json.loads(wrong.stdout)
+    assert right["swapped"] is False
+    assert swapped["swapped"] is True
+    assert (swapped["old_as_of"], swapped["new_as_of"]) == ("2024-09", "2024-12")
+    assert swapped["horizons"] == right["horizons"]
+    text = run("compare", new, old).stdout
+    assert "2024-09 -> 2024-12" in text
+    assert "given newest first" in text
+    assert "given newest first" not in run("compare", old, new).stdout

@@ -22,5 +22,5 @@ def test_mariano_preve_skipped_when_models_outnumber_frequencies() -> None:
     with pytest.warns(SmallSampleWarning, match="Mariano-Preve"):
         rows_out = track_record._tests(errors, [models] * (horizons + 1), horizons)
     joint = [r for r in rows_out if r.name == "mariano-preve"]
-    assert [r.h for r in joint] == [0]  # one step ahead: Hotelling F needs no frequencies
+    assert [r.horizon for r in joint] == [0]  # one step ahead: Hotelling F needs no frequencies
     assert any(r.name == "diebold-mariano" for r in rows_out)

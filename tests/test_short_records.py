@@ -30,9 +30,9 @@ def test_short_history_skips_long_horizon_tests_with_a_note(tmp_path: Path) -> N
     config = constant_forecast_world(tmp_path, errors, horizons=20)
     a = riskreport.assess(config)
     assert any("Accuracy tests were not run" in w for w in a.warnings)
-    tested = {t.h for t in a.tests}
+    tested = {t.horizon for t in a.tests}
     assert 0 in tested
-    assert all(t.nobs >= 2 * (t.h + 1) for t in a.tests)
+    assert all(t.nobs >= 2 * (t.horizon + 1) for t in a.tests)
 
 
 def test_gap_in_the_actuals_builds(tmp_path: Path) -> None:
@@ -46,7 +46,7 @@ def test_gap_in_the_actuals_builds(tmp_path: Path) -> None:
     a = riskreport.assess(config)
     assert len(a.horizons) == 25
     assert any("Accuracy tests were not run" in w for w in a.warnings)
-    assert all(t.nobs >= 2 * (t.h + 1) for t in a.tests)
+    assert all(t.nobs >= 2 * (t.horizon + 1) for t in a.tests)
 
 
 def test_bootstrap_interval_is_not_a_point_for_a_thin_far_horizon() -> None:
@@ -113,7 +113,7 @@ def test_tests_not_run_are_not_reported_as_not_significant(tmp_path: Path) -> No
     errors = np.random.default_rng(5).normal(0, 0.5, 40)
     (tmp_path / "b").mkdir()
     a = riskreport.assess(constant_forecast_world(tmp_path / "b", errors, horizons=20))
-    tested = {t.h for t in a.tests}
+    tested = {t.horizon for t in a.tests}
     assert 0 in tested
     assert 20 not in tested
     text = " ".join(track_record.tests_text(a, (0, 20)))

@@ -3,12 +3,15 @@ traceback, nothing written (README, Inputs)."""
 
 from __future__ import annotations
 
+import json
 from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
 import pytest
 
+from riskreport.errors import NameClashWarning
+from riskreport.forecasts import track_record
 from tests.conftest import Case, Result
 from tests.conftest import build_fails as _fails
 
@@ -21,17 +24,38 @@ def test_good_case_builds(run: Callable[..., Result], case: Case) -> None:
 
 
 @pytest.mark.parametrize("name", ["no-change", "Autoregression", "combination"])
-def test_a_model_may_not_take_a_benchmarks_name(
+def test_a_model_may_take_a_benchmarks_name(
     run: Callable[..., Result], case: Case, name: str
 ) -> None:
-    # A model called like one of the track record's own forecasters was silently replaced
-    # by the tool's own in the accuracy table and the tests (a dict merge).
-    first = next(i for i, row in enumerate(case.forecasts) if i and row[2] == "b")
+    # Staff commonly call their own random-walk forecaster "no-change": such a model was
+    # refused (earlier still, silently replaced by the tool's own in every table). Now the
+    # model keeps its name and the tool's own forecaster is renamed, with a warning.
     case.forecasts = [
         [*row[:2], name if i and row[2] == "b" else row[2], row[3]]
         for i, row in enumerate(case.forecasts)
     ]
-    _fails(run, case, "forecasts.csv", f"row {first + 1}", "column 'model'", repr(name))
+    result = run("build", case.write(), "--out", case.folder / "out", "-q")
+    assert result.code == 0, result.stderr
+    data = json.loads((case.folder / "out" / "assessment-2024-12.json").read_text("utf-8"))
+    forecasters = {row["model"] for row in data["accuracy"]}
+    own = f"{name.casefold()} (riskreport)"
+    assert {name, own} <= forecasters
+    assert any(name in t["models"] for t in data["tests"])
+    if own != "autoregression (riskreport)":  # the autoregression is scored, never tested
+        assert any(own in t["models"] for t in data["tests"])
+    assert any(repr(own) in w for w in data["warnings"])
+
+
+def test_the_tools_own_names_step_aside_for_every_model() -> None:
+    # Each of the tool's names is taken, and so is the first replacement of one of them.
+    models = ["Combination", "no-change", "no-change (riskreport)", "autoregression"]
+    with pytest.warns(NameClashWarning):
+        names = track_record.own_names(models)
+    assert names == track_record.OwnNames(
+        "combination (riskreport)", "no-change (riskreport 2)", "autoregression (riskreport)"
+    )
+    chosen = [names.combination, names.no_change, names.autoregression]
+    assert not {n.casefold() for n in chosen} & {m.casefold() for m in models}
 
 
 def test_missing_column(run: Callable[..., Result], case: Case) -> None:

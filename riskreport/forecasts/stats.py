@@ -7,7 +7,7 @@ carries its null and alternative hypotheses with the number.
 from __future__ import annotations
 
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Literal
 
 import numpy as np
@@ -40,6 +40,15 @@ class TestResult:
         Degrees of freedom of the reference distribution.
     notes
         Choices made on the way, e.g. a variance fallback.
+    name, models
+        Which test, of which forecasters, where the assessment records it (e.g.
+        ``"diebold-mariano"`` of ``("bvar", "combination")``); empty from the functions
+        here until :meth:`labelled`.
+
+    The assessment holds these results in two places (the track record's tests and the
+    calibration tests), each written to the JSON with the keys the contract fixes there
+    (``riskreport.assessment.ACCURACY_TEST_KEYS``,
+    ``riskreport.replay.calibration.CALIBRATION_TEST_KEYS``).
     """
 
     __test__ = False  # not a pytest test class
@@ -53,6 +62,18 @@ class TestResult:
     h: int
     df: tuple[float, ...] = ()
     notes: tuple[str, ...] = field(default_factory=tuple)
+    name: str = ""
+    models: tuple[str, ...] = ()
+
+    @property
+    def horizon(self) -> int:
+        """The pipeline's horizon index of the forecasts tested: ``h - 1`` (a forecast of
+        horizon 0, made from data up to the month before, is one step ahead)."""
+        return self.h - 1
+
+    def labelled(self, name: str, models: tuple[str, ...] = ()) -> TestResult:
+        """The same result named as the assessment records it."""
+        return replace(self, name=name, models=models, df=tuple(self.df), notes=tuple(self.notes))
 
 
 def _loss(errors: np.ndarray, loss: Loss) -> np.ndarray:

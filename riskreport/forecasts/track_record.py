@@ -9,18 +9,18 @@ the tests use h lags (``stats`` functions take ``panel.steps_ahead(h)`` = h + 1 
 
 from __future__ import annotations
 
+import dataclasses
+import itertools
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport.assessment import json_key
-from riskreport.errors import SmallSampleWarning
+from riskreport.errors import NameClashWarning, SmallSampleWarning
 from riskreport.forecasts import benchmarks
 from riskreport.forecasts.combination import Combination
 from riskreport.reading import periods
-from riskreport.reading.inputs import BENCHMARK_NAMES
 from riskreport.reading.panel import Panel, steps_ahead, window_mask
 
 if TYPE_CHECKING:  # the tests (scipy.stats) load only when run: `check` needs none of them
@@ -42,31 +42,61 @@ class AccuracyRow:
 
 
 @dataclass(frozen=True)
-class TestRow:
-    """One comparative test at one horizon."""
+class OwnNames:
+    """The names of the track record's own forecasters, scored beside the models.
 
-    __test__ = False  # not a pytest test class
+    A model of the forecasts file may have any name: where one takes a name used here
+    (ignoring case), :func:`own_names` renames the tool's own forecaster and says so.
+    """
 
-    name: str
-    models: tuple[str, ...]
-    h: int
-    statistic: float
-    pvalue: float
-    nobs: int
-    null: str
-    method: str
-    notes: tuple[str, ...]
-    # Kept on the object, not written to the JSON (its keys are fixed):
-    alternative: str = field(default="", metadata=json_key(skip=True))
-    df: tuple[float, ...] = field(default=(), metadata=json_key(skip=True))
+    combination: str = "combination"
+    no_change: str = "no-change"
+    autoregression: str = "autoregression"
+
+
+def own_names(models: tuple[str, ...] | list[str]) -> OwnNames:
+    """The names of the tool's own forecasters, none equal (ignoring case) to a model's.
+
+    A clash renames the tool's forecaster (``"no-change (riskreport)"``, then with a number)
+    with a :class:`~riskreport.errors.NameClashWarning`; the model keeps its name.
+
+    Examples
+    --------
+    >>> import warnings
+    >>> with warnings.catch_warnings():
+    ...     warnings.simplefilter("ignore")
+    ...     own_names(["bvar", "No-Change"]).no_change
+    'no-change (riskreport)'
+    >>> own_names(["bvar"]) == OwnNames()
+    True
+    """
+    taken = {m.casefold() for m in models}
+    names: dict[str, str] = {}
+    for role, usual in dataclasses.asdict(OwnNames()).items():
+        candidates = (
+            usual if i == 0 else f"{usual} (riskreport{f' {i}' if i > 1 else ''})"
+            for i in itertools.count()
+        )
+        name = next(c for c in candidates if c.casefold() not in taken)
+        if name != usual:
+            warnings.warn(
+                f"A model of the forecasts is named {usual!r}, like the track record's own "
+                f"forecaster; the tool's own is reported as {name!r}.",
+                NameClashWarning,
+                stacklevel=2,
+            )
+        taken.add(name.casefold())
+        names[role] = name
+    return OwnNames(**names)
 
 
 @dataclass(frozen=True)
 class TrackRecord:
-    """Accuracy rows and tests."""
+    """Accuracy rows and tests, and the names the tool's own forecasters have in them."""
 
     accuracy: tuple[AccuracyRow, ...]
-    tests: tuple[TestRow, ...]
+    tests: tuple[stats.TestResult, ...]  # labelled with their name and models
+    names: OwnNames = OwnNames()
 
 
 def error_matrix(forecast: np.ndarray, outcomes: np.ndarray) -> np.ndarray:
@@ -74,20 +104,16 @@ def error_matrix(forecast: np.ndarray, outcomes: np.ndarray) -> np.ndarray:
     return outcomes - forecast
 
 
-def forecasters(panel: Panel, combination: Combination) -> dict[str, np.ndarray]:
-    """Every forecaster scored: the models, the combination and the two benchmarks (whose
-    names no model may take: ``inputs.BENCHMARK_NAMES``, refused when the forecasts are read)."""
-    own = dict(
-        zip(
-            BENCHMARK_NAMES,
-            (
-                combination.combined,
-                benchmarks.no_change(panel),
-                benchmarks.autoregression(panel),
-            ),
-            strict=True,
-        )
-    )
+def forecasters(
+    panel: Panel, combination: Combination, names: OwnNames = OwnNames()
+) -> dict[str, np.ndarray]:
+    """Every forecaster scored: the models, the combination and the two benchmarks, under
+    ``names`` (from :func:`own_names`, so no model is replaced by the tool's own)."""
+    own = {
+        names.combination: combination.combined,
+        names.no_change: benchmarks.no_change(panel),
+        names.autoregression: benchmarks.autoregression(panel),
+    }
     assert not own.keys() & set(panel.models), "a model has a benchmark's name"
     return {**dict(zip(panel.models, panel.forecasts, strict=True)), **own}
 
@@ -112,22 +138,6 @@ def _accuracy(errors: dict[str, np.ndarray], horizons: int) -> list[AccuracyRow]
     return rows
 
 
-def _row(name: str, models: tuple[str, ...], h: int, result: stats.TestResult) -> TestRow:
-    return TestRow(
-        name=name,
-        models=models,
-        h=h,
-        statistic=result.statistic,
-        pvalue=result.pvalue,
-        nobs=result.nobs,
-        null=result.null,
-        method=result.method,
-        notes=result.notes,
-        alternative=result.alternative,
-        df=tuple(result.df),
-    )
-
-
 def _common(*columns: np.ndarray) -> np.ndarray:
     return np.all(np.isfinite(np.column_stack(columns)), axis=1)
 
@@ -145,30 +155,36 @@ def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int
     return True
 
 
-def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: int) -> list[TestRow]:
+def _tests(
+    errors: dict[str, np.ndarray],
+    current: list[list[str]],
+    horizons: int,
+    names: OwnNames = OwnNames(),
+) -> list[stats.TestResult]:
     from riskreport.forecasts import stats
 
-    rows: list[TestRow] = []
+    combined, no_change = names.combination, names.no_change
+    rows: list[stats.TestResult] = []
     skipped: set[int] = set()
     crowded: set[int] = set()
     for h in range(horizons + 1):
         steps = steps_ahead(h)
-        comb, naive = errors["combination"][:, h], errors["no-change"][:, h]
+        comb, naive = errors[combined][:, h], errors[no_change][:, h]
         for model in current[h]:
             e = errors[model][:, h]
-            for other, e_other in (("combination", comb), ("no-change", naive)):
+            for other, e_other in ((combined, comb), (no_change, naive)):
                 keep = _common(e, e_other)
                 if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
                     result = stats.diebold_mariano(e[keep], e_other[keep], h=steps)
-                    rows.append(_row("diebold-mariano", (model, other), h, result))
+                    rows.append(result.labelled("diebold-mariano", (model, other)))
             keep = _common(comb, e)
             if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
                 result = stats.encompassing(comb[keep], e[keep], h=steps)
-                rows.append(_row("encompassing", ("combination", model), h, result))
+                rows.append(result.labelled("encompassing", (combined, model)))
         keep = _common(comb, naive)
         if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
             result = stats.diebold_mariano(comb[keep], naive[keep], h=steps)
-            rows.append(_row("diebold-mariano", ("combination", "no-change"), h, result))
+            rows.append(result.labelled("diebold-mariano", (combined, no_change)))
         if len(current[h]) >= 2:
             matrix = np.column_stack([errors[m][:, h] for m in current[h]])
             keep = _common(matrix)
@@ -183,7 +199,7 @@ def _tests(errors: dict[str, np.ndarray], current: list[list[str]], horizons: in
                     crowded.add(h)
                 else:
                     result = stats.mariano_preve(matrix[keep], h=steps)
-                    rows.append(_row("mariano-preve", tuple(current[h]), h, result))
+                    rows.append(result.labelled("mariano-preve", tuple(current[h])))
     if crowded:
         warnings.warn(
             "The test of equal accuracy of all current models together (Mariano-Preve) was "
@@ -212,12 +228,15 @@ def evaluate(panel: Panel, combination: Combination, window: int, horizons: int)
     """
     combined_errors = error_matrix(combination.combined, panel.outcomes)
     mask = window_mask(combined_errors, window)
+    names = own_names(panel.models)
     errors = {
         name: np.where(mask, error_matrix(f, panel.outcomes), np.nan)
-        for name, f in forecasters(panel, combination).items()
+        for name, f in forecasters(panel, combination, names).items()
     }
     current = [
         [m for k, m in enumerate(panel.models) if combination.included[k, h]]
         for h in range(horizons + 1)
     ]
-    return TrackRecord(tuple(_accuracy(errors, horizons)), tuple(_tests(errors, current, horizons)))
+    return TrackRecord(
+        tuple(_accuracy(errors, horizons)), tuple(_tests(errors, current, horizons, names)), names
+    )

@@ -33,11 +33,6 @@ FIRST_YEAR, LAST_YEAR = 1800, 2200
 MAX_HORIZON = 12 * (LAST_YEAR - FIRST_YEAR)
 
 
-# Names the track record gives its own forecasters (track_record.forecasters); no model
-# in the forecasts may use one.
-BENCHMARK_NAMES = ("combination", "no-change", "autoregression")
-
-
 @dataclass(frozen=True)
 class Forecasts:
     """Forecast rows: model index, origin and period ordinals, values (one row each)."""
@@ -373,17 +368,6 @@ def read_forecasts(
         names = frame["model"].str.strip()
         if (bad := _first(names == "")) is not None:
             raise _error(frame, path, "expected a model name, got an empty cell", bad, "model")
-        if (bad := _first(names.str.casefold().isin(BENCHMARK_NAMES))) is not None:
-            # The track record scores these forecasters of its own beside the models; a model
-            # of the same name was silently replaced by the tool's own in every table.
-            raise _error(
-                frame,
-                path,
-                f"the model name {names.iloc[bad]!r} is taken by the track record's own "
-                f"forecasters ({', '.join(BENCHMARK_NAMES)}); expected another name",
-                bad,
-                "model",
-            )
     else:
         names = pd.Series("combined", index=frame.index)
     origin = _periods(frame, "origin", frequency, path)

@@ -15,7 +15,6 @@ from pathlib import Path
 
 import numpy as np
 
-from riskreport.assessment import ModelStatus
 from riskreport.errors import (
     InputError,
     LaterOutcomeWarning,
@@ -89,6 +88,16 @@ def warn_later_outcomes(act: Actuals, cfg: Config) -> None:
         LaterOutcomeWarning,
         stacklevel=3,
     )
+
+
+@dataclass(frozen=True)
+class ModelStatus:
+    """A model of the forecasts file: its history and whether it is in the current round."""
+
+    model: str
+    first_origin: str
+    last_origin: str
+    in_current_round: bool
 
 
 def model_status(fc: Forecasts, cfg: Config) -> tuple[ModelStatus, ...]:

@@ -20,7 +20,6 @@ import numpy as np
 from scipy import stats as st
 
 from riskreport._typing import Family, Frequency
-from riskreport.assessment import json_key
 from riskreport.errors import SmallSampleWarning
 from riskreport.forecasts import stats
 from riskreport.laws.distributions import FAMILIES, fit_batch
@@ -28,6 +27,7 @@ from riskreport.reading import periods
 from riskreport.reading.config import Band
 from riskreport.reading.panel import Panel, steps_ahead
 from riskreport.replay import scores
+from riskreport.serialise import Layout, json_key
 
 MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common practice, no source)
 NOMINAL = (0.5, 0.9)
@@ -111,23 +111,18 @@ class RpsRecord:
     convention: str
 
 
-@dataclass(frozen=True)
-class CalibrationTest:
-    """A calibration test of the PITs at one horizon, with what :class:`stats.TestResult`
-    carries (``alternative`` is kept on the object, not written to the JSON)."""
-
-    __test__ = False  # not a pytest test class
-
-    name: str
-    h: int
-    statistic: float
-    pvalue: float
-    nobs: int
-    null: str
-    method: str
-    df: tuple[float, ...]
-    notes: tuple[str, ...]
-    alternative: str = field(default="", metadata=json_key(skip=True))
+CALIBRATION_TEST_KEYS: Layout = (
+    "name",
+    ("h", "horizon"),
+    "statistic",
+    "pvalue",
+    "nobs",
+    "null",
+    "method",
+    "df",
+    "notes",
+)
+"""The JSON keys of a calibration test (``calibration.tests``), in order."""
 
 
 @dataclass(frozen=True)
@@ -150,7 +145,7 @@ class CalibrationRecord:
     pit: tuple[PitGroup, ...]
     brier: BrierRecord
     rps: RpsRecord
-    tests: tuple[CalibrationTest, ...]
+    tests: tuple[stats.TestResult, ...] = field(metadata=json_key(layout=CALIBRATION_TEST_KEYS))
     scores: tuple[FamilyScore, ...]
 
 
@@ -397,21 +392,6 @@ def _reliability(runs: list[HorizonReplay], bins: int = 10) -> list[ReliabilityB
     return table
 
 
-def _test_entry(name: str, h: int, result: stats.TestResult) -> CalibrationTest:
-    return CalibrationTest(
-        name=name,
-        h=h,
-        statistic=result.statistic,
-        pvalue=result.pvalue,
-        nobs=result.nobs,
-        null=result.null,
-        method=result.method,
-        df=tuple(result.df),
-        notes=tuple(result.notes),
-        alternative=result.alternative,
-    )
-
-
 def summarise(
     runs: dict[tuple[str, int], HorizonReplay], family: str, frequency: Frequency
 ) -> CalibrationRecord:
@@ -429,7 +409,7 @@ def summarise(
     )
     brier_rows: list[BrierRow] = []
     rps_rows: list[RpsRow] = []
-    tests: list[CalibrationTest] = []
+    tests: list[stats.TestResult] = []
     short: list[int] = []
     for r in mine:
         d = scores.brier(r.probabilities[:, 1], (r.category == 1).astype(float))
@@ -457,10 +437,10 @@ def summarise(
         )
         if r.pit.size >= MIN_TEST_ROUNDS:
             if r.h == 0:
-                tests.append(_test_entry("berkowitz", r.h, stats.berkowitz(r.pit)))
+                tests.append(stats.berkowitz(r.pit).labelled("berkowitz"))
             if stats.too_short(r.pit.size, steps_ahead(r.h)) is None:
                 result = stats.knuppel(r.pit, h=steps_ahead(r.h), moments=2)
-                tests.append(_test_entry("knuppel", r.h, result))
+                tests.append(result.labelled("knuppel"))
             else:
                 short.append(r.h)
     if short:

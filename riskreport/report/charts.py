@@ -289,7 +289,9 @@ def band_probabilities_figure(
             color=BAND_EDGE,
         )
         ax.set_ylim(0, 100)
-        ax.set_xlim(x[0], x[-1])  # the axis ends at the last horizon; labels sit beyond it
+        # The axis ends at the last horizon (labels sit beyond it); a nowcast-only brief
+        # (horizons = 0) gets half a period either side, not a singular axis.
+        ax.set_xlim(*((x[0], x[-1]) if len(x) > 1 else (x[0] - 0.5, x[0] + 0.5)))
         ax.set_ylabel("probability, %")
         _ahead_ticks(ax, assessment)
         ax.grid(axis="y", color=GRID, lw=0.4)

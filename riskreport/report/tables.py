@@ -43,9 +43,9 @@ def track_record_text(a: Assessment) -> list[str]:
     lines += _table(["forecaster", *(f"h={h}" for h in shown)], rows)
     lines += ["", "Diebold-Mariano (HLN) p-values against the combination (two-sided)", ""]
     pvalues = {
-        (t.models[0], t.h): t.pvalue
+        (t.models[0], t.horizon): t.pvalue
         for t in a.tests
-        if t.name == "diebold-mariano" and t.models[1] == "combination"
+        if t.name == "diebold-mariano" and t.models[1] == a.own_names.combination
     }
     rows = [
         [m, *(_pvalue(pvalues[(m, h)]) if (m, h) in pvalues else "-" for h in shown)]

@@ -24,15 +24,12 @@ import logging
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import Any, Protocol
 
 import numpy as np
 from scipy import stats
 
 from riskreport.errors import InputError
-
-if TYPE_CHECKING:
-    from riskreport.assessment import HorizonResult
 
 log = logging.getLogger("riskreport")
 
@@ -259,7 +256,21 @@ def _check_row(path: Path, i: int, row: object) -> None:
         raise bad("percentiles", "finite quantiles, non-decreasing, at levels inside (0, 1)")
 
 
-def side_of(r: HorizonResult) -> Side:
+class Reported(Protocol):
+    """What :func:`side_of` reads of a reported period (an assessment's ``HorizonResult``,
+    which lives a floor above and is not imported here)."""
+
+    @property
+    def centre(self) -> float: ...
+    @property
+    def band(self) -> tuple[float, float]: ...
+    @property
+    def percentiles(self) -> tuple[float, ...]: ...
+    @property
+    def p_inside(self) -> float: ...
+
+
+def side_of(r: Reported) -> Side:
     """This brief's view of one reported period, from its typed result (the same numbers as
     :func:`side` of its JSON row, before the JSON's rounding)."""
     levels = np.array(PERCENTILES, dtype=float) / 100

@@ -11,6 +11,7 @@ from pathlib import Path
 from typing import Any
 
 from riskreport.errors import InputError
+from riskreport.reading import periods
 from riskreport.report import formatting as fmt
 from riskreport.rounds import change
 
@@ -24,6 +25,7 @@ class Comparison:
     old_as_of: str
     new_as_of: str
     rows: tuple[change.ChangeHorizon, ...]  # the brief's own change rows
+    swapped: bool = False  # the files were given newest first and compared in date order
 
 
 def _read(path: Path) -> dict[str, Any]:
@@ -53,12 +55,14 @@ def compare_files(old: Path, new: Path) -> Comparison:
     Parameters
     ----------
     old, new
-        ``assessment-<as_of>.json`` files of two rounds (any order of as_of is accepted).
+        ``assessment-<as_of>.json`` files of two rounds. Their order is taken from their
+        ``as_of`` dates: files given newest first are compared oldest first, and the result
+        says so (``swapped``).
 
     Returns
     -------
     Comparison
-        One row per target period present in both.
+        One row per target period present in both, from the earlier round to the later.
 
     Raises
     ------
@@ -74,6 +78,9 @@ def compare_files(old: Path, new: Path) -> Comparison:
             f"({old.name}) and {now.get('frequency')}",
             file=new,
         )
+    swapped = _ordinal(now, new) < _ordinal(before, old)
+    if swapped:
+        (before, old), (now, new) = (now, new), (before, old)
     try:
         record = change.compare(
             before, [(row["period"], change.side(row)) for row in now["horizons"]]
@@ -84,7 +91,20 @@ def compare_files(old: Path, new: Path) -> Comparison:
         old_as_of=str(before["as_of"]),
         new_as_of=str(now["as_of"]),
         rows=record.horizons,
+        swapped=swapped,
     )
+
+
+def _ordinal(data: dict[str, Any], path: Path) -> int:
+    """The round's as_of as a period ordinal, to put two rounds in date order."""
+    parsed = periods.parse(str(data["as_of"]))
+    if parsed is None:
+        raise InputError(
+            f"expected a period like 2026-11 or 2026-Q4, got {data['as_of']!r}",
+            file=path,
+            column="as_of",
+        )
+    return parsed.ordinal
 
 
 def text(c: Comparison) -> list[str]:
@@ -96,6 +116,10 @@ def text(c: Comparison) -> list[str]:
         "(centre + spread + band = change; parts in percentage points)",
         "",
     ]
+    if c.swapped:
+        lines[2:2] = [
+            f"(the files were given newest first; compared in date order, {c.old_as_of} first)"
+        ]
     if not c.rows:
         return [*lines, "No target period is in both rounds."]
     rows = [

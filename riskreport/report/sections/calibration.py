@@ -96,7 +96,7 @@ def calibration(
         "is not replayed."
     ]
     lines.extend(_coverage_lines(a, shown))
-    tests = {(t.name, t.h): t for t in c.tests}
+    tests = {(t.name, t.horizon): t for t in c.tests}
     berk = tests.get(("berkowitz", 0))
     if berk and not math.isfinite(berk.pvalue):
         lines.append(

@@ -262,7 +262,8 @@ def _against_baseline(a: Assessment) -> str:
 def track_text(a: Assessment) -> str:
     """Page 1's track record: the size of past misses and how past statements held."""
     row = next(
-        (x for x in a.accuracy if x.model == "combination" and x.h == a.policy_horizon), None
+        (x for x in a.accuracy if x.model == a.own_names.combination and x.h == a.policy_horizon),
+        None,
     )
     if row is None:
         return "There is no track record of the combined forecast at the policy horizon."

@@ -23,7 +23,7 @@ from riskreport.report.sections.common import (
 )
 
 if TYPE_CHECKING:
-    from riskreport.forecasts.track_record import TestRow
+    from riskreport.forecasts.stats import TestResult
 
 
 @dataclass(frozen=True)
@@ -35,11 +35,14 @@ class AccuracyLine:
     is_combination: bool
 
 
-BENCHMARKS_TEXT = (
-    "Beside the models: combination, the combined forecast; no-change, the last known "
-    f"outcome carried forward; autoregression, an AR({AR_LAGS}) of the outcomes alone, "
-    "refitted at each past round."
-)
+def benchmarks_text(a: Assessment) -> str:
+    """The tool's own forecasters, under the names the tables give them."""
+    own = a.own_names
+    return (
+        f"Beside the models: {own.combination}, the combined forecast; {own.no_change}, the "
+        f"last known outcome carried forward; {own.autoregression}, an AR({AR_LAGS}) of the "
+        "outcomes alone, refitted at each past round."
+    )
 
 
 def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], str]:
@@ -52,7 +55,7 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
             fmt.number(by_key[(name, h)].rmse, 2) if (name, h) in by_key else "\u2013"
             for h in shown
         )
-        lines.append(AccuracyLine(name, cells, name == "combination"))
+        lines.append(AccuracyLine(name, cells, name == a.own_names.combination))
     current = {m.model for m in a.models if m.in_current_round}
     left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
     best: dict[str, list[int]] = {}
@@ -68,7 +71,7 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
         "Root mean square error in percentage points (pp) over the error window; each forecaster is scored on the "
         "rounds in that window where it gave a forecast. Lowest among the models in the "
         f"current round: {leaders}. "
-        f"{BENCHMARKS_TEXT} Significance is discussed below."
+        f"{benchmarks_text(a)} Significance is discussed below."
     )
     if left_out:
         text += (
@@ -84,7 +87,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     Only tests that were run and have a p-value speak: a test skipped (too few past
     rounds) or undefined (no variation) supports no "not significant" statement.
     """
-    ran = [t for t in a.tests if t.h in shown and math.isfinite(t.pvalue)]
+    ran = [t for t in a.tests if t.horizon in shown and math.isfinite(t.pvalue)]
     if not ran:
         return (
             "No accuracy test could be computed at these horizons (too few past rounds, or "
@@ -92,23 +95,23 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             *undefined_text(a),
         )
     # Statements about "these horizons" only when every shown horizon's tests ran.
-    whole = {t.h for t in ran} == set(shown) and all(
-        math.isfinite(t.pvalue) for t in a.tests if t.h in shown
+    whole = {t.horizon for t in ran} == set(shown) and all(
+        math.isfinite(t.pvalue) for t in a.tests if t.horizon in shown
     )
     dm = [t for t in ran if t.name == "diebold-mariano"]
     better: dict[str, list[int]] = {}
     worse: dict[str, list[int]] = {}
     for t in dm:
-        if t.models[1] != "combination" or not t.pvalue < SIGNIFICANCE:
+        if t.models[1] != a.own_names.combination or not t.pvalue < SIGNIFICANCE:
             continue
         # statistic > 0: the first forecaster has the larger loss.
-        (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.h)
+        (worse if t.statistic > 0 else better).setdefault(t.models[0], []).append(t.horizon)
     level = f"{int(100 * SIGNIFICANCE)}%"
     lines = []
-    if not any(t.models[1] == "combination" for t in dm):
+    if not any(t.models[1] == a.own_names.combination for t in dm):
         pass  # no model was tested against the combination
     elif not better and not worse:
-        tested = "" if whole else f" ({join_h(a, sorted({t.h for t in dm}))} tested)"
+        tested = "" if whole else f" ({join_h(a, sorted({t.horizon for t in dm}))} tested)"
         lines.append(
             f"No model's accuracy differs significantly from the combination's at the {level} "
             f"level{tested} (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
@@ -123,12 +126,13 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         parts = [f"{m} ({join_h(a, hs)})" for m, hs in better.items()]
         if parts:
             lines.append(f"Significantly more accurate than the combination: {'; '.join(parts)}.")
-    naive = [t for t in dm if t.models == ("combination", "no-change")]
-    beats = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
-    loses = [t.h for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
+    own = a.own_names
+    naive = [t for t in dm if t.models == (own.combination, own.no_change)]
+    beats = [t.horizon for t in naive if t.pvalue < SIGNIFICANCE and t.statistic < 0]
+    loses = [t.horizon for t in naive if t.pvalue < SIGNIFICANCE and t.statistic > 0]
 
-    def none_at(tests: list[TestRow]) -> str:
-        return "these horizons" if whole else join_h(a, sorted({t.h for t in tests}))
+    def none_at(tests: list[TestResult]) -> str:
+        return "these horizons" if whole else join_h(a, sorted({t.horizon for t in tests}))
 
     text = "Against the no-change forecast, the combination is significantly better at "
     text += join_h(a, beats) if beats else f"none of {none_at(naive)}"
@@ -136,7 +140,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     if naive:
         lines.append(text)
     joint = [t for t in ran if t.name == "mariano-preve"]
-    rejected = [t.h for t in joint if t.pvalue < SIGNIFICANCE]
+    rejected = [t.horizon for t in joint if t.pvalue < SIGNIFICANCE]
     if joint:
         lines.append(
             "Taking all current models together (Mariano-Preve test), equal accuracy is "
@@ -151,7 +155,7 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     adds: dict[str, list[int]] = {}
     for t in encompassing:
         if t.pvalue < SIGNIFICANCE:
-            adds.setdefault(t.models[1], []).append(t.h)
+            adds.setdefault(t.models[1], []).append(t.horizon)
     if adds:
         lines.append(
             "Models that would still add information to the combination (encompassing test, "
