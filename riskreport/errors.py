@@ -126,3 +126,11 @@ class HeadlineBasisWarning(RiskReportWarning):
 
 class CombinationRangeWarning(RiskReportWarning):
     """Estimated weights are negative, or the combined forecast leaves the models' range."""
+
+
+class UnusedColumnWarning(RiskReportWarning):
+    """An input table has a column it does not use; it is named and ignored."""
+
+
+class OutcomeGapWarning(RiskReportWarning):
+    """The outcome series has no value for some periods between its first and last."""
