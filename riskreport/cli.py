@@ -298,6 +298,8 @@ def _build(
         steps.close()
     for p in written.paths:
         log.debug("wrote %s", p)
+    for warning in assessment.warnings:
+        log.warning("warning: %s", warning)
     pdf = [p for p in written.paths if p.suffix == ".pdf"]
     from riskreport.report.tables import shown
 
@@ -336,6 +338,8 @@ def _rerun(out_dir: Path, record: dict[str, Any], again: dict[str, Any]) -> dict
         {**record, "inputs": again["inputs"], "outputs": outputs, "exit_status": EXIT_OK},
     )
     log.info("inputs, config and software unchanged: %s is up to date", out_dir)
+    for warning in again["warnings"]:
+        log.warning("warning: %s", warning)
     return {
         "status": "ok",
         "as_of": record["as_of"],

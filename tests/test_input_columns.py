@@ -121,6 +121,18 @@ def test_an_unused_column_is_named_in_a_warning(
     assert any("'source'" in w and "forecasts.csv" in w for w in warnings)
 
 
+def test_a_column_with_values_but_no_heading_is_named(
+    run: Callable[..., Result], case: Case
+) -> None:
+    case.actuals = _add_column(case.actuals, "", "x")
+    # A trailing comma on every line (an empty column) is not worth a warning.
+    case.forecasts = _add_column(case.forecasts, "", "")
+    checked = run("check", case.write())
+    assert checked.code == 0, checked.stderr
+    assert "warning: actuals.csv: column 3 (no heading) is not used" in checked.stdout
+    assert "forecasts.csv: column" not in checked.stdout
+
+
 def test_a_combined_forecast_without_model_column_still_reads(
     run: Callable[..., Result], case: Case
 ) -> None:
@@ -143,9 +155,10 @@ def test_a_gap_in_the_outcomes_is_named_in_check_build_and_json(
     assert checked.code == 0, checked.stderr
     line = next(x for x in checked.stdout.splitlines() if "no outcome for" in x)
     assert "2020-06, 2021-02 to 2021-04: 4 months missing between 2017-12 and 2024-11" in line
-    built = run("build", config, "--out", tmp_path / "out", "--json", "-q")
+    built = run("build", config, "--out", tmp_path / "out", "--json")
     assert built.code == 0, built.stderr
     assert any("2021-02 to 2021-04" in w for w in json.loads(built.stdout)["warnings"])
+    assert "riskreport: warning: The actuals (actuals.csv) have no outcome" in built.stderr
     assessment = json.loads((tmp_path / "out" / "assessment-2024-12.json").read_text("utf-8"))
     assert any("2020-06" in w for w in assessment["warnings"])
 

@@ -150,13 +150,28 @@ def check(
     return tuple(unknown)
 
 
-def warn_unused(unused: tuple[str, ...], header: Header, *, file: Path) -> None:
-    """Name the columns a table does not use (:class:`UnusedColumnWarning`)."""
-    if not unused:
+def warn_unused(
+    unused: tuple[str, ...], header: Header, *, file: Path, unnamed: tuple[int, ...] = ()
+) -> None:
+    """Name the columns a table does not use (:class:`UnusedColumnWarning`).
+
+    Parameters
+    ----------
+    unused
+        Unknown column names.
+    header
+        The table's contract (its columns are listed in the warning).
+    file
+        The file, named in the warning.
+    unnamed
+        1-based positions of columns with no heading that hold values.
+    """
+    labels = [repr(n) for n in unused] + [f"{i} (no heading)" for i in unnamed]
+    if not labels:
         return
-    one = len(unused) == 1
+    one = len(labels) == 1
     warnings.warn(
-        f"{file.name}: column{'' if one else 's'} {_quoted(list(unused))} "
+        f"{file.name}: column{'' if one else 's'} {', '.join(labels)} "
         f"{'is' if one else 'are'} not used and ignored (expected columns "
         f"{', '.join(header.columns)}); rename {'it' if one else 'them'} if "
         f"{'it was' if one else 'they were'} meant as one of these.",

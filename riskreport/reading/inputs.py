@@ -130,7 +130,12 @@ def read_table(path: Path, header: columns.Header) -> pd.DataFrame:
     unused = columns.check(names, header, file=path, row=header_row + 1, sheet=sheet)
     if frame.empty:
         raise InputError("no data rows below the header", file=path, sheet=sheet)
-    columns.warn_unused(unused, header, file=path)
+    unnamed = tuple(
+        i + 1
+        for i, name in enumerate(names)
+        if not name and (frame.iloc[:, i].str.strip() != "").any()
+    )
+    columns.warn_unused(unused, header, file=path, unnamed=unnamed)
     result = frame[[c for c in wanted if c in names]].copy()
     if sheet is not None:
         _refuse_unsaved_formulas(path, sheet, result, header_row + 1)
