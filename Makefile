@@ -15,12 +15,14 @@ $(VENV)/.installed: pyproject.toml | $(BIN)/activate
 	$(BIN)/python -m pip install --quiet -e '.[dev]'
 	$(BIN)/python -m riskreport._system
 	@touch $@
+	@echo "riskreport is installed as $(BIN)/riskreport (or: source $(BIN)/activate, then riskreport); first brief on your own data: docs/quickstart.md"
 
 install: $(VENV)/.installed
 
 # The main job on the bundled, invented demo scenario. --force: the demo folder is the tool's own.
 demo: install
 	$(BIN)/riskreport demo --out $(DEMO_OUT) --force
+	@echo "Run the command line as $(BIN)/riskreport; your own data: docs/quickstart.md"
 
 lint: install
 	$(BIN)/ruff check riskreport tests bench example_inputs report_templates

@@ -102,6 +102,9 @@ def _parser() -> argparse.ArgumentParser:
     backtest.add_argument("--out", type=Path, help="output folder (default: [output] directory)")
     backtest.add_argument("--as-of", dest="as_of", help="override [brief] as_of")
     backtest.add_argument("--force", action="store_true", help="replace existing tables")
+    backtest.add_argument(
+        "--horizons", help="horizons to print, e.g. 0,6,12 or 0-8 (default: every one)"
+    )
 
     batch = sub.add_parser(
         "batch", parents=[common], help="many briefs: several configs, or one re-run over months"
@@ -295,8 +298,12 @@ def _build(
         steps.close()
     for p in written.paths:
         log.debug("wrote %s", p)
+    for warning in assessment.warnings:
+        log.warning("warning: %s", warning)
     pdf = [p for p in written.paths if p.suffix == ".pdf"]
-    log.info("brief written to %s", pdf[0] if pdf else out_dir)
+    from riskreport.report.tables import shown
+
+    log.info("brief written to %s", shown(pdf[0] if pdf else out_dir))
     return {
         "status": "ok",
         "as_of": assessment.as_of,
@@ -331,6 +338,8 @@ def _rerun(out_dir: Path, record: dict[str, Any], again: dict[str, Any]) -> dict
         {**record, "inputs": again["inputs"], "outputs": outputs, "exit_status": EXIT_OK},
     )
     log.info("inputs, config and software unchanged: %s is up to date", out_dir)
+    for warning in again["warnings"]:
+        log.warning("warning: %s", warning)
     return {
         "status": "ok",
         "as_of": record["as_of"],
@@ -377,7 +386,9 @@ def _check(config: Path, as_of: str | None) -> dict[str, Any]:
     }
 
 
-def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) -> dict[str, Any]:
+def _backtest(
+    config: Path, out: Path | None, as_of: str | None, force: bool, horizons: str | None = None
+) -> dict[str, Any]:
     from riskreport import folder, outputs, pipeline
     from riskreport.reading import config as config_module
     from riskreport.reading import periods
@@ -396,6 +407,7 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
         out_dir = out_dir or cfg.output.directory.resolve()
         record["as_of"] = periods.label(cfg.brief.as_of, cfg.brief.frequency)
         record["config_sha256"] = _sha256(cfg.path)
+        shown = periods.parse_ranges(horizons, largest=cfg.brief.horizons) if horizons else None
         assessment = pipeline.assess_config(cfg)
         record["inputs"] = {i.role: i.sha256 for i in assessment.inputs}
         files = {
@@ -416,7 +428,11 @@ def _backtest(config: Path, out: Path | None, as_of: str | None, force: bool) ->
     return {
         "status": "ok",
         "as_of": assessment.as_of,
-        "summary": tables.track_record_text(assessment),
+        "summary": [
+            *tables.track_record_text(assessment, shown),
+            "",
+            *tables.written_text(written.paths, out_dir),
+        ],
         "outputs": [
             {"path": str(p), "sha256": h}
             for p, h in zip(written.paths, written.sha256, strict=True)
@@ -565,7 +581,7 @@ def _run(args: argparse.Namespace) -> dict[str, Any]:
     if args.command == "batch":
         return _batch(args)
     if args.command == "backtest":
-        return _backtest(args.config, args.out, args.as_of, args.force)
+        return _backtest(args.config, args.out, args.as_of, args.force, args.horizons)
     if args.command == "demo":
         # Two rounds, so the demo brief shows what changed since the previous one.
         _build(demo_config(), args.out, DEMO_PREVIOUS_ROUND, args.force, cache=args.cache)

@@ -130,3 +130,11 @@ class CombinationRangeWarning(RiskReportWarning):
 
 class NameClashWarning(RiskReportWarning):
     """A model has the name of one of the track record's own forecasters, which is renamed."""
+
+
+class UnusedColumnWarning(RiskReportWarning):
+    """An input table has a column it does not use; it is named and ignored."""
+
+
+class OutcomeGapWarning(RiskReportWarning):
+    """The outcome series has no value for some periods between its first and last."""

@@ -185,6 +185,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         else None
     )
     screening.warn_later_outcomes(act, cfg)
+    screening.warn_gaps(act, cfg)
     panel = panel_module.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
     status = screening.model_status(fc, cfg)
     screening.warn_left_out(status)
@@ -201,7 +202,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         )
     _warn_range(method, combo)
     point = combo.combined[-1, : cfg.brief.horizons + 1]
-    screening.require_current(cfg, point)
+    screening.require_current(cfg, point, act)
     errors = error_matrix(combo.combined, panel.outcomes)
     replayed = adjustments_module.replays(cfg, panel, combo.combined, errors, cache=cache)
     runs = replayed.runs

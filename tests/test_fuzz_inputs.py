@@ -22,6 +22,8 @@ from riskreport.errors import InputError
 from riskreport.reading import config
 from riskreport.reading.inputs import read_actuals, read_error_quantiles, read_forecasts
 
+# Random headers name columns no table uses: each read warns about them, as it should.
+pytestmark = pytest.mark.filterwarnings("ignore::riskreport.errors.UnusedColumnWarning")
 BUDGET = settings(
     max_examples=50,
     deadline=None,

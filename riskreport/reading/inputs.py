@@ -20,7 +20,7 @@ import pandas as pd
 
 from riskreport._typing import Frequency, ScoreAgainst
 from riskreport.errors import InputError
-from riskreport.reading import periods
+from riskreport.reading import columns, periods
 
 # Plausibility bounds (common practice, no source): inflation rates in percent beyond
 # +-1000 are almost always a unit or typing error (a level instead of a rate, a stray
@@ -73,13 +73,12 @@ def _cell_text(value: object) -> str:
     return str(value)
 
 
-def read_table(
-    path: Path, required: tuple[str, ...], optional: tuple[str, ...] = ()
-) -> pd.DataFrame:
+def read_table(path: Path, header: columns.Header) -> pd.DataFrame:
     """Read a CSV (UTF-8, BOM tolerated) or .xlsx file as text columns.
 
-    Column names are stripped and lower-cased; cells are kept as text so that each check can
-    quote what it found. The index holds each row's number as a spreadsheet shows it: the
+    Column names are stripped and lower-cased and checked against ``header`` before any
+    cell (:func:`riskreport.reading.columns.check`; a column the table does not use is
+    named in a warning); cells are kept as text so that each check can quote what it found. The index holds each row's number as a spreadsheet shows it: the
     header is row 1 and blank rows count (they are skipped, not renumbered). A workbook is
     read from its first sheet; the sheet's name is stored in ``frame.attrs["sheet"]`` and
     named in every message.
@@ -87,7 +86,7 @@ def read_table(
     Raises
     ------
     InputError
-        An unreadable file, a missing or repeated column, or no data rows.
+        An unreadable file, a missing, repeated or misnamed column, or no data rows.
     """
     suffix = path.suffix.lower()
     sheet: str | None = None
@@ -111,7 +110,7 @@ def read_table(
     frame = grid.iloc[header_row + 1 :][filled[header_row + 1 :]]
     frame.columns = pd.Index(names)
     frame.attrs["sheet"] = sheet
-    wanted = (*required, *optional)
+    wanted = header.columns
     for column in wanted:
         where = [i for i, name in enumerate(names) if name == column]
         if len(where) > 1:
@@ -123,17 +122,15 @@ def read_table(
                 row=header_row + 1,
                 sheet=sheet,
             )
-    for column in required:
-        if column not in names:
-            found = ", ".join(n for n in names if n) or "none"
-            raise InputError(
-                f"missing column '{column}'; expected columns {', '.join(wanted)}, found {found}",
-                file=path,
-                row=header_row + 1,
-                sheet=sheet,
-            )
+    unused = columns.check(names, header, file=path, row=header_row + 1, sheet=sheet)
     if frame.empty:
         raise InputError("no data rows below the header", file=path, sheet=sheet)
+    unnamed = tuple(
+        i + 1
+        for i, name in enumerate(names)
+        if not name and (frame.iloc[:, i].str.strip() != "").any()
+    )
+    columns.warn_unused(unused, header, file=path, unnamed=unnamed)
     result = frame[[c for c in wanted if c in names]].copy()
     if sheet is not None:
         _refuse_unsaved_formulas(path, sheet, result, header_row + 1)
@@ -362,7 +359,7 @@ def read_forecasts(
         implausible value, duplicate (model, origin, period), origin after period, mixed
         frequencies, or no current-round row.
     """
-    frame = read_table(path, ("origin", "period", "value"), ("model",))
+    frame = read_table(path, columns.FORECASTS)
     has_model = "model" in frame.columns
     if has_model:
         names = frame["model"].str.strip()
@@ -428,7 +425,7 @@ def read_actuals(
         non-finite or implausible value (``|value| > max_abs_value``), a duplicate period (or
         (period, vintage)), or a vintage before its period.
     """
-    frame = read_table(path, ("period", "value"), ("vintage",))
+    frame = read_table(path, columns.ACTUALS)
     period = _periods(frame, "period", frequency, path)
     value = _values(frame, "value", path, max_abs_value)
     if "vintage" in frame.columns:
@@ -506,7 +503,7 @@ def read_error_quantiles(path: Path, max_abs_value: float = MAX_ABS_VALUE) -> Er
         duplicate (horizon, quantile), fewer than two quantiles for a horizon, or values
         that do not increase with the quantile.
     """
-    frame = read_table(path, ("horizon", "quantile", "value"))
+    frame = read_table(path, columns.ERROR_QUANTILES)
     horizon_text = frame["horizon"].str.strip()
     horizon = pd.to_numeric(horizon_text, errors="coerce").to_numpy(dtype=float)
     bad = _first(

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from riskreport._typing import Frequency
+from riskreport.errors import InputError
 
 _MONTHLY = re.compile(r"^(\d{4})-(0[1-9]|1[0-2])$")
 _QUARTERLY = re.compile(r"^(\d{4})-?[Qq]([1-4])$")
@@ -125,3 +126,42 @@ def ranges(values: list[int]) -> str:
         else:
             runs.append([v])
     return ", ".join(str(r[0]) if len(r) == 1 else f"{r[0]}\u2013{r[-1]}" for r in runs)
+
+
+_RANGE = re.compile(r"^(\d+)(?:\s*[-\u2013]\s*(\d+))?$")
+
+
+def parse_ranges(text: str, *, largest: int, option: str = "--horizons") -> tuple[int, ...]:
+    """Whole numbers written as a list of numbers and ranges, the inverse of :func:`ranges`.
+
+    Parameters
+    ----------
+    text
+        E.g. ``"0,6,12"`` or ``"0-4, 8"`` (ranges include both ends).
+    largest
+        The largest number allowed (the smallest is 0).
+    option
+        The option or key named in the message.
+
+    Raises
+    ------
+    InputError
+        Anything else, or a number above ``largest``.
+
+    Examples
+    --------
+    >>> parse_ranges("0-2, 6,12", largest=24)
+    (0, 1, 2, 6, 12)
+    """
+    found: set[int] = set()
+    for part in text.split(","):
+        match = _RANGE.match(part.strip())
+        first = int(match[1]) if match else -1
+        last = int(match[2]) if match and match[2] is not None else first
+        if match is None or last < first or last > largest:
+            raise InputError(
+                f"{option} expected whole numbers from 0 to {largest}, single or as ranges "
+                f"(e.g. 0,6,12 or 0-8), got {text!r}"
+            )
+        found.update(range(first, last + 1))
+    return tuple(sorted(found))

@@ -15,10 +15,12 @@ from pathlib import Path
 
 import numpy as np
 
+from riskreport._typing import Frequency
 from riskreport.errors import (
     InputError,
     LaterOutcomeWarning,
     ModelLeftOutWarning,
+    OutcomeGapWarning,
     RiskReportWarning,
 )
 from riskreport.forecasts import combination as combination_module
@@ -100,6 +102,50 @@ class ModelStatus:
     in_current_round: bool
 
 
+GAPS_NAMED = 12  # missing periods named one by one in the warning; more are counted
+
+
+def _spans(missing: np.ndarray, frequency: Frequency) -> list[str]:
+    """Sorted period ordinals as labels, consecutive runs as "first to last"."""
+    breaks = np.flatnonzero(np.diff(missing) > 1) + 1
+    return [
+        periods.label(int(run[0]), frequency)
+        + (f" to {periods.label(int(run[-1]), frequency)}" if run.size > 1 else "")
+        for run in np.split(missing, breaks)
+    ]
+
+
+def warn_gaps(act: Actuals, cfg: Config) -> None:
+    """Warn when the outcomes known in the round skip periods between their first and last.
+
+    A missing outcome is not an error (a series may have a hole), but it silently removes
+    every forecast of that period from the scores, weights and error distributions, and the
+    no-change benchmark of the next round; the warning names the periods.
+    """
+    known = act.period[act.period < cfg.brief.as_of]
+    if known.size < 2:
+        return
+    span = np.arange(int(known.min()), int(known.max()) + 1)
+    missing = np.setdiff1d(span, known)
+    if missing.size == 0:
+        return
+    f = cfg.brief.frequency
+    named = _spans(missing[:GAPS_NAMED], f)
+    more = missing.size - min(missing.size, GAPS_NAMED)
+    unit = "month" if f == "monthly" else "quarter"
+    warnings.warn(
+        f"The actuals ({act.file.name}) have no outcome for {', '.join(named)}"
+        + (f" and {more} more {unit}s" if more else "")
+        + f": {missing.size} {unit}{'s' if missing.size > 1 else ''} missing between "
+        f"{periods.label(int(known.min()), f)} and {periods.label(int(known.max()), f)}. "
+        f"Forecasts of {'that period' if missing.size == 1 else 'those periods'} are not "
+        "scored (nor used for the weights and error distributions); add the rows if the "
+        "outcomes exist.",
+        OutcomeGapWarning,
+        stacklevel=3,
+    )
+
+
 def model_status(fc: Forecasts, cfg: Config) -> tuple[ModelStatus, ...]:
     """Each model's first and last origin up to as_of, and whether it is in this round."""
     rows = []
@@ -151,15 +197,49 @@ def combination_method(cfg: Config, fc: Forecasts) -> combination_module.Combina
     return cfg.combination.method
 
 
-def require_current(cfg: Config, point: np.ndarray) -> None:
-    """Refuse a round where no model forecasts some reported horizon."""
-    if not np.all(np.isfinite(point)):
-        missing = int(np.flatnonzero(~np.isfinite(point))[0])
-        raise InputError(
-            f"no model has a current-round forecast for horizon {missing}",
-            file=cfg.inputs.forecasts,
-            column="period",
+def require_current(cfg: Config, point: np.ndarray, act: Actuals | None = None) -> None:
+    """Refuse a round where no model forecasts some reported horizon, saying what horizon h
+    means (h = period - origin; h = 0 is the nowcast of the round's own period) and how to
+    fix the file or the config.
+
+    Parameters
+    ----------
+    cfg, point
+        The round's config and its combined forecast per reported horizon (NaN: none).
+    act
+        The outcomes, if read: one for ``as_of`` itself means the forecasts were most
+        likely dated by their last observation, and the message says how to re-date them.
+    """
+    if np.all(np.isfinite(point)):
+        return
+    h = int(np.flatnonzero(~np.isfinite(point))[0])
+    f = cfg.brief.frequency
+    as_of, period = periods.label(cfg.brief.as_of, f), periods.label(cfg.brief.as_of + h, f)
+    message = (
+        f"no model has a current-round forecast for horizon {h} (origin {as_of}, period {period}); "
+    )
+    if h == 0:
+        known = periods.label(cfg.brief.as_of - 1, f)
+        message += (
+            f"h = period - origin, and h = 0 is the nowcast of the round's own period "
+            f"{as_of}, made with outcomes up to {known}: a forecast 'k steps after the last "
+            f"observation {known}' has origin {as_of} and h = k - 1. Expected a row with "
+            f"origin = period = {as_of} from at least one model (if none of them nowcasts, "
+            "add a nowcast as a model of its own, see docs/quickstart.md)"
         )
+        if act is not None and np.any(act.period == cfg.brief.as_of):
+            message += (
+                f" (the actuals already hold {as_of}: if that is the last observation your "
+                f"forecasts start from, date them from the period after it and set as_of to "
+                f"{periods.label(cfg.brief.as_of + 1, f)})"
+            )
+    else:
+        message += (
+            f"the brief reports horizons 0 to {cfg.brief.horizons} ([brief] horizons): "
+            f"expected a row with origin {as_of} and period {period}, or set "
+            f"[brief] horizons = {h - 1} (every horizon before it is forecast)"
+        )
+    raise InputError(message, file=cfg.inputs.forecasts, column="period")
 
 
 def _require_track_record(cfg: Config, counts: list[int], given: ErrorQuantiles | None) -> None:
@@ -212,6 +292,7 @@ def screen(cfg: Config) -> Screening:
             else None
         )
         warn_later_outcomes(act, cfg)
+        warn_gaps(act, cfg)
         panel = panel_module.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
         status = model_status(fc, cfg)
         warn_left_out(status)
@@ -219,7 +300,7 @@ def screen(cfg: Config) -> Screening:
         combo = combination_module.combine(
             method, panel, window=cfg.combination.window, shrinkage=cfg.combination.shrinkage
         )
-        require_current(cfg, combo.combined[-1, : cfg.brief.horizons + 1])
+        require_current(cfg, combo.combined[-1, : cfg.brief.horizons + 1], act)
         errors = error_matrix(combo.combined, panel.outcomes)[:, : cfg.brief.horizons + 1]
         counts = [int(n) for n in window_mask(errors, cfg.uncertainty.window).sum(axis=0)]
         _require_track_record(cfg, counts, given)

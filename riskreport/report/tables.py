@@ -3,10 +3,11 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
+from pathlib import Path
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import summary_horizons
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
@@ -24,36 +25,66 @@ def table(header: list[str], rows: list[list[str]]) -> list[str]:
     return _table(header, rows)
 
 
-def track_record_text(a: Assessment) -> list[str]:
-    """RMSE by forecaster and DM p-values against the combination, at the summary horizons."""
-    shown = summary_horizons(a)
+def _window_words(window: int) -> str:
+    return "every past round" if window == 0 else f"the last {window} rounds of each horizon"
+
+
+def track_record_text(a: Assessment, horizons: Sequence[int] | None = None) -> list[str]:
+    """RMSE by forecaster and DM p-values against the combination, one row per horizon.
+
+    Parameters
+    ----------
+    a
+        The assessment.
+    horizons
+        The horizons to show (``--horizons``); None shows every reported horizon.
+    """
+    shown = list(horizons) if horizons is not None else [r.h for r in a.horizons]
     by_key = {(r.model, r.h): r for r in a.accuracy}
     models = list(dict.fromkeys(r.model for r in a.accuracy))
     lines = [
-        f"Track record as of {a.as_of}: RMSE (pp) over the error window; n = rounds scored",
+        f"Track record as of {a.as_of}: RMSE (pp) by horizon h over the error window "
+        f"({_window_words(a.uncertainty.window)}); in brackets the rounds scored",
         "",
     ]
     rows = []
-    for m in models:
-        cells = [m]
-        for h in shown:
+    for h in shown:
+        cells = [str(h)]
+        for m in models:
             r = by_key.get((m, h))
             cells.append(f"{fmt.number(r.rmse, 2)} ({r.n})" if r else "-")
         rows.append(cells)
-    lines += _table(["forecaster", *(f"h={h}" for h in shown)], rows)
+    lines += _table(["h", *models], rows)
     lines += ["", "Diebold-Mariano (HLN) p-values against the combination (two-sided)", ""]
     pvalues = {
         (t.models[0], t.horizon): t.pvalue
         for t in a.tests
         if t.name == "diebold-mariano" and t.models[1] == a.own_names.combination
     }
+    tested = [m for m in models if any((m, h) in pvalues for h in shown)]
     rows = [
-        [m, *(_pvalue(pvalues[(m, h)]) if (m, h) in pvalues else "-" for h in shown)]
-        for m in models
-        if any((m, h) in pvalues for h in shown)
+        [str(h), *(_pvalue(pvalues[(m, h)]) if (m, h) in pvalues else "-" for m in tested)]
+        for h in shown
     ]
-    lines += _table(["model", *(f"h={h}" for h in shown)], rows)
+    lines += _table(["h", *tested], rows) if tested else ["(no test could be run)"]
     return lines
+
+
+def shown(path: Path) -> str:
+    """A path as a user typing in the current folder would write it: relative to it when
+    the path is inside it, else absolute."""
+    here = Path.cwd().resolve()
+    path = path.resolve()
+    return path.relative_to(here).as_posix() if path.is_relative_to(here) else str(path)
+
+
+def written_text(paths: Sequence[Path], out_dir: Path) -> list[str]:
+    """The files a command wrote and where its run was recorded."""
+    return [
+        f"Wrote {len(paths)} file{'s' if len(paths) != 1 else ''} into {shown(out_dir)}:",
+        *(f"  {shown(p)}" for p in paths),
+        f"Run recorded in {shown(out_dir / 'runs.jsonl')}",
+    ]
 
 
 def _pvalue(value: float) -> str:

@@ -98,19 +98,54 @@ JUDGEMENT_SOURCES = (
 AGAINST_BASELINE = {"about the same": "about as well as", "worse": "worse than"}
 
 
-def _window_text(a: Assessment) -> str:
+def _errors_window(a: Assessment) -> int:
     """The error window today's laws use: the configured one, or the one the replay chose."""
-    configured = a.uncertainty.window
     adj = a.adjustments
-    used = adj.window if adj is not None and adj.window_grid else configured
+    return adj.window if adj is not None and adj.window_grid else a.uncertainty.window
+
+
+def _window_text(a: Assessment) -> str:
+    """The error window today's laws use, in words."""
+    configured = a.uncertainty.window
+    used = _errors_window(a)
     text = (
-        "all past origins"
+        "every past round with a known outcome"
         if used == 0
-        else f"last {used} origins with a known outcome, per horizon"
+        else f"the last {used} rounds with a known outcome, per horizon"
     )
     if used != configured:
         text += f" (chosen by the replay; configured: {configured or 'all'})"
     return text
+
+
+ESTIMATED_WEIGHTS = ("inverse-mse", "rank", "ols", "ols-sum-to-one", "ols-nonnegative", "shrink")
+
+
+def windows_text(a: Assessment) -> str:
+    """The errors' window and the weights' window side by side, and why they differ."""
+    errors = f"Error distribution: {_window_text(a)}."
+    method = a.combination.method
+    if method not in ESTIMATED_WEIGHTS:
+        return f"{errors} Combination weights: none estimated (the {method} method uses no past rounds)."
+    weights = a.combination.window or 0
+    errors_window = _errors_window(a)
+    text = (
+        f"{errors} Combination weights: "
+        + ("every past round" if weights == 0 else f"the last {weights} rounds")
+        + " with a known outcome, per horizon."
+    )
+    if weights == errors_window:
+        return text + " Both use the same past rounds."
+    if weights == 0 or (errors_window != 0 and weights > errors_window):
+        return text + (
+            " The weights look further back because weights estimated from a short record "
+            "are noisy and often forecast worse than equal weights (Smith and Wallis 2009), "
+            "while the error distribution should reflect the size of recent errors."
+        )
+    return text + (
+        " The weights look less far back, to follow the models' recent relative accuracy, "
+        "while the error distribution needs many errors to estimate its tails."
+    )
 
 
 def judgement_text(a: Assessment) -> str:
@@ -194,10 +229,7 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
     return (
         KeyValue("Combination", f"{a.combination.method} weights, per horizon"),
         KeyValue("Error distribution", distribution_text(a)),
-        KeyValue(
-            "Error window",
-            _window_text(a),
-        ),
+        KeyValue("Windows", windows_text(a)),
         KeyValue(
             "Centre",
             "estimated: past average errors (bias) carry over into the centre"
