@@ -18,9 +18,12 @@ if TYPE_CHECKING:  # annotations only: `check` builds a ModelStatus without scip
     from riskreport.laws.annual import AnnualResult
     from riskreport.laws.density import DensityCurve
     from riskreport.laws.judgement import AppliedJudgement
+    from riskreport.laws.sensitivity import SensitivityRow
     from riskreport.laws.thresholds import ThresholdResult
     from riskreport.replay.adjustments import Adjustments
     from riskreport.replay.calibration import CalibrationRecord
+    from riskreport.replay.situations import SituationRow
+    from riskreport.rounds.attribution import AttributionRow, LeaveOneOut, ModelForecast
     from riskreport.rounds.change import ChangeRecord
     from riskreport.rounds.history import RoundPoint, YearPoint
 
@@ -389,6 +392,11 @@ class Assessment:
     round_history: tuple[RoundPoint, ...] = ()
     year_history: tuple[YearPoint, ...] = ()
     score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
+    model_forecasts: tuple[ModelForecast, ...] = ()
+    sensitivity_to_centre: tuple[SensitivityRow, ...] = ()
+    record_by_situation: tuple[SituationRow, ...] = ()
+    attribution: tuple[AttributionRow, ...] = ()
+    leave_one_out: tuple[LeaveOneOut, ...] = ()
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after judgement unless ``model_based``)."""
