@@ -115,7 +115,8 @@ def wilson_interval(share: float, n_effective: float) -> tuple[float, float] | N
     lo, hi = proportion_confint(
         share * n_effective, n_effective, alpha=1 - INTERVAL_LEVEL, method="wilson"
     )
-    return float(lo), float(hi)
+    # The formula's edge at a share of 0 or 1 is the share itself up to rounding.
+    return min(float(lo), share), max(float(hi), share)
 
 
 def side_of_band(value: float, band: Band) -> str:
