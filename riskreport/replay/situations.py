@@ -53,8 +53,8 @@ WIDE_SHARE = 2 / 3  # the top third of the spread's history
 # (common practice, no source).
 MIN_SPREAD_HISTORY = 12
 # Fewer independent outcomes than this are "too small to tell": with 20 the 90% Wilson
-# interval of a 90% coverage still spans about 0.72 to 0.97, and with fewer it reaches
-# from clearly too narrow to too wide (common practice, no source).
+# interval of a 90% coverage still spans about 0.74 to 0.97 (with 10: 0.65 to 0.98), and
+# with fewer it reaches from clearly too narrow to too wide (common practice, no source).
 TOO_SMALL = 20.0
 INTERVAL_LEVEL = 0.9
 PERIODS_PER_YEAR: dict[Frequency, int] = {"monthly": 12, "quarterly": 4}

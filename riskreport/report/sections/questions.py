@@ -20,6 +20,15 @@ from riskreport.report.sections.common import Table
 # notice: the centre is printed to 0.1 pp (common practice, no source).
 NOTICEABLE = 0.005
 SIDE_WORDS = {"below": "below", "inside": "inside", "above": "above"}
+# The situations as the annex table names them (the JSON's ``description`` is the long form).
+SHORT_LABELS = {
+    "all": "All rounds",
+    "below": "Latest outcome below the band",
+    "inside": "Latest outcome inside the band",
+    "above": "Latest outcome above the band",
+    "wide_disagreement": "Models disagreed widely",
+    "recent_five_years": "Last five years",
+}
 
 
 def _ahead(a: Assessment, h: int) -> str:
@@ -53,12 +62,12 @@ def robustness_text(a: Assessment) -> str:
     return f"Inside in {r.period} would {became} if the path were {_pp(r.shift_to_even)} {way}."
 
 
-def _held(r: SituationRow) -> str:
+def _held(r: SituationRow, ahead: str) -> str:
     """How one situation's 90% ranges held, with n, n effective and the interval or the
     plain word that n is too small."""
     assert r.coverage_90 is not None
     said = (
-        f"the 90% ranges held {fmt.single_percent(r.coverage_90)} of {r.n} times "
+        f"the 90% ranges {ahead} held in {fmt.single_percent(r.coverage_90)} of {r.n} rounds "
         f"(about {round(r.n_effective)} independent outcomes"
     )
     if r.too_small:
@@ -84,11 +93,14 @@ def situation_text(a: Assessment) -> str:
     else:
         text = (
             f"In past rounds that started with the latest outcome {where} the band, as now, "
-            f"{_held(side)} {ahead}."
+            f"{_held(side, ahead)}."
         )
     wide = next((r for r in rows if r.situation == "wide_disagreement"), None)
     if wide is not None and wide.n > 0:
-        text += f" The models disagree widely today; in past rounds when they did, {_held(wide)}."
+        text += (
+            f" The models disagree widely today; in past rounds when they did, "
+            f"{_held(wide, ahead)}."
+        )
     return text
 
 
@@ -147,6 +159,7 @@ class SituationTableRow:
     coverage_90: str
     brier: str
     today: str
+    verdict: str
 
 
 @dataclass(frozen=True)
@@ -235,17 +248,19 @@ def situation_table(a: Assessment) -> Table[SituationTableRow]:
         "90% range held",
         "Brier",
         "Today",
+        "Enough to tell",
     )
     rows = tuple(
         SituationTableRow(
-            r.description,
+            SHORT_LABELS.get(r.situation, r.description),
             str(r.h),
             str(r.n),
             fmt.number(r.n_effective),
             _coverage_text(r.coverage_50, r.coverage_50_interval),
             _coverage_text(r.coverage_90, r.coverage_90_interval),
             "\u2013" if r.brier is None else fmt.number(r.brier, 3),
-            ("yes" if r.today else "") + (" (too few)" if r.too_small and r.n else ""),
+            "yes" if r.today else "",
+            "too few" if r.too_small else "yes",
         )
         for r in a.record_by_situation
         if r.h in shown
