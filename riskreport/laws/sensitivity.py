@@ -116,7 +116,13 @@ def best_shift(dist: Distribution, lower: float, upper: float) -> tuple[float, f
     return float(grid[best]), float(values[best])
 
 
-def shift_to_even(dist: Distribution, lower: float, upper: float) -> float | None:
+def shift_to_even(
+    dist: Distribution,
+    lower: float,
+    upper: float,
+    *,
+    best: tuple[float, float] | None = None,
+) -> float | None:
     """The signed move of smallest size that makes P(inside) = 0.5, or None.
 
     Parameters
@@ -125,6 +131,8 @@ def shift_to_even(dist: Distribution, lower: float, upper: float) -> float | Non
         The published law of the outcome (with ``cdf`` and ``ppf``).
     lower, upper
         The band's edges.
+    best
+        :func:`best_shift` of the same law and band, when already computed.
 
     Returns
     -------
@@ -144,7 +152,7 @@ def shift_to_even(dist: Distribution, lower: float, upper: float) -> float | Non
         return float(p_inside_shifted(dist, lower, upper, np.array([s]))[0]) - EVEN
 
     grid = _grid(dist, lower, upper)
-    top, p_top = best_shift(dist, lower, upper)
+    top, p_top = best if best is not None else best_shift(dist, lower, upper)
     if p_top < EVEN:
         return None
     points = np.unique(np.append(grid, top))
@@ -164,11 +172,11 @@ def row(
     lower, upper = band
     fixed = p_inside_shifted(dist, lower, upper, np.array(FIXED_SHIFTS))
     now = float(p_inside_shifted(dist, lower, upper, np.array([0.0]))[0])
-    shift = shift_to_even(dist, lower, upper)
+    top, p_top = best_shift(dist, lower, upper)
+    shift = shift_to_even(dist, lower, upper, best=(top, p_top))
     at_even = (
         None if shift is None else float(p_inside_shifted(dist, lower, upper, np.array([shift]))[0])
     )
-    top, p_top = best_shift(dist, lower, upper)
     return SensitivityRow(
         period,
         h,

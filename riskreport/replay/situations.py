@@ -196,7 +196,8 @@ def _row(
         today,
         wilson_interval(held_50, n_eff),
         wilson_interval(held_90, n_eff),
-        n_eff < TOO_SMALL,
+        # judged on n_effective as printed (one decimal), so "20.0" is never "too few"
+        round(n_eff, 1) < TOO_SMALL,
     )
 
 
