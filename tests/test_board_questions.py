@@ -195,3 +195,12 @@ def test_a_model_that_did_not_change_gets_nothing() -> None:
     terms = {m: x for _, m, x in attribution.split("equal", before, now)}
     assert terms["b"] == pytest.approx(0.0, abs=1e-12)
     assert terms["a"] == pytest.approx(0.2, abs=1e-12)
+
+
+def test_wide_disagreement_is_the_top_third_of_the_history_up_to_then() -> None:
+    # By hand: 12 earlier spreads 1..12, then 13 (the largest: wide), 2 (3 of 14 not larger:
+    # not), 12 (14 of 15: wide), 8 (1..8, the 2 and itself: 10 of 16 = 0.625 < 2/3: not).
+    spread = np.array([*range(1, 13), 13, 2, 12, 8], dtype=float)
+    spread = np.concatenate([[np.nan], spread])  # an origin where fewer than two models forecast
+    wide = situations.wide_disagreement(spread)
+    assert wide.tolist() == [False] * 13 + [True, False, True, False]

@@ -9,8 +9,9 @@ was known at its origin:
   partition the replay's rows at each horizon;
 - ``wide_disagreement``: the models' spread of forecasts for that horizon (the standard
   deviation across the models that forecast at the origin, two at least) was in the top
-  third of its own history up to and including that origin (at least
-  :data:`MIN_SPREAD_HISTORY` earlier values);
+  third of its own history up to and including that origin: at least two thirds of the
+  spreads known then were not larger (and at least :data:`MIN_SPREAD_HISTORY` earlier
+  values);
 - ``recent_five_years``: the origin is among the last five years of rounds;
 - ``all``: every replayed row (the overall record, for comparison).
 
@@ -151,18 +152,18 @@ def model_spread(panel: Panel) -> np.ndarray:
 
 
 def wide_disagreement(spread: np.ndarray) -> np.ndarray:
-    """origins (one horizon's spreads): True where the spread is at least the 2/3 quantile of
-    its values up to and including that origin (at least :data:`MIN_SPREAD_HISTORY` before)."""
-    out = np.zeros(spread.size, dtype=bool)
-    for i in range(spread.size):
-        if not np.isfinite(spread[i]):
-            continue
-        past = spread[: i + 1]
-        past = past[np.isfinite(past)]
-        if past.size - 1 < MIN_SPREAD_HISTORY:
-            continue
-        out[i] = spread[i] >= np.quantile(past, WIDE_SHARE)
-    return out
+    """origins (one horizon's spreads): True where the spread is in the top third of its
+    history up to and including that origin: at least two thirds of the spreads known then
+    are not larger (with at least :data:`MIN_SPREAD_HISTORY` earlier ones).
+
+    All origins at once: a lower-triangular comparison of every pair (origins x origins).
+    """
+    finite = np.isfinite(spread)
+    values = np.where(finite, spread, np.inf)
+    earlier = np.tri(spread.size, dtype=bool)  # j <= i
+    not_larger = np.sum(earlier & finite[None, :] & (values[None, :] <= values[:, None]), axis=1)
+    known = np.cumsum(finite)
+    return finite & (known - 1 >= MIN_SPREAD_HISTORY) & (not_larger >= WIDE_SHARE * known)
 
 
 def _row(
