@@ -21,10 +21,13 @@ if TYPE_CHECKING:  # annotations only: the records live with the steps that make
     from riskreport.laws.annual import AnnualResult
     from riskreport.laws.density import DensityCurve
     from riskreport.laws.judgement import AppliedJudgement
+    from riskreport.laws.sensitivity import SensitivityRow
     from riskreport.laws.thresholds import ThresholdResult
     from riskreport.reading.screening import ModelStatus
     from riskreport.replay.adjustments import Adjustments
     from riskreport.replay.calibration import CalibrationRecord
+    from riskreport.replay.situations import SituationRow
+    from riskreport.rounds.attribution import AttributionRow, LeaveOneOut, ModelForecast
     from riskreport.rounds.change import ChangeRecord
     from riskreport.rounds.history import RoundPoint, YearPoint
 
@@ -378,6 +381,11 @@ class Assessment:
     # The names of the tool's own forecasters in `accuracy` and `tests` (renamed where a
     # model took one); the JSON's warnings say so when they differ from the usual ones.
     own_names: OwnNames = field(default=OwnNames(), metadata=json_key(skip=True))
+    model_forecasts: tuple[ModelForecast, ...] = ()
+    sensitivity_to_centre: tuple[SensitivityRow, ...] = ()
+    record_by_situation: tuple[SituationRow, ...] = ()
+    attribution: tuple[AttributionRow, ...] = ()
+    leave_one_out: tuple[LeaveOneOut, ...] = ()
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after judgement unless ``model_based``)."""

@@ -91,6 +91,19 @@ def threshold_rows(assessment: Assessment) -> list[dict[str, object]]:
     ]
 
 
+def situation_rows(assessment: Assessment) -> list[dict[str, object]]:
+    """One row per situation and horizon, the intervals as ``_lo`` / ``_hi`` columns."""
+    out = []
+    for r in assessment.record_by_situation:
+        row = plain(r)
+        for key in ("coverage_50_interval", "coverage_90_interval"):
+            interval = row.pop(key) or (None, None)
+            stem = key.removesuffix("_interval")
+            row[f"{stem}_lo"], row[f"{stem}_hi"] = interval
+        out.append(row)
+    return out
+
+
 def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[str, bytes]:
     """Every output file of a brief, by path relative to the output directory."""
     chosen = set(formats)
@@ -159,6 +172,15 @@ def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -
             files[f"tables/thresholds-{as_of}.csv"] = _csv(threshold_rows(a))
         if a.change:
             files[f"tables/change-{as_of}.csv"] = _csv(_rows(a.change.horizons))
+        files[f"tables/sensitivity-{as_of}.csv"] = _csv(
+            {**plain(r), "band": "..".join(map(str, plain(r.band)))}
+            for r in a.sensitivity_to_centre
+        )
+        files[f"tables/situations-{as_of}.csv"] = _csv(situation_rows(a))
+        if a.attribution:
+            files[f"tables/attribution-{as_of}.csv"] = _csv(_rows(a.attribution))
+        if a.leave_one_out:
+            files[f"tables/leave-one-out-{as_of}.csv"] = _csv(_rows(a.leave_one_out))
     if "xlsx" in chosen:
         from riskreport.report import workbook
 

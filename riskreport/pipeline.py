@@ -10,12 +10,13 @@ import dataclasses
 import threading
 import warnings
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
 from riskreport import headline as headline_module
 from riskreport import records
-from riskreport.assessment import Assessment
+from riskreport.assessment import Assessment, plain
 from riskreport.errors import (
     CombinationFallbackWarning,
     CombinationRangeWarning,
@@ -26,7 +27,7 @@ from riskreport.forecasts import combination as combination_module
 from riskreport.forecasts.track_record import error_matrix, evaluate
 from riskreport.laws import annual as annual_module
 from riskreport.laws import density as density_module
-from riskreport.laws import judgement, probabilities, uncertainty
+from riskreport.laws import judgement, probabilities, sensitivity, uncertainty
 from riskreport.laws import thresholds as thresholds_module
 from riskreport.laws.distributions import FAMILIES, GIVEN_FAMILY, Distribution
 from riskreport.reading import config as config_module
@@ -36,8 +37,9 @@ from riskreport.reading.config import Config
 from riskreport.reading.inputs import read_actuals, read_error_quantiles, read_forecasts
 from riskreport.reading.panel import window_mask
 from riskreport.replay import adjustments as adjustments_module
-from riskreport.replay import calibration, selection
+from riskreport.replay import calibration, selection, situations
 from riskreport.replay.cache import ReplayCache
+from riskreport.rounds import attribution as attribution_module
 from riskreport.rounds import change as change_module
 from riskreport.rounds import history as history_module
 
@@ -77,6 +79,7 @@ def assess_config(
         search or cfg.output.directory, assessment.as_of
     )
     change = None
+    moved: tuple[attribution_module.AttributionRow, ...] = ()
     if source is not None:
         earlier = change_module.load(source)
         if previous is not None:
@@ -84,6 +87,8 @@ def assess_config(
         change = change_module.compare(
             earlier, [(r.period, change_module.side_of(r)) for r in assessment.horizons]
         )
+        moved, note = _attribution(cfg, assessment, earlier)
+        notes.extend([note] if note else [])
     policy = assessment.policy
     rounds = history_module.points(
         previous.parent if previous is not None else search or cfg.output.directory,
@@ -96,11 +101,44 @@ def assess_config(
         assessment,
         warnings=tuple(dict.fromkeys(notes)),
         change=change,
+        attribution=moved,
         round_history=rounds,
         year_history=_year_history(
             cfg, assessment, previous.parent if previous is not None else search
         ),
     )
+
+
+def _attribution(
+    cfg: Config, assessment: Assessment, earlier: dict[str, Any]
+) -> tuple[tuple[attribution_module.AttributionRow, ...], str | None]:
+    """Who moved the centre since the previous brief (and a warning when it cannot be
+    said); a brief written before model forecasts were stored has its round recomputed
+    from the forecasts file."""
+    now = attribution_module.round_inputs(
+        {
+            key: plain(getattr(assessment, key))
+            for key in ("horizons", "model_based_horizons", "combination", "model_forecasts")
+        }
+    )
+    if earlier.get("model_forecasts"):
+        try:
+            before: dict[str, attribution_module.RoundInputs] | None = (
+                attribution_module.round_inputs(earlier)
+            )
+        except (KeyError, TypeError, ValueError):
+            before = None
+    else:
+        before = attribution_module.recomputed_inputs(cfg, earlier)
+    if before is None:
+        return (), (
+            f"The centre's change since {earlier['as_of']} is not split by model: that "
+            "round's model forecasts are neither stored nor recomputable from the inputs."
+        )
+    rows = attribution_module.attribute(
+        assessment.combination.method, before, now, {r.period: r.h for r in assessment.horizons}
+    )
+    return rows, None
 
 
 def _year_history(
@@ -261,6 +299,8 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     basis_rows = headline_module.basis_results(cfg, yearly)
     headline = headline_module.headline(cfg, adjusted[cfg.brief.policy_horizon], basis_rows)
     record = evaluate(panel, combo, cfg.uncertainty.window, cfg.brief.horizons)
+    labels = [r.period for r in adjusted]
+    policy = cfg.brief.policy_horizon
     return Assessment(
         as_of=periods.label(cfg.brief.as_of, cfg.brief.frequency),
         frequency=cfg.brief.frequency,
@@ -300,6 +340,31 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             for h in (cfg.brief.density_horizons or (cfg.brief.policy_horizon,))
         ),
         score_against=cfg.inputs.score_against if act.vintages else None,
+        model_forecasts=attribution_module.model_forecasts(panel, combo.included, labels),
+        sensitivity_to_centre=sensitivity.table(
+            final, [r.band for r in adjusted], labels, [r.centre for r in adjusted]
+        ),
+        record_by_situation=situations.record(
+            panel,
+            {
+                h: run
+                for (label, h), run in runs.items()
+                if label == replayed.graded and h <= cfg.brief.horizons
+            },
+            band_for=cfg.band_for,
+            frequency=cfg.brief.frequency,
+        ),
+        leave_one_out=attribution_module.leave_one_out(
+            method,
+            panel,
+            combo,
+            final[policy],
+            adjusted[policy].band,
+            period=adjusted[policy].period,
+            h=policy,
+            window=cfg.combination.window,
+            shrinkage=cfg.combination.shrinkage,
+        ),
     )
 
 

@@ -27,6 +27,10 @@ SHEETS = [
     "weights",
     "accuracy",
     "calibration",
+    "sensitivity",
+    "situations",
+    "attribution",
+    "leave-one-out",
     "rounds",
     "notes",
 ]

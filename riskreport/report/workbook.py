@@ -24,6 +24,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from openpyxl.writer.excel import ExcelWriter
 
 from riskreport.assessment import Assessment, HorizonResult, Quantiles
+from riskreport.laws.sensitivity import FIXED_SHIFTS
 from riskreport.report.render import created_date
 from riskreport.report.sections import summary
 
@@ -142,6 +143,12 @@ def _calibration(a: Assessment) -> Table:
         "skill",
     )
     return table("calibration", columns, rows)
+
+
+def _shift_name(shift: float) -> str:
+    """-0.5 as ``minus_0_5``: the field names of :class:`SensitivityRow`."""
+    sign = "minus" if shift < 0 else "plus"
+    return f"{sign}_{abs(shift):g}".replace(".", "_")
 
 
 def tables(a: Assessment) -> tuple[Table, ...]:
@@ -268,6 +275,77 @@ def tables(a: Assessment) -> tuple[Table, ...]:
             [(r.model, r.h, r.n, r.mae, r.rmse, r.mean_error) for r in a.accuracy],
         ),
         _calibration(a),
+        table(
+            "sensitivity",
+            (
+                "period",
+                "h",
+                "centre",
+                "p_inside",
+                "shift_to_even",
+                "p_inside_max",
+                *(f"p_inside_shift_{_shift_name(x)}" for x in FIXED_SHIFTS),
+            ),
+            [
+                (
+                    r.period,
+                    r.h,
+                    r.centre,
+                    r.p_inside,
+                    r.shift_to_even,
+                    r.p_inside_max,
+                    *(getattr(r, f"p_inside_shift_{_shift_name(x)}") for x in FIXED_SHIFTS),
+                )
+                for r in a.sensitivity_to_centre
+            ],
+        ),
+        table(
+            "situations",
+            (
+                "situation",
+                "h",
+                "n",
+                "n_effective",
+                "coverage_50",
+                "coverage_90",
+                "coverage_90_lo",
+                "coverage_90_hi",
+                "brier",
+                "today",
+                "too_small",
+            ),
+            [
+                (
+                    r.situation,
+                    r.h,
+                    r.n,
+                    r.n_effective,
+                    r.coverage_50,
+                    r.coverage_90,
+                    *(r.coverage_90_interval or (None, None)),
+                    r.brier,
+                    "yes" if r.today else "",
+                    "yes" if r.too_small else "",
+                )
+                for r in a.record_by_situation
+            ],
+        ),
+        table(
+            "attribution",
+            ("period", "h", "term", "model", "centre_change", "centre_before", "centre_now"),
+            [
+                (r.period, r.h, r.term, r.model, r.centre_change, r.centre_before, r.centre_now)
+                for r in a.attribution
+            ],
+        ),
+        table(
+            "leave-one-out",
+            ("model", "period", "h", "centre", "centre_change", "p_inside", "p_inside_change"),
+            [
+                (r.model, r.period, r.h, r.centre, r.centre_change, r.p_inside, r.p_inside_change)
+                for r in a.leave_one_out
+            ],
+        ),
         table(
             "rounds",
             ("as_of", "period", "h", "p_inside", "current"),

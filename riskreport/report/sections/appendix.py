@@ -7,6 +7,7 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
+from riskreport.report.sections import questions
 from riskreport.report.sections.common import (
     BAND_TEXT,
     INTERVAL_TEXT,
@@ -127,6 +128,11 @@ class AppendixContext:
     calibration_heading: str
     pit: Table[PitRow]
     reliability: Table[ReliabilityRow]
+    questions_heading: str
+    sensitivity: Table[questions.SensitivityTableRow]
+    situations: Table[questions.SituationTableRow]
+    attribution: Table[questions.AttributionTableRow]
+    leave_one_out: Table[questions.LeaveOneOutTableRow]
 
 
 def lead(a: Assessment) -> str:
@@ -177,4 +183,9 @@ def context(a: Assessment) -> AppendixContext:
             ReliabilityRow(said="Said", happened="Happened", n="Cases"),
             reliability_rows(a),
         ),
+        questions_heading="How robust the call is, the record by situation, who moved the centre",
+        sensitivity=questions.sensitivity_table(a),
+        situations=questions.situation_table(a),
+        attribution=questions.attribution_table(a),
+        leave_one_out=questions.leave_one_out_table(a),
     )

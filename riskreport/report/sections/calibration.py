@@ -9,6 +9,7 @@ from dataclasses import dataclass
 from riskreport.assessment import Assessment
 from riskreport.replay.calibration import MIN_TEST_ROUNDS, CoverageResult
 from riskreport.report import formatting as fmt
+from riskreport.report.sections import questions
 from riskreport.report.sections.common import (
     FAMILY_NAMES,
     SIGNIFICANCE,
@@ -195,6 +196,8 @@ class CalibrationContext:
     pit: ChartBlock | None
     reliability: ChartBlock | None
     coverage: Table[CoverageRow]
+    situation_heading: str
+    situation_text: str
 
 
 def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> CalibrationContext:
@@ -212,4 +215,6 @@ def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> CalibrationConte
             ),
             rows,
         ),
+        situation_heading="In situations like today's",
+        situation_text=questions.situation_text(a),
     )

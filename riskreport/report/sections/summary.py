@@ -26,6 +26,7 @@ from riskreport.report.sections.common import (
     threshold_label,
 )
 from riskreport.report.sections.outlook import YEARS_HEAD, AnnualRow, annual_rows
+from riskreport.report.sections.questions import movers_text, robustness_text
 
 if TYPE_CHECKING:
     from riskreport.laws.thresholds import ThresholdResult
@@ -411,6 +412,7 @@ class SummaryContext:
     headline: str
     messages: tuple[str, ...]
     threshold_line: str
+    robustness_text: str
     heading: str
     basis: Table[AnnualRow] | None
     periods: Table[ProbabilityRow] | None
@@ -419,6 +421,7 @@ class SummaryContext:
     scale_key: str
     change_heading: str
     change_text: str
+    movers_text: str
     track_heading: str
     track_text: str
     cautions_label: str
@@ -441,6 +444,7 @@ def context(a: Assessment) -> SummaryContext:
         headline=headline(a),
         messages=messages(a),
         threshold_line=threshold_line(a),
+        robustness_text=robustness_text(a),
         heading=BASIS_TITLES[a.headline.basis],
         basis=basis,
         periods=period_table(a) if basis is None else None,
@@ -449,6 +453,7 @@ def context(a: Assessment) -> SummaryContext:
         scale_key=scale_key(a),
         change_heading="Since the last brief",
         change_text=change_text(a),
+        movers_text=movers_text(a),
         track_heading="Track record",
         track_text=track_text(a),
         cautions_label=CAUTIONS_LABEL,
