@@ -9,6 +9,7 @@ replaced only with ``force``; an identical one is left as it is.
 from __future__ import annotations
 
 import csv
+import datetime as dt
 import hashlib
 import io
 import logging
@@ -90,6 +91,12 @@ def threshold_rows(assessment: Assessment) -> list[dict[str, object]]:
     ]
 
 
+# The files besides the pages, in the two groups that go with the brief's PDF (here) and
+# the annex's (in the forked child): the annex has about twice the brief's pages, so the
+# heavier group rides with the brief.
+WITH_BRIEF: frozenset[OutputFormat] = frozenset({"json", "csv", "xlsx"})
+
+
 def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[str, bytes]:
     """Every output file of a brief, by path relative to the output directory."""
     chosen = set(formats)
@@ -98,23 +105,47 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         raise ValueError(f"formats: expected items from {OUTPUT_FORMATS}, got {sorted(unknown)}")
     text = assessment.to_json()
     others = chosen - PAGE_FORMATS
-
-    def page() -> dict[str, bytes]:
-        return _page_files(chosen, assessment, text)
-
-    def rest() -> dict[str, bytes]:
+    if not chosen & PAGE_FORMATS:
         return _other_files(others, assessment, text)
+    from riskreport.report import render as render_module
 
-    if chosen & PAGE_FORMATS and others:
-        # The page (SVG charts, HTML, PDF) here, the rest in a forked child when a second
-        # core is free (riskreport.parallel); the files are the same either way. The chart
-        # modules both sides use are imported first, so the child inherits them.
-        from riskreport.report import charts  # noqa: F401
+    # Charts, context and HTML once, here; then the two PDFs at the same time, the brief's
+    # here and the annex's in a forked child when a second core is free (riskreport.parallel),
+    # each with its share of the other files. The files are the same either way.
+    made = render_module.pages(assessment, run_id(text))
+    as_of = assessment.as_of
+    files = {f"charts/{name}-{as_of}.svg": svg.encode("utf-8") for name, svg in made.svgs.items()}
+    if "html" in chosen:
+        files[f"brief-{as_of}.html"] = made.html.encode("utf-8")
+    created = render_module.created_date(assessment)
 
-        made, more = parallel.both(page, rest)
-    else:
-        made, more = page(), rest()
-    return {**more, **made}
+    def with_brief() -> dict[str, bytes]:
+        out = _other_files(others & WITH_BRIEF, assessment, text)
+        if "pdf" in chosen:
+            out[f"brief-{as_of}.pdf"] = _pdf(made.brief, created, "brief")
+        return out
+
+    def with_annex() -> dict[str, bytes]:
+        out = _other_files(others - WITH_BRIEF, assessment, text)
+        if "pdf" in chosen:
+            out[f"annex-{as_of}.pdf"] = _pdf(made.annex, created, "annex")
+        return out
+
+    here, there = parallel.both(with_brief, with_annex)
+    return {**there, **here, **files}
+
+
+def _pdf(page: str, created: dt.date, name: str) -> bytes:
+    """One PDF (brief or annex) of its HTML page, weasyprint's warnings logged."""
+    from riskreport.report import render as render_module
+
+    data, notes = render_module.pdf(page, created, name=name)
+    for note in notes:
+        # The missing HarfBuzz subset library is said once, by `make install`
+        # (riskreport._system); repeated on every brief it is noise.
+        level = logging.DEBUG if "HarfBuzz" in note else logging.WARNING
+        log.log(level, "weasyprint: %s", note)
+    return data
 
 
 def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -> dict[str, bytes]:
@@ -169,30 +200,6 @@ def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -
             for picture in pictures:
                 files[f"{folder}/{picture.name}-{as_of}.png"] = picture.png
                 files[f"{folder}/{picture.name}-{as_of}.txt"] = (picture.alt + "\n").encode("utf-8")
-    return files
-
-
-def _page_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -> dict[str, bytes]:
-    """The SVG charts, HTML page and PDF of ``chosen`` (none unless html or pdf is in it)."""
-    as_of = assessment.as_of
-    files: dict[str, bytes] = {}
-    if chosen & {"html", "pdf"}:
-        from riskreport.report import render as render_module
-
-        page, svgs = render_module.html(assessment, run_id(text))
-        for name, svg in svgs.items():
-            files[f"charts/{name}-{as_of}.svg"] = svg.encode("utf-8")
-        if "html" in chosen:
-            files[f"brief-{as_of}.html"] = page.encode("utf-8")
-        if "pdf" in chosen:
-            files[f"brief-{as_of}.pdf"], notes = render_module.pdf(
-                page, render_module.created_date(assessment)
-            )
-            for note in notes:
-                # The missing HarfBuzz subset library is said once, by `make install`
-                # (riskreport._system); repeated on every brief it is noise.
-                level = logging.DEBUG if "HarfBuzz" in note else logging.WARNING
-                log.log(level, "weasyprint: %s", note)
     return files
 
 

@@ -6,6 +6,7 @@ import base64
 import datetime as dt
 import logging
 import os
+from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
 
@@ -47,7 +48,7 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
     Each section owns its charts' captions and alt texts; this only puts them together.
     """
     made = [
-        (charts_module.outlook(a), outlook.outlook_alt(a), outlook.OUTLOOK_CAPTION),
+        (charts_module.outlook(a), outlook.outlook_alt(a), outlook.outlook_caption(a)),
         (
             charts_module.band_probabilities(a),
             outlook.probabilities_alt(a),
@@ -93,15 +94,38 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
     return blocks, {chart.name: chart.svg for chart, _, _ in made}
 
 
-def html(a: Assessment, run_id: str) -> tuple[str, dict[str, str]]:
-    """The self-contained HTML brief (charts inline) and the charts' SVG text by name."""
+PARTS = ("all", "brief", "annex")  # the HTML page holds both; each PDF one of them
+
+
+@dataclass(frozen=True)
+class Pages:
+    """The brief's pages as HTML: the self-contained page with brief and annex (``html``),
+    the board brief alone and the staff annex alone (each the source of its PDF), and the
+    charts' SVG text by name."""
+
+    html: str
+    brief: str
+    annex: str
+    svgs: dict[str, str]
+
+
+def pages(a: Assessment, run_id: str) -> Pages:
+    """The HTML page and the two PDF sources, from one context (charts drawn once)."""
     blocks, svgs = chart_blocks(a)
     context = context_module.build(a, blocks, run_id)
     # The stylesheet is the package's own file, not user text: mark it safe so quotes survive.
     css = markupsafe.Markup((_templates_dir() / STYLESHEET).read_text(encoding="utf-8"))
     created = created_date(a).isoformat()
-    text = _environment().get_template(TEMPLATE).render(c=context, css=css, created=created)
-    return text, svgs
+    template = _environment().get_template(TEMPLATE)
+    made = {part: template.render(c=context, css=css, created=created, part=part) for part in PARTS}
+    return Pages(made["all"], made["brief"], made["annex"], svgs)
+
+
+def html(a: Assessment, run_id: str) -> tuple[str, dict[str, str]]:
+    """The self-contained HTML page (brief and annex, charts inline) and the charts' SVG
+    text by name."""
+    made = pages(a, run_id)
+    return made.html, made.svgs
 
 
 class WeasyprintWarnings(logging.Handler):
@@ -123,8 +147,9 @@ def created_date(a: Assessment) -> dt.date:
     return dt.date(start.year, start.month, start.day)
 
 
-def pdf(text: str, created: dt.date) -> tuple[bytes, list[str]]:
-    """The tagged PDF (PDF/UA-1) of an HTML brief, and weasyprint's warnings.
+def pdf(text: str, created: dt.date, *, name: str = "brief") -> tuple[bytes, list[str]]:
+    """The tagged PDF (PDF/UA-1) of an HTML page, and weasyprint's warnings (``name``, the
+    document's kind, "brief" or "annex", makes its fixed PDF identifier).
 
     Font subsetting stamps the embedded fonts with a time; SOURCE_DATE_EPOCH pins it to the
     document date so that identical inputs give a byte-identical PDF.
@@ -150,7 +175,9 @@ def pdf(text: str, created: dt.date) -> tuple[bytes, list[str]]:
         document = weasyprint.HTML(
             string=text, base_url=None, url_fetcher=InlineOnly(allowed_protocols={"data"})
         )
-        data = document.write_pdf(pdf_variant="pdf/ua-1", pdf_identifier=b"riskreport-brief")
+        data = document.write_pdf(
+            pdf_variant="pdf/ua-1", pdf_identifier=f"riskreport-{name}".encode("ascii")
+        )
     finally:
         logger.removeHandler(counter)
         if previous is None:
