@@ -35,7 +35,7 @@ class AccuracyLine:
     is_combination: bool
 
 
-NOT_COMPARABLE = "dropped: older sample, not comparable"
+NOT_COMPARABLE = "dropped; not comparable"
 
 BENCHMARKS_TEXT = (
     "Beside the models: combination, the combined forecast; no-change, the last known "
