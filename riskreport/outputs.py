@@ -91,10 +91,11 @@ def threshold_rows(assessment: Assessment) -> list[dict[str, object]]:
     ]
 
 
-# The files besides the pages, in the two groups that go with the brief's PDF (here) and
-# the annex's (in the forked child): the annex has about twice the brief's pages, so the
-# heavier group rides with the brief.
-WITH_BRIEF: frozenset[OutputFormat] = frozenset({"json", "csv", "xlsx"})
+# The files besides the pages that go with the annex (in the forked child); the rest go with
+# the brief. The annex has about twice the brief's pages and more charts, so every other
+# file rides with the brief (measured on the demo: brief charts and PDF plus the PNG
+# charts, slides and workbook take about as long as the annex's charts and PDF).
+WITH_ANNEX: frozenset[OutputFormat] = frozenset()
 
 
 def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[str, bytes]:
@@ -107,32 +108,41 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
     others = chosen - PAGE_FORMATS
     if not chosen & PAGE_FORMATS:
         return _other_files(others, assessment, text)
+    from riskreport.report import charts  # noqa: F401  (imported once, inherited by the child)
     from riskreport.report import render as render_module
 
-    # Charts, context and HTML once, here; then the two PDFs at the same time, the brief's
-    # here and the annex's in a forked child when a second core is free (riskreport.parallel),
-    # each with its share of the other files. The files are the same either way.
-    made = render_module.pages(assessment, run_id(text))
-    as_of = assessment.as_of
-    files = {f"charts/{name}-{as_of}.svg": svg.encode("utf-8") for name, svg in made.svgs.items()}
-    if "html" in chosen:
-        files[f"brief-{as_of}.html"] = made.html.encode("utf-8")
+    # The two documents are independent: the brief's charts and PDF here, the annex's in a
+    # forked child when a second core is free (riskreport.parallel), each with its share of
+    # the other files; then the HTML page, which holds both, from the charts of both. The
+    # files are the same either way.
+    a, as_of, rid = assessment, assessment.as_of, run_id(text)
     created = render_module.created_date(assessment)
 
-    def with_brief() -> dict[str, bytes]:
-        out = _other_files(others & WITH_BRIEF, assessment, text)
+    def brief_side() -> tuple[render_module.Blocks, dict[str, bytes]]:
+        drawn = render_module.chart_blocks(a, "brief")
+        out = _other_files(others - WITH_ANNEX, a, text)
         if "pdf" in chosen:
-            out[f"brief-{as_of}.pdf"] = _pdf(made.brief, created, "brief")
-        return out
+            page = render_module.page(a, rid, "brief", drawn[0])
+            out[f"brief-{as_of}.pdf"] = _pdf(page, created, "brief")
+        return drawn, out
 
-    def with_annex() -> dict[str, bytes]:
-        out = _other_files(others - WITH_BRIEF, assessment, text)
+    def annex_side() -> tuple[render_module.Blocks, dict[str, bytes]]:
+        drawn = render_module.chart_blocks(a, "annex")
+        out = _other_files(others & WITH_ANNEX, a, text)
         if "pdf" in chosen:
-            out[f"annex-{as_of}.pdf"] = _pdf(made.annex, created, "annex")
-        return out
+            page = render_module.page(a, rid, "annex", drawn[0])
+            out[f"annex-{as_of}.pdf"] = _pdf(page, created, "annex")
+        return drawn, out
 
-    here, there = parallel.both(with_brief, with_annex)
-    return {**there, **here, **files}
+    (brief_blocks, brief_files), (annex_blocks, annex_files) = parallel.both(
+        brief_side, annex_side
+    )
+    blocks = {**brief_blocks[0], **annex_blocks[0]}
+    svgs = {**brief_blocks[1], **annex_blocks[1]}
+    files = {f"charts/{name}-{as_of}.svg": svg.encode("utf-8") for name, svg in svgs.items()}
+    if "html" in chosen:
+        files[f"brief-{as_of}.html"] = render_module.page(a, rid, "all", blocks).encode("utf-8")
+    return {**annex_files, **brief_files, **files}
 
 
 def _pdf(page: str, created: dt.date, name: str) -> bytes:

@@ -6,7 +6,7 @@ import base64
 import datetime as dt
 import logging
 import os
-from dataclasses import dataclass
+from collections.abc import Mapping
 from importlib import resources
 from pathlib import Path
 
@@ -42,11 +42,11 @@ def _uri(svg: str) -> str:
     return "data:image/svg+xml;base64," + base64.b64encode(svg.encode("utf-8")).decode("ascii")
 
 
-def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
-    """The charts as blocks for the template, and their SVG text by name.
+Drawn = tuple[charts_module.Chart, str, str]  # a chart, its alt text and its caption
 
-    Each section owns its charts' captions and alt texts; this only puts them together.
-    """
+
+def _board_charts(a: Assessment) -> list[Drawn]:
+    """The board brief's charts: the outlook, the probabilities by horizon, the change."""
     made = [
         (charts_module.outlook(a), outlook.outlook_alt(a), outlook.outlook_caption(a)),
         (
@@ -55,20 +55,25 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
             outlook.PROBABILITIES_CAPTION,
         ),
     ]
-    for curve in a.density:
-        made.append(
-            (
-                charts_module.density(a, curve),
-                outlook.density_alt(a, curve),
-                outlook.density_caption(a, curve),
-            )
-        )
-    if outlook.rounds_shown(a):
-        made.append((charts_module.round_history(a), outlook.round_alt(a), outlook.ROUND_CAPTION))
     if a.change and a.change.horizons:
         made.append(
             (charts_module.change_parts(a), summary.change_alt(a), summary.change_caption(a))
         )
+    return made
+
+
+def _annex_charts(a: Assessment) -> list[Drawn]:
+    """The staff annex's charts: densities, rounds, weights, PIT and reliability."""
+    made = [
+        (
+            charts_module.density(a, curve),
+            outlook.density_alt(a, curve),
+            outlook.density_caption(a, curve),
+        )
+        for curve in a.density
+    ]
+    if outlook.rounds_shown(a):
+        made.append((charts_module.round_history(a), outlook.round_alt(a), outlook.ROUND_CAPTION))
     if a.combination.method not in ("equal", "given"):
         made.append(
             (charts_module.weights(a), track_record.weights_alt(a), track_record.weights_caption(a))
@@ -85,6 +90,21 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
                 calibration.RELIABILITY_CAPTION,
             )
         )
+    return made
+
+
+Blocks = tuple[dict[str, ChartBlock], dict[str, str]]  # blocks and SVG text, by chart name
+
+
+def chart_blocks(a: Assessment, part: str = "all") -> Blocks:
+    """The charts of ``part`` ("brief", "annex" or "all") as blocks for the template, and
+    their SVG text by name.
+
+    Each section owns its charts' captions and alt texts; this only puts them together.
+    """
+    made = (_board_charts(a) if part != "annex" else []) + (
+        _annex_charts(a) if part != "brief" else []
+    )
     blocks = {
         chart.name: ChartBlock(
             chart.name, _uri(chart.svg), chart.width_mm, chart.height_mm, alt, caption
@@ -97,35 +117,24 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
 PARTS = ("all", "brief", "annex")  # the HTML page holds both; each PDF one of them
 
 
-@dataclass(frozen=True)
-class Pages:
-    """The brief's pages as HTML: the self-contained page with brief and annex (``html``),
-    the board brief alone and the staff annex alone (each the source of its PDF), and the
-    charts' SVG text by name."""
-
-    html: str
-    brief: str
-    annex: str
-    svgs: dict[str, str]
-
-
-def pages(a: Assessment, run_id: str) -> Pages:
-    """The HTML page and the two PDF sources, from one context (charts drawn once)."""
-    blocks, svgs = chart_blocks(a)
+def page(a: Assessment, run_id: str, part: str, blocks: Mapping[str, ChartBlock]) -> str:
+    """One HTML page of ``part``: "all" (the self-contained page with brief and annex),
+    "brief" or "annex" (the sources of the two PDFs), with the charts drawn for it."""
+    if part not in PARTS:
+        raise ValueError(f"part: expected one of {PARTS}, got {part!r}")
     context = context_module.build(a, blocks, run_id)
     # The stylesheet is the package's own file, not user text: mark it safe so quotes survive.
     css = markupsafe.Markup((_templates_dir() / STYLESHEET).read_text(encoding="utf-8"))
     created = created_date(a).isoformat()
     template = _environment().get_template(TEMPLATE)
-    made = {part: template.render(c=context, css=css, created=created, part=part) for part in PARTS}
-    return Pages(made["all"], made["brief"], made["annex"], svgs)
+    return template.render(c=context, css=css, created=created, part=part)
 
 
 def html(a: Assessment, run_id: str) -> tuple[str, dict[str, str]]:
     """The self-contained HTML page (brief and annex, charts inline) and the charts' SVG
     text by name."""
-    made = pages(a, run_id)
-    return made.html, made.svgs
+    blocks, svgs = chart_blocks(a)
+    return page(a, run_id, "all", blocks), svgs
 
 
 class WeasyprintWarnings(logging.Handler):
