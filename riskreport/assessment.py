@@ -355,6 +355,28 @@ class Observation:
 
 
 @dataclass(frozen=True)
+class ModelForecast:
+    """One model's forecast in the current round for one reported period (the annex's
+    table and chart of each model's path)."""
+
+    model: str
+    period: str
+    h: int
+    value: float
+
+
+@dataclass(frozen=True)
+class PastError:
+    """One past miss of the combined forecast, outcome minus forecast (pp), by the round
+    that made it (the annex's chart of past errors over time)."""
+
+    origin: str
+    period: str
+    h: int
+    error: float
+
+
+@dataclass(frozen=True)
 class Assessment:
     """All numbers of one brief. Build it with :func:`riskreport.assess`."""
 
@@ -389,6 +411,8 @@ class Assessment:
     round_history: tuple[RoundPoint, ...] = ()
     year_history: tuple[YearPoint, ...] = ()
     score_against: str | None = None  # "latest" | "first-release"; None: one vintage only
+    model_forecasts: tuple[ModelForecast, ...] = ()
+    past_errors: tuple[PastError, ...] = ()  # at the first horizon and the policy horizon
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after judgement unless ``model_based``)."""

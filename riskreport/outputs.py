@@ -134,9 +134,7 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
             out[f"annex-{as_of}.pdf"] = _pdf(page, created, "annex")
         return drawn, out
 
-    (brief_blocks, brief_files), (annex_blocks, annex_files) = parallel.both(
-        brief_side, annex_side
-    )
+    (brief_blocks, brief_files), (annex_blocks, annex_files) = parallel.both(brief_side, annex_side)
     blocks = {**brief_blocks[0], **annex_blocks[0]}
     svgs = {**brief_blocks[1], **annex_blocks[1]}
     files = {f"charts/{name}-{as_of}.svg": svg.encode("utf-8") for name, svg in svgs.items()}

@@ -298,6 +298,8 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             for h in (cfg.brief.density_horizons or (cfg.brief.policy_horizon,))
         ),
         score_against=cfg.inputs.score_against if act.vintages else None,
+        model_forecasts=records.model_forecasts(cfg, panel),
+        past_errors=records.past_errors(cfg, panel, errors),
     )
 
 

@@ -22,7 +22,9 @@ from riskreport.assessment import (
     HorizonResult,
     InputRecord,
     InterceptRow,
+    ModelForecast,
     Observation,
+    PastError,
     PathResult,
     Quantiles,
     RowCount,
@@ -189,6 +191,32 @@ def observations(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
     return tuple(
         Observation(periods.label(int(p), cfg.brief.frequency), float(v))
         for p, v in zip(act.period[keep], act.value[keep], strict=True)
+    )
+
+
+def model_forecasts(cfg: Config, panel: Panel) -> tuple[ModelForecast, ...]:
+    """Each model's forecast of every reported period in the current round (a model that
+    gave none for a period has no row there)."""
+    current = panel.forecasts[:, -1, : cfg.brief.horizons + 1]
+    return tuple(
+        ModelForecast(name, periods.label(cfg.brief.as_of + h, cfg.brief.frequency), h, float(v))
+        for k, name in enumerate(panel.models)
+        for h, v in enumerate(current[k])
+        if np.isfinite(v)
+    )
+
+
+def past_errors(cfg: Config, panel: Panel, errors: np.ndarray) -> tuple[PastError, ...]:
+    """The combined forecast's known past misses at the first horizon and the policy
+    horizon, by origin (``errors``: origins x horizons, outcome minus forecast)."""
+    frequency = cfg.brief.frequency
+    return tuple(
+        PastError(
+            periods.label(int(o), frequency), periods.label(int(o) + h, frequency), h, float(e)
+        )
+        for h in sorted({0, cfg.brief.policy_horizon})
+        for o, e in zip(panel.origins, errors[:, h], strict=True)
+        if np.isfinite(e)
     )
 
 

@@ -75,7 +75,7 @@ def build(a: Assessment, charts: Mapping[str, ChartBlock], run_id: str) -> Brief
         outlook=outlook.context(a, charts),
         judgement=judgement.context(a),
         howsure=howsure.context(a),
-        annex=annex.context(a),
+        annex=annex.context(a, charts),
         track_record=track_record.context(a, charts),
         calibration=calibration.context(a, charts),
         method=method.context(a),

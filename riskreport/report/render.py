@@ -16,8 +16,9 @@ import markupsafe
 from riskreport.assessment import Assessment
 from riskreport.reading import periods
 from riskreport.report import charts as charts_module
+from riskreport.report import charts_annex
 from riskreport.report import context as context_module
-from riskreport.report.sections import calibration, outlook, summary, track_record
+from riskreport.report.sections import annex, calibration, outlook, summary, track_record
 from riskreport.report.sections.common import ChartBlock
 
 TEMPLATE = "brief.html"
@@ -78,6 +79,10 @@ def _annex_charts(a: Assessment) -> list[Drawn]:
         made.append(
             (charts_module.weights(a), track_record.weights_alt(a), track_record.weights_caption(a))
         )
+    if a.model_forecasts:
+        made.append((charts_annex.model_paths(a), annex.models_alt(a), annex.MODELS_CAPTION))
+    if a.past_errors:
+        made.append((charts_annex.past_errors(a), annex.errors_alt(a), annex.ERRORS_CAPTION))
     if a.calibration.pit:
         made.append(
             (charts_module.pit_histograms(a), calibration.pit_alt(a), calibration.PIT_CAPTION)

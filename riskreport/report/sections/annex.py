@@ -4,14 +4,17 @@ calibration, the method and data, and the appendix, each phrased by its own sect
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
 from riskreport.report.sections.common import (
+    ChartBlock,
     Table,
     ahead_header,
     ahead_label,
+    chart,
     summary_horizons,
     units,
 )
@@ -66,6 +69,56 @@ def bias_lines(a: Assessment) -> tuple[AccuracyLine, ...]:
     )
 
 
+def model_lines(a: Assessment) -> tuple[AccuracyLine, ...]:
+    """Each model's forecast in the current round at the horizons shown, then the combined
+    forecast (a model with no forecast for a period shows a dash)."""
+    shown = summary_horizons(a)
+    by_key = {(r.model, r.h): r.value for r in a.model_forecasts}
+    names = list(dict.fromkeys(r.model for r in a.model_forecasts))
+    lines = [
+        AccuracyLine(
+            name,
+            tuple(
+                fmt.number(by_key[(name, h)]) if (name, h) in by_key else "\u2013" for h in shown
+            ),
+            False,
+        )
+        for name in names
+    ]
+    combined = tuple(fmt.number(a.horizon_result(h).point_forecast) for h in shown)
+    return (*lines, AccuracyLine("combination", combined, True))
+
+
+def models_alt(a: Assessment) -> str:
+    """Alt text of the chart of each model's path."""
+    policy = a.policy_horizon
+    at = sorted((r.value, r.model) for r in a.model_forecasts if r.h == policy)
+    spread = (
+        f"at the policy horizon they range from {fmt.number(at[0][0])}% ({at[0][1]}) to "
+        f"{fmt.number(at[-1][0])}% ({at[-1][1]})"
+        if at
+        else "no model reaches the policy horizon"
+    )
+    return (
+        f"Line chart of each model's forecast path in the current round and the combined "
+        f"forecast by {units(a)} ahead; {spread}; combined "
+        f"{fmt.number(a.policy.point_forecast)}%. The numbers are in the table beside it."
+    )
+
+
+def errors_alt(a: Assessment) -> str:
+    """Alt text of the chart of past errors over time."""
+    hs = sorted({e.h for e in a.past_errors})
+    parts = []
+    for h in hs:
+        values = [e.error for e in a.past_errors if e.h == h]
+        parts.append(
+            f"{h} {units(a)} ahead: {len(values)} rounds, from {fmt.number(min(values))} to "
+            f"{fmt.number(max(values))} pp"
+        )
+    return "Line chart of the combined forecast's past errors by round: " + "; ".join(parts) + "."
+
+
 @dataclass(frozen=True)
 class AnnexContext:
     """The annex's opening and its own tables."""
@@ -78,10 +131,27 @@ class AnnexContext:
     bias_heading: str
     bias_text: str
     bias: Table[AccuracyLine]
+    models_heading: str
+    models_chart: ChartBlock | None
+    models: Table[AccuracyLine]
+    errors_heading: str
+    errors_text: str
+    errors_chart: ChartBlock | None
 
 
-def context(a: Assessment) -> AnnexContext:
-    """The annex's opening lines and its quantile and bias tables."""
+MODELS_CAPTION = (
+    "Each model's forecast path in the current round (grey, one line style each) and the "
+    "combined forecast (brown); the target band hatched."
+)
+ERRORS_CAPTION = (
+    "Past errors of the combined forecast (outcome minus forecast, pp) by the round that made "
+    "them, at the first horizon and at the policy horizon: a change in their size over the "
+    "years is a change of regime the error window may or may not cover."
+)
+
+
+def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> AnnexContext:
+    """The annex's opening lines, its tables and its own charts (looked up in ``charts``)."""
     shown = summary_horizons(a)
     return AnnexContext(
         heading="Staff annex",
@@ -114,4 +184,21 @@ def context(a: Assessment) -> AnnexContext:
             AccuracyLine("Forecaster", tuple(ahead_header(a, h) for h in shown), False),
             bias_lines(a),
         ),
+        models_heading="Each model's path in the current round",
+        models_chart=chart(charts, "model-paths"),
+        models=Table(
+            f"Forecast of each model and the combined forecast, %, by {units(a)} ahead",
+            AccuracyLine("Model", tuple(ahead_header(a, h) for h in shown), False),
+            model_lines(a),
+        ),
+        errors_heading="Past errors over time",
+        errors_text=(
+            "Today's probabilities rest on "
+            + (
+                "every one of these misses known at the time."
+                if a.uncertainty.window == 0
+                else f"the last {a.uncertainty.window} of each horizon's misses."
+            )
+        ),
+        errors_chart=chart(charts, "past-errors"),
     )

@@ -44,11 +44,15 @@ def reliability_sentence(a: Assessment) -> str:
 
 def window_caution(a: Assessment) -> str:
     """The error sample the probabilities rest on."""
-    unit = "months" if a.frequency == "monthly" else "quarters"
+    which = (
+        "every past forecast with a known outcome"
+        if a.uncertainty.window == 0
+        else f"at most the last {a.uncertainty.window} forecasts with a known outcome at "
+        "each horizon"
+    )
     return (
-        f"The probabilities rest on the misses of at most the last {a.uncertainty.window} "
-        f"{unit} of forecasts with a known outcome: a shock unlike any in that window is not "
-        "in them."
+        f"The probabilities rest on the misses of {which}: a shock unlike any in that record "
+        "is not in them."
     )
 
 
