@@ -162,6 +162,7 @@ class JudgementContext:
     brief has neither)."""
 
     shown: bool
+    page_shown: bool  # the board brief's third page: judgement, scenarios or a change
     page_heading: str
     none_text: str
     heading: str
@@ -187,6 +188,7 @@ def context(a: Assessment) -> JudgementContext:
     )
     return JudgementContext(
         shown=bool(a.judgement or a.scenarios),
+        page_shown=bool(a.judgement or a.scenarios or (a.change and a.change.horizons)),
         page_heading=page_title(a),
         none_text="No staff judgement is applied and no scenario is set in this brief: the "
         "probabilities are the models' and the track record's alone.",

@@ -146,8 +146,8 @@ PATHS_TEXT = (
 )
 PROBABILITIES_CAPTION = (
     "Probability of inflation below, inside and above the band by how far ahead; the "
-    "shading is the plausible range of the probability of inside (90% of resamples of the "
-    "past errors)."
+    "shading is the plausible range of the probability of inside (how far it could be off "
+    "because the record of past misses is short; 9 times in 10 it would fall there)."
 )
 
 
