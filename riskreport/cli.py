@@ -295,7 +295,7 @@ def _build(
         steps.close()
     for p in written.paths:
         log.debug("wrote %s", p)
-    pdf = [p for p in written.paths if p.suffix == ".pdf"]
+    pdf = [p for p in written.paths if p.suffix == ".pdf" and p.name.startswith("brief-")]
     log.info("brief written to %s", pdf[0] if pdf else out_dir)
     return {
         "status": "ok",
