@@ -189,6 +189,8 @@ def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -
         files[f"tables/scenarios-{as_of}.csv"] = _csv(
             {"scenario": sc.name, **plain(row)} for sc in a.scenarios for row in sc.horizons
         )
+        files[f"tables/model-forecasts-{as_of}.csv"] = _csv(_rows(a.model_forecasts))
+        files[f"tables/past-errors-{as_of}.csv"] = _csv(_rows(a.past_errors))
         if a.thresholds:
             files[f"tables/thresholds-{as_of}.csv"] = _csv(threshold_rows(a))
         if a.change:

@@ -28,6 +28,8 @@ SHEETS = [
     "accuracy",
     "calibration",
     "rounds",
+    "model-forecasts",
+    "past-errors",
     "notes",
 ]
 
