@@ -344,6 +344,17 @@ class Observation:
 
 
 @dataclass(frozen=True)
+class PastError:
+    """One past miss of the combined forecast, outcome minus forecast (pp), by the round
+    that made it (the annex's chart of past errors over time)."""
+
+    origin: str
+    period: str
+    h: int
+    error: float
+
+
+@dataclass(frozen=True)
 class Assessment:
     """All numbers of one brief. Build it with :func:`riskreport.assess`."""
 
@@ -386,6 +397,7 @@ class Assessment:
     record_by_situation: tuple[SituationRow, ...] = ()
     attribution: tuple[AttributionRow, ...] = ()
     leave_one_out: tuple[LeaveOneOut, ...] = ()
+    past_errors: tuple[PastError, ...] = ()  # at the first horizon and the policy horizon
 
     def horizon_result(self, h: int, *, model_based: bool = False) -> HorizonResult:
         """The result at horizon ``h`` (after judgement unless ``model_based``)."""

@@ -300,7 +300,7 @@ def _build(
         log.debug("wrote %s", p)
     for warning in assessment.warnings:
         log.warning("warning: %s", warning)
-    pdf = [p for p in written.paths if p.suffix == ".pdf"]
+    pdf = [p for p in written.paths if p.suffix == ".pdf" and p.name.startswith("brief-")]
     from riskreport.report.tables import shown
 
     log.info("brief written to %s", shown(pdf[0] if pdf else out_dir))

@@ -9,6 +9,7 @@ replaced only with ``force``; an identical one is left as it is.
 from __future__ import annotations
 
 import csv
+import datetime as dt
 import hashlib
 import io
 import logging
@@ -104,6 +105,13 @@ def situation_rows(assessment: Assessment) -> list[dict[str, object]]:
     return out
 
 
+# The files besides the pages that go with the annex (in the forked child); the rest go with
+# the brief. The annex has about twice the brief's pages and more charts, so every other
+# file rides with the brief (measured on the demo: brief charts and PDF plus the PNG
+# charts, slides and workbook take about as long as the annex's charts and PDF).
+WITH_ANNEX: frozenset[OutputFormat] = frozenset()
+
+
 def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[str, bytes]:
     """Every output file of a brief, by path relative to the output directory."""
     chosen = set(formats)
@@ -112,23 +120,54 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
         raise ValueError(f"formats: expected items from {OUTPUT_FORMATS}, got {sorted(unknown)}")
     text = assessment.to_json()
     others = chosen - PAGE_FORMATS
-
-    def page() -> dict[str, bytes]:
-        return _page_files(chosen, assessment, text)
-
-    def rest() -> dict[str, bytes]:
+    if not chosen & PAGE_FORMATS:
         return _other_files(others, assessment, text)
+    from riskreport.report import charts  # noqa: F401  (imported once, inherited by the child)
+    from riskreport.report import render as render_module
 
-    if chosen & PAGE_FORMATS and others:
-        # The page (SVG charts, HTML, PDF) here, the rest in a forked child when a second
-        # core is free (riskreport.parallel); the files are the same either way. The chart
-        # modules both sides use are imported first, so the child inherits them.
-        from riskreport.report import charts  # noqa: F401
+    # The two documents are independent: the brief's charts and PDF here, the annex's in a
+    # forked child when a second core is free (riskreport.parallel), each with its share of
+    # the other files; then the HTML page, which holds both, from the charts of both. The
+    # files are the same either way.
+    a, as_of, rid = assessment, assessment.as_of, run_id(text)
+    created = render_module.created_date(assessment)
 
-        made, more = parallel.both(page, rest)
-    else:
-        made, more = page(), rest()
-    return {**more, **made}
+    def brief_side() -> tuple[render_module.Blocks, dict[str, bytes]]:
+        drawn = render_module.chart_blocks(a, "brief")
+        out = _other_files(others - WITH_ANNEX, a, text)
+        if "pdf" in chosen:
+            page = render_module.page(a, rid, "brief", drawn[0])
+            out[f"brief-{as_of}.pdf"] = _pdf(page, created, "brief")
+        return drawn, out
+
+    def annex_side() -> tuple[render_module.Blocks, dict[str, bytes]]:
+        drawn = render_module.chart_blocks(a, "annex")
+        out = _other_files(others & WITH_ANNEX, a, text)
+        if "pdf" in chosen:
+            page = render_module.page(a, rid, "annex", drawn[0])
+            out[f"annex-{as_of}.pdf"] = _pdf(page, created, "annex")
+        return drawn, out
+
+    (brief_blocks, brief_files), (annex_blocks, annex_files) = parallel.both(brief_side, annex_side)
+    blocks = {**brief_blocks[0], **annex_blocks[0]}
+    svgs = {**brief_blocks[1], **annex_blocks[1]}
+    files = {f"charts/{name}-{as_of}.svg": svg.encode("utf-8") for name, svg in svgs.items()}
+    if "html" in chosen:
+        files[f"brief-{as_of}.html"] = render_module.page(a, rid, "all", blocks).encode("utf-8")
+    return {**annex_files, **brief_files, **files}
+
+
+def _pdf(page: str, created: dt.date, name: str) -> bytes:
+    """One PDF (brief or annex) of its HTML page, weasyprint's warnings logged."""
+    from riskreport.report import render as render_module
+
+    data, notes = render_module.pdf(page, created, name=name)
+    for note in notes:
+        # The missing HarfBuzz subset library is said once, by `make install`
+        # (riskreport._system); repeated on every brief it is noise.
+        level = logging.DEBUG if "HarfBuzz" in note else logging.WARNING
+        log.log(level, "weasyprint: %s", note)
+    return data
 
 
 def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -> dict[str, bytes]:
@@ -168,6 +207,8 @@ def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -
         files[f"tables/scenarios-{as_of}.csv"] = _csv(
             {"scenario": sc.name, **plain(row)} for sc in a.scenarios for row in sc.horizons
         )
+        files[f"tables/model-forecasts-{as_of}.csv"] = _csv(_rows(a.model_forecasts))
+        files[f"tables/past-errors-{as_of}.csv"] = _csv(_rows(a.past_errors))
         if a.thresholds:
             files[f"tables/thresholds-{as_of}.csv"] = _csv(threshold_rows(a))
         if a.change:
@@ -196,30 +237,6 @@ def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -
             for picture in pictures:
                 files[f"{folder}/{picture.name}-{as_of}.png"] = picture.png
                 files[f"{folder}/{picture.name}-{as_of}.txt"] = (picture.alt + "\n").encode("utf-8")
-    return files
-
-
-def _page_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -> dict[str, bytes]:
-    """The SVG charts, HTML page and PDF of ``chosen`` (none unless html or pdf is in it)."""
-    as_of = assessment.as_of
-    files: dict[str, bytes] = {}
-    if chosen & {"html", "pdf"}:
-        from riskreport.report import render as render_module
-
-        page, svgs = render_module.html(assessment, run_id(text))
-        for name, svg in svgs.items():
-            files[f"charts/{name}-{as_of}.svg"] = svg.encode("utf-8")
-        if "html" in chosen:
-            files[f"brief-{as_of}.html"] = page.encode("utf-8")
-        if "pdf" in chosen:
-            files[f"brief-{as_of}.pdf"], notes = render_module.pdf(
-                page, render_module.created_date(assessment)
-            )
-            for note in notes:
-                # The missing HarfBuzz subset library is said once, by `make install`
-                # (riskreport._system); repeated on every brief it is noise.
-                level = logging.DEBUG if "HarfBuzz" in note else logging.WARNING
-                log.log(level, "weasyprint: %s", note)
     return files
 
 

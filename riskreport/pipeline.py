@@ -365,6 +365,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             window=cfg.combination.window,
             shrinkage=cfg.combination.shrinkage,
         ),
+        past_errors=records.past_errors(cfg, panel, errors),
     )
 
 

@@ -23,6 +23,7 @@ from riskreport.assessment import (
     InputRecord,
     InterceptRow,
     Observation,
+    PastError,
     PathResult,
     Quantiles,
     RowCount,
@@ -189,6 +190,20 @@ def observations(act: Actuals, cfg: Config) -> tuple[Observation, ...]:
     return tuple(
         Observation(periods.label(int(p), cfg.brief.frequency), float(v))
         for p, v in zip(act.period[keep], act.value[keep], strict=True)
+    )
+
+
+def past_errors(cfg: Config, panel: Panel, errors: np.ndarray) -> tuple[PastError, ...]:
+    """The combined forecast's known past misses at the first horizon and the policy
+    horizon, by origin (``errors``: origins x horizons, outcome minus forecast)."""
+    frequency = cfg.brief.frequency
+    return tuple(
+        PastError(
+            periods.label(int(o), frequency), periods.label(int(o) + h, frequency), h, float(e)
+        )
+        for h in sorted({0, cfg.brief.policy_horizon})
+        for o, e in zip(panel.origins, errors[:, h], strict=True)
+        if np.isfinite(e)
     )
 
 

@@ -25,6 +25,7 @@ def test_template_reads_one_context_per_section() -> None:
     # Every name the template reads from the context is a document field or a section.
     names = set(re.findall(r"\bc\.([a-z_]+)", _template()))
     sections = {"summary", "outlook", "judgement", "track_record", "calibration", "method"}
-    sections |= {"appendix"}
+    sections |= {"appendix", "howsure", "annex"}
     document = {"language", "title", "as_of", "institution", "description", "as_of_label", "footer"}
+    document |= {"annex_title", "annex_footer"}
     assert names <= sections | document, names - sections - document

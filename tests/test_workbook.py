@@ -32,6 +32,8 @@ SHEETS = [
     "attribution",
     "leave-one-out",
     "rounds",
+    "model-forecasts",
+    "past-errors",
     "notes",
 ]
 

@@ -389,6 +389,15 @@ PART_STYLE: dict[str, dict[str, Any]] = {
 
 def change_parts(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Chart:
     """Change in P(inside) since the previous brief, split into its three parts, by period."""
+    with matplotlib.rc_context(_RC):
+        fig = change_parts_figure(assessment, width_mm, height_mm)
+        return Chart("change", _svg(fig), width_mm, height_mm)
+
+
+def change_parts_figure(
+    assessment: Assessment, width_mm: float = 170, height_mm: float = 48
+) -> Figure:
+    """The change chart's Figure (for SVG in the brief and PNG on slides)."""
     change = assessment.change.horizons if assessment.change else ()
     wanted = set(summary_horizons(assessment))
     shown = {r.period for r in assessment.horizons if r.h in wanted}
@@ -427,7 +436,7 @@ def change_parts(assessment: Assessment, width_mm: float = 170, height_mm: float
         ax.legend(
             fontsize=7.5, frameon=False, ncol=4, loc="upper center", bbox_to_anchor=(0.5, -0.14)
         )
-        return Chart("change", _svg(fig), width_mm, height_mm)
+        return fig
 
 
 MODEL_SHADES = (

@@ -12,8 +12,10 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.report.sections import (
+    annex,
     appendix,
     calibration,
+    howsure,
     judgement,
     method,
     outlook,
@@ -39,9 +41,13 @@ class BriefContext:
     description: str
     as_of_label: str
     footer: str
+    annex_title: str
+    annex_footer: str
     summary: summary.SummaryContext
     outlook: outlook.OutlookContext
     judgement: judgement.JudgementContext
+    howsure: howsure.HowSureContext
+    annex: annex.AnnexContext
     track_record: track_record.TrackRecordContext
     calibration: calibration.CalibrationContext
     method: method.MethodContext
@@ -61,10 +67,15 @@ def build(a: Assessment, charts: Mapping[str, ChartBlock], run_id: str) -> Brief
             f"Probabilities of inflation below, inside and above the target band, as of {a.as_of}"
         ),
         as_of_label=f"as of {a.as_of}",
-        footer=f"Run {run_id}. {FOOTER}",
+        # The run id means nothing to a board member: the staff annex carries it.
+        footer=FOOTER,
+        annex_title=f"{a.title}: staff annex",
+        annex_footer=f"Run {run_id}. {FOOTER}",
         summary=summary.context(a),
         outlook=outlook.context(a, charts),
         judgement=judgement.context(a),
+        howsure=howsure.context(a),
+        annex=annex.context(a, charts),
         track_record=track_record.context(a, charts),
         calibration=calibration.context(a, charts),
         method=method.context(a),

@@ -6,6 +6,7 @@ import base64
 import datetime as dt
 import logging
 import os
+from collections.abc import Mapping
 from importlib import resources
 from pathlib import Path
 
@@ -15,8 +16,9 @@ import markupsafe
 from riskreport.assessment import Assessment
 from riskreport.reading import periods
 from riskreport.report import charts as charts_module
+from riskreport.report import charts_annex
 from riskreport.report import context as context_module
-from riskreport.report.sections import calibration, outlook, summary, track_record
+from riskreport.report.sections import annex, calibration, outlook, summary, track_record
 from riskreport.report.sections.common import ChartBlock
 
 TEMPLATE = "brief.html"
@@ -41,37 +43,46 @@ def _uri(svg: str) -> str:
     return "data:image/svg+xml;base64," + base64.b64encode(svg.encode("utf-8")).decode("ascii")
 
 
-def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
-    """The charts as blocks for the template, and their SVG text by name.
+Drawn = tuple[charts_module.Chart, str, str]  # a chart, its alt text and its caption
 
-    Each section owns its charts' captions and alt texts; this only puts them together.
-    """
+
+def _board_charts(a: Assessment) -> list[Drawn]:
+    """The board brief's charts: the outlook, the probabilities by horizon, the change."""
     made = [
-        (charts_module.outlook(a), outlook.outlook_alt(a), outlook.OUTLOOK_CAPTION),
+        (charts_module.outlook(a), outlook.outlook_alt(a), outlook.outlook_caption(a)),
         (
             charts_module.band_probabilities(a),
             outlook.probabilities_alt(a),
             outlook.PROBABILITIES_CAPTION,
         ),
     ]
-    for curve in a.density:
-        made.append(
-            (
-                charts_module.density(a, curve),
-                outlook.density_alt(a, curve),
-                outlook.density_caption(a, curve),
-            )
-        )
-    if outlook.rounds_shown(a):
-        made.append((charts_module.round_history(a), outlook.round_alt(a), outlook.ROUND_CAPTION))
     if a.change and a.change.horizons:
         made.append(
             (charts_module.change_parts(a), summary.change_alt(a), summary.change_caption(a))
         )
+    return made
+
+
+def _annex_charts(a: Assessment) -> list[Drawn]:
+    """The staff annex's charts: densities, rounds, weights, PIT and reliability."""
+    made = [
+        (
+            charts_module.density(a, curve),
+            outlook.density_alt(a, curve),
+            outlook.density_caption(a, curve),
+        )
+        for curve in a.density
+    ]
+    if outlook.rounds_shown(a):
+        made.append((charts_module.round_history(a), outlook.round_alt(a), outlook.ROUND_CAPTION))
     if a.combination.method not in ("equal", "given"):
         made.append(
             (charts_module.weights(a), track_record.weights_alt(a), track_record.weights_caption(a))
         )
+    if a.model_forecasts:
+        made.append((charts_annex.model_paths(a), annex.models_alt(a), annex.MODELS_CAPTION))
+    if a.past_errors:
+        made.append((charts_annex.past_errors(a), annex.errors_alt(a), annex.ERRORS_CAPTION))
     if a.calibration.pit:
         made.append(
             (charts_module.pit_histograms(a), calibration.pit_alt(a), calibration.PIT_CAPTION)
@@ -84,6 +95,21 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
                 calibration.RELIABILITY_CAPTION,
             )
         )
+    return made
+
+
+Blocks = tuple[dict[str, ChartBlock], dict[str, str]]  # blocks and SVG text, by chart name
+
+
+def chart_blocks(a: Assessment, part: str = "all") -> Blocks:
+    """The charts of ``part`` ("brief", "annex" or "all") as blocks for the template, and
+    their SVG text by name.
+
+    Each section owns its charts' captions and alt texts; this only puts them together.
+    """
+    made = (_board_charts(a) if part != "annex" else []) + (
+        _annex_charts(a) if part != "brief" else []
+    )
     blocks = {
         chart.name: ChartBlock(
             chart.name, _uri(chart.svg), chart.width_mm, chart.height_mm, alt, caption
@@ -93,15 +119,27 @@ def chart_blocks(a: Assessment) -> tuple[dict[str, ChartBlock], dict[str, str]]:
     return blocks, {chart.name: chart.svg for chart, _, _ in made}
 
 
-def html(a: Assessment, run_id: str) -> tuple[str, dict[str, str]]:
-    """The self-contained HTML brief (charts inline) and the charts' SVG text by name."""
-    blocks, svgs = chart_blocks(a)
+PARTS = ("all", "brief", "annex")  # the HTML page holds both; each PDF one of them
+
+
+def page(a: Assessment, run_id: str, part: str, blocks: Mapping[str, ChartBlock]) -> str:
+    """One HTML page of ``part``: "all" (the self-contained page with brief and annex),
+    "brief" or "annex" (the sources of the two PDFs), with the charts drawn for it."""
+    if part not in PARTS:
+        raise ValueError(f"part: expected one of {PARTS}, got {part!r}")
     context = context_module.build(a, blocks, run_id)
     # The stylesheet is the package's own file, not user text: mark it safe so quotes survive.
     css = markupsafe.Markup((_templates_dir() / STYLESHEET).read_text(encoding="utf-8"))
     created = created_date(a).isoformat()
-    text = _environment().get_template(TEMPLATE).render(c=context, css=css, created=created)
-    return text, svgs
+    template = _environment().get_template(TEMPLATE)
+    return template.render(c=context, css=css, created=created, part=part)
+
+
+def html(a: Assessment, run_id: str) -> tuple[str, dict[str, str]]:
+    """The self-contained HTML page (brief and annex, charts inline) and the charts' SVG
+    text by name."""
+    blocks, svgs = chart_blocks(a)
+    return page(a, run_id, "all", blocks), svgs
 
 
 class WeasyprintWarnings(logging.Handler):
@@ -123,8 +161,9 @@ def created_date(a: Assessment) -> dt.date:
     return dt.date(start.year, start.month, start.day)
 
 
-def pdf(text: str, created: dt.date) -> tuple[bytes, list[str]]:
-    """The tagged PDF (PDF/UA-1) of an HTML brief, and weasyprint's warnings.
+def pdf(text: str, created: dt.date, *, name: str = "brief") -> tuple[bytes, list[str]]:
+    """The tagged PDF (PDF/UA-1) of an HTML page, and weasyprint's warnings (``name``, the
+    document's kind, "brief" or "annex", makes its fixed PDF identifier).
 
     Font subsetting stamps the embedded fonts with a time; SOURCE_DATE_EPOCH pins it to the
     document date so that identical inputs give a byte-identical PDF.
@@ -150,7 +189,9 @@ def pdf(text: str, created: dt.date) -> tuple[bytes, list[str]]:
         document = weasyprint.HTML(
             string=text, base_url=None, url_fetcher=InlineOnly(allowed_protocols={"data"})
         )
-        data = document.write_pdf(pdf_variant="pdf/ua-1", pdf_identifier=b"riskreport-brief")
+        data = document.write_pdf(
+            pdf_variant="pdf/ua-1", pdf_identifier=f"riskreport-{name}".encode("ascii")
+        )
     finally:
         logger.removeHandler(counter)
         if previous is None:

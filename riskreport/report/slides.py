@@ -20,7 +20,7 @@ from PIL.PngImagePlugin import PngInfo
 
 from riskreport.assessment import Assessment
 from riskreport.report import charts
-from riskreport.report.sections import outlook
+from riskreport.report.sections import outlook, summary
 
 SLIDE_INCHES = (13.33, 7.5)
 SLIDE_DPI = 200
@@ -65,6 +65,15 @@ def _charts(a: Assessment) -> list[tuple[str, Callable[[float, float], Figure], 
             outlook.probabilities_alt(a),
         ),
     ]
+    if a.change and a.change.horizons:
+        # The board brief's third chart: the change since the last brief, by period.
+        made.append(
+            (
+                "change",
+                lambda w, h: charts.change_parts_figure(a, w, h),
+                summary.change_alt(a),
+            )
+        )
     for c in a.density:
         made.append(
             (
@@ -77,7 +86,8 @@ def _charts(a: Assessment) -> list[tuple[str, Callable[[float, float], Figure], 
 
 
 def slides(a: Assessment) -> tuple[Picture, ...]:
-    """The outlook, probability and density charts at slide size (16:9, 200 dpi)."""
+    """The board brief's charts (outlook, probabilities, change) and the density charts at
+    slide size (16:9, 200 dpi)."""
     width_mm = SLIDE_INCHES[0] * 25.4 / ENLARGE
     height_mm = SLIDE_INCHES[1] * 25.4 / ENLARGE
     return tuple(
@@ -96,7 +106,11 @@ def slides(a: Assessment) -> tuple[Picture, ...]:
     )
 
 
-BRIEF_SIZES_MM = {"outlook": (170.0, 66.0), "band-probabilities": (170.0, 46.0)}
+BRIEF_SIZES_MM = {
+    "outlook": (170.0, 66.0),
+    "band-probabilities": (170.0, 46.0),
+    "change": (170.0, 48.0),
+}
 
 
 def pictures(a: Assessment) -> tuple[Picture, ...]:

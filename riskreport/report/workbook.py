@@ -354,6 +354,16 @@ def tables(a: Assessment) -> tuple[Table, ...]:
                 for r in a.round_history
             ],
         ),
+        table(
+            "model-forecasts",
+            ("model", "period", "h", "value"),
+            [(r.model, r.period, r.h, r.value) for r in a.model_forecasts],
+        ),
+        table(
+            "past-errors",
+            ("origin", "period", "h", "error"),
+            [(e.origin, e.period, e.h, e.error) for e in a.past_errors],
+        ),
     ]
     return tuple(out)
 

@@ -120,6 +120,7 @@ class AppendixContext:
     """The appendix as printed: every period, the thresholds and the calibration data."""
 
     heading: str
+    data_heading: str
     text: str
     periods: Table[ProbabilityRow]
     thresholds_heading: str
@@ -148,7 +149,8 @@ def context(a: Assessment) -> AppendixContext:
     """The appendix."""
     ahead = ahead_label(a)
     return AppendixContext(
-        heading="Appendix: probabilities by period",
+        heading="Probabilities by period",
+        data_heading="Thresholds and the data behind the calibration charts",
         text=lead(a),
         periods=Table(
             "Below, inside and above the band for every reported period, after judgement",

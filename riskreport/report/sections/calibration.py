@@ -33,7 +33,7 @@ COVERAGE_TOO_NARROW = 0.85  # 90% ranges holding less often than this were too n
 COVERAGE_TOO_WIDE = 0.97  # and more often than this, too wide (common practice, no source)
 
 
-def _coverage_lines(a: Assessment, shown: tuple[int, ...]) -> list[str]:
+def coverage_lines(a: Assessment, shown: tuple[int, ...]) -> list[str]:
     """What the replayed 90% ranges say, naming only the horizons that could be checked."""
     checked = {h: cv for h in shown if (cv := coverage(a, h, 0.9)) is not None}
     if not checked:
@@ -96,7 +96,7 @@ def calibration(
         "from the errors known then and scores the outcome that followed; staff judgement "
         "is not replayed."
     ]
-    lines.extend(_coverage_lines(a, shown))
+    lines.extend(coverage_lines(a, shown))
     tests = {(t.name, t.horizon): t for t in c.tests}
     berk = tests.get(("berkowitz", 0))
     if berk and not math.isfinite(berk.pvalue):

@@ -10,14 +10,21 @@ from riskreport.assessment import Assessment, HorizonResult
 from riskreport.report import formatting as fmt
 from riskreport.report import verbal
 
-SUMMARY_HORIZONS = (0, 3, 6, 12, 18, 24)  # rows of the summary table (plus the policy horizon)
+# Rows of the summary table (plus the policy horizon), in periods of the brief's frequency:
+# about every quarter, then every half year, for a monthly brief; every quarter for the first
+# year of a quarterly brief, then every half year (common practice, no source).
+SUMMARY_HORIZONS = {
+    "monthly": (0, 3, 6, 12, 18, 24, 36),
+    "quarterly": (0, 1, 2, 3, 4, 6, 8, 10, 12),
+}
 
 
 def summary_horizons(a: Assessment) -> tuple[int, ...]:
-    """The horizons the brief's compact tables show: the standard ones that are reported,
-    and the policy horizon."""
-    last = a.horizons[-1].h
-    return tuple(sorted({h for h in SUMMARY_HORIZONS if h <= last} | {a.policy_horizon}))
+    """The horizons the brief's compact tables show: the standard ones of the brief's
+    frequency that are reported, and the policy horizon."""
+    reported = {r.h for r in a.horizons}
+    standard = SUMMARY_HORIZONS.get(a.frequency, SUMMARY_HORIZONS["monthly"])
+    return tuple(sorted({h for h in standard if h in reported} | {a.policy_horizon}))
 
 
 @dataclass(frozen=True)
@@ -211,8 +218,58 @@ def units(a: Assessment) -> str:
 
 
 INTERVAL_TEXT = (
-    "Plausible range: where the probability of inside lies in 90% of resamples of the past errors."
+    "Plausible range: the record of past misses is short, so each probability is itself "
+    "uncertain; with another, equally likely set of past misses it would fall in this range "
+    "9 times in 10."
 )
+
+
+def straddle_text(a: Assessment) -> str:
+    """A sentence when the plausible range of inside at the policy horizon spans 50% (empty
+    otherwise): then the record cannot tell which side of even the odds are on."""
+    r = a.policy
+    lo, hi = r.p_inside_interval
+    low, high = fmt.single_percent(lo), fmt.single_percent(hi)
+    if not shown_probability(low) < 0.5 < shown_probability(high):
+        return ""
+    return (
+        f"At the policy horizon the plausible range ({low} to {high}) spans 50%: the track "
+        "record cannot tell whether inside is more or less likely than not, only that it is "
+        "far from certain either way."
+    )
+
+
+def printed_points(now: str, before: str) -> str:
+    """The change between two printed percentages, from the printed numbers ("42%" and
+    "41%" give "+1 pp"), so a reader who subtracts what is printed gets what is said."""
+    return fmt.points(shown_probability(now) - shown_probability(before))
+
+
+def method_was_chosen(a: Assessment) -> bool:
+    """Whether the error law was chosen or adapted (``auto``, a moving spread or a
+    recalibration) rather than being the plain constant normal law the replay compares it
+    with: only then can it have scored better or worse than that law."""
+    adj = a.adjustments
+    if adj is None:
+        return False
+    return (
+        a.uncertainty.distribution == "auto" or adj.spread_option != "constant" or adj.recalibrate
+    )
+
+
+def todays_law_is_baseline(a: Assessment) -> bool:
+    """Whether today's probabilities come from the plain constant normal law itself (``auto``
+    may choose it): then "the method scored worse than the normal law" would be about the
+    past choices, never about the law in use."""
+    adj = a.adjustments
+    return (
+        adj is not None
+        and adj.method == "normal"
+        and adj.spread == "constant"
+        and not adj.recalibrate
+    )
+
+
 SHORT_BAND_TEXT = (
     "Both band edges count as inside; <1% and >99% are printed instead of 0% and 100%, "
     "never a certainty."

@@ -6,7 +6,12 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment, HorizonResult, ScenarioHorizon
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import Table, triple
+from riskreport.report.sections.common import (
+    Table,
+    printed_points,
+    summary_horizons,
+    triple,
+)
 
 
 @dataclass(frozen=True)
@@ -52,7 +57,7 @@ def applied(a: Assessment) -> tuple[tuple[JudgementEntry, ...], tuple[JudgementR
                 period=base.period,
                 model_based=" / ".join(triple(base)),
                 adjusted=" / ".join(triple(final)),
-                change=fmt.points(final.p_inside - base.p_inside),
+                change=printed_points(triple(final)[1], triple(base)[1]),
             )
         )
     text = (
@@ -75,6 +80,21 @@ class ScenarioRow:
     second: str
 
 
+BOARD_TEXT = (
+    "Model-based: what the track record alone implies. After judgement: with the staff "
+    "adjustment below, which shifts, widens or tilts each period's distribution."
+)
+
+
+def key_moves(a: Assessment, rows: tuple[JudgementRow, ...]) -> tuple[JudgementRow, ...]:
+    """The rows the board page shows: the period the judgement moves most and the brief's
+    summary horizons it covers."""
+    pairs = zip(a.model_based_horizons, a.horizons, strict=True)
+    largest = max(pairs, key=lambda p: abs(p[1].p_inside - p[0].p_inside))[1].period
+    periods = {a.horizon_result(h).period for h in summary_horizons(a)} | {largest}
+    return tuple(r for r in rows if r.period in periods)
+
+
 def scenario_horizons(a: Assessment) -> tuple[int, int]:
     """The two horizons the scenario table shows: one year ahead and the policy horizon."""
     per_year = 12 if a.frequency == "monthly" else 4
@@ -88,7 +108,8 @@ def scenario_horizons(a: Assessment) -> tuple[int, int]:
 
 def _scenario_cell(row: ScenarioHorizon, base: HorizonResult) -> str:
     texts = fmt.outcome_texts(row.p_below, row.p_inside, row.p_above)
-    return " / ".join(texts) + f" (inside {fmt.points(row.p_inside - base.p_inside)})"
+    # The change from the printed numbers: 42% against 41% reads "+1 pp", never "0 pp".
+    return " / ".join(texts) + f" (inside {printed_points(texts[1], triple(base)[1])})"
 
 
 def scenario_rows(a: Assessment) -> tuple[ScenarioRow, ...]:
@@ -119,6 +140,16 @@ def title(a: Assessment) -> str:
     return "Staff judgement" if a.judgement else "Scenarios"
 
 
+def page_title(a: Assessment) -> str:
+    """The heading of the board brief's third page: what it holds."""
+    parts = [
+        p for p, there in (("Staff judgement", a.judgement), ("scenarios", a.scenarios)) if there
+    ]
+    if not parts:
+        return "What changed"
+    return " and ".join(parts).capitalize() + (", and what changed" if a.change else "")
+
+
 SCENARIOS_TEXT = (
     "Each scenario is a further judgement on the baseline, stated by staff. Below / inside / above the "
     "band, and the change in inside against the baseline."
@@ -131,10 +162,15 @@ class JudgementContext:
     brief has neither)."""
 
     shown: bool
+    page_shown: bool  # the board brief's third page: judgement, scenarios or a change
+    page_heading: str
+    none_text: str
     heading: str
     text: str
+    board_text: str
     entries: Table[JudgementEntry]
     moves: Table[JudgementRow]
+    key_moves: Table[JudgementRow]
     scenarios_heading: str
     scenarios_text: str
     scenarios: Table[ScenarioRow]
@@ -144,8 +180,18 @@ def context(a: Assessment) -> JudgementContext:
     """The staff judgement and scenarios section."""
     entries, moves, text = applied(a)
     first, second = scenario_horizons(a)
+    moves_head = JudgementRow(
+        period="Period",
+        model_based="Model-based",
+        adjusted="After judgement",
+        change="Change in inside",
+    )
     return JudgementContext(
         shown=bool(a.judgement or a.scenarios),
+        page_shown=bool(a.judgement or a.scenarios or (a.change and a.change.horizons)),
+        page_heading=page_title(a),
+        none_text="No staff judgement is applied and no scenario is set in this brief: the "
+        "probabilities are the models' and the track record's alone.",
         heading=title(a),
         text=text,
         entries=Table(
@@ -153,15 +199,13 @@ def context(a: Assessment) -> JudgementContext:
             JudgementEntry(periods="Periods", terms="Terms", reason="Reason"),
             entries,
         ),
-        moves=Table(
-            "Below / inside / above: model-based and after judgement",
-            JudgementRow(
-                period="Period",
-                model_based="Model-based",
-                adjusted="After judgement",
-                change="Change in inside",
-            ),
-            moves,
+        board_text=BOARD_TEXT,
+        moves=Table("Below / inside / above: model-based and after judgement", moves_head, moves),
+        key_moves=Table(
+            "Below / inside / above: model-based and after judgement, where it moves inside "
+            "most and at the brief's horizons (every period in the annex)",
+            moves_head,
+            key_moves(a, moves),
         ),
         scenarios_heading="Alternative scenarios",
         scenarios_text=SCENARIOS_TEXT,

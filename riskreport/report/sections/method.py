@@ -17,6 +17,7 @@ from riskreport.report.sections.common import (
     Table,
     scale_of,
     span,
+    todays_law_is_baseline,
     units,
 )
 from riskreport.report.sections.summary import CAUTIONS
@@ -469,11 +470,18 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         a.uncertainty.distribution == "auto" or adj.spread_option != "constant" or adj.recalibrate
     )
     if chose and v.against_baseline != "better":
-        lines.append(
-            f"By that score the method used did {AGAINST_BASELINE[v.against_baseline]} the "
-            "plain constant normal law in the replay: the choice of method shows no gain on "
-            "this record."
-        )
+        if todays_law_is_baseline(a):
+            lines.append(
+                f"By that score, choosing the method afresh at each past round did "
+                f"{AGAINST_BASELINE[v.against_baseline]} keeping the plain constant normal law "
+                "throughout; today the choice is that plain normal law itself."
+            )
+        else:
+            lines.append(
+                f"By that score the method used did {AGAINST_BASELINE[v.against_baseline]} the "
+                "plain constant normal law in the replay: the choice of method shows no gain on "
+                "this record."
+            )
     if v.short_horizons:
         lines.append(
             f"The 90% ranges missed by more than {100 * NEAR:.0f} points at "

@@ -20,6 +20,7 @@ from riskreport.report.sections.common import (
     chart,
     period_table,
     phrase,
+    printed_points,
     probability_row,
     summary_horizons,
     units,
@@ -90,7 +91,10 @@ class PathRow:
 
 def path_rows(a: Assessment) -> tuple[PathRow, ...]:
     """The path table's rows at the horizons the compact tables show."""
-    shown = summary_horizons(a)
+    # The first period alone is a single period's probability, printed in the period tables
+    # from the exact law; its simulated twin here could differ by a point (one number, one
+    # source), so the joint rows start at the second period.
+    shown = set(summary_horizons(a)) - {a.horizons[0].h}
     return tuple(
         PathRow(
             p.period,
@@ -114,17 +118,36 @@ def outlook_text(a: Assessment) -> tuple[str, ...]:
     )
 
 
-OUTLOOK_CAPTION = (
-    "Outlook: outcomes, the target band (hatched), the centre path (dotted) and the "
-    "50/80/90% probability bands, after staff judgement. Each period's bands are estimated "
-    "from that period's own past errors and are not smoothed across periods, so their edges "
-    "and the centre path are uneven: a notch of a tenth or two of a point between "
-    "neighbouring periods is sampling noise, not a forecast."
+def outlook_caption(a: Assessment) -> str:
+    """Caption of the outlook (fan) chart; where a staff judgement ends before the last
+    period, the step there is the judgement's, and the caption says so."""
+    text = (
+        "Outlook: outcomes, the target band (hatched), the centre path (dotted) and the "
+        "50/80/90% probability bands, after staff judgement. Each period's bands are estimated "
+        "from that period's own past errors and are not smoothed across periods, so a notch "
+        "of a tenth or two of a point between neighbouring periods is sampling noise, not a "
+        "forecast."
+    )
+    last = a.horizons[-1].period
+    ends = sorted({j.end for j in a.judgement if j.end < last})
+    if ends:
+        text += (
+            f" The step after {' and '.join(ends)} is not noise: it is where the staff "
+            "judgement ends, and from there on the bands are model-based."
+        )
+    return text
+
+
+PATHS_TEXT = (
+    "Inside throughout asks for every period up to the one shown to land inside the band, so "
+    "it is always lower, and falls faster, than any single period's probability: one period "
+    "of noise outside the band ends the run. A low number here is not a forecast that "
+    "inflation leaves the band for good; inside at least once is its counterpart."
 )
 PROBABILITIES_CAPTION = (
     "Probability of inflation below, inside and above the band by how far ahead; the "
-    "shading is the plausible range of the probability of inside (90% of resamples of the "
-    "past errors)."
+    "shading is the plausible range of the probability of inside (how far it could be off "
+    "because the record of past misses is short; 9 times in 10 it would fall there)."
 )
 
 
@@ -218,7 +241,7 @@ def round_text(a: Assessment) -> str:
         f"The probability of inflation inside the band in {last.period} (the policy horizon) "
         f"as each brief in the output folder stated it: {fmt.single_percent(first.p_inside)} "
         f"in the brief of {first.as_of}, {fmt.single_percent(last.p_inside)} now "
-        f"({fmt.points(last.p_inside - first.p_inside)})."
+        f"({printed_points(fmt.single_percent(last.p_inside), fmt.single_percent(first.p_inside))})."
     )
     if len(a.year_history) >= 2:
         y0, y1 = a.year_history[0], a.year_history[-1]
@@ -226,7 +249,7 @@ def round_text(a: Assessment) -> str:
         sentence += (
             f" For {y1.year} as a whole ({measure}): {fmt.single_percent(y0.p_inside)} in the "
             f"brief of {y0.as_of}, {fmt.single_percent(y1.p_inside)} now "
-            f"({fmt.points(y1.p_inside - y0.p_inside)})."
+            f"({printed_points(fmt.single_percent(y1.p_inside), fmt.single_percent(y0.p_inside))})."
         )
     return sentence
 
@@ -267,6 +290,7 @@ class OutlookContext:
     fan: ChartBlock | None
     probabilities: ChartBlock | None
     paths_heading: str
+    paths_text: str
     paths: Table[PathRow]
     years_heading: str
     years: Table[AnnualRow]
@@ -293,6 +317,7 @@ def context(a: Assessment, charts: Mapping[str, ChartBlock]) -> OutlookContext:
         fan=chart(charts, "outlook"),
         probabilities=chart(charts, "band-probabilities"),
         paths_heading="Staying inside the band",
+        paths_text=PATHS_TEXT,
         paths=Table(
             f"Joint probabilities from {a.horizons[0].period} up to each period",
             PATHS_HEAD,

@@ -19,11 +19,16 @@ from riskreport.report.sections.common import (
     band_label,
     band_varies,
     inside_split,
+    method_was_chosen,
     period_table,
     phrase,
+    printed_points,
     probability_row,
     scale_of,
+    shown_probability,
+    straddle_text,
     threshold_label,
+    todays_law_is_baseline,
 )
 from riskreport.report.sections.outlook import YEARS_HEAD, AnnualRow, annual_rows
 from riskreport.report.sections.questions import movers_text, robustness_text
@@ -88,13 +93,33 @@ def _basis_headline(a: Assessment) -> str:
     return f"{subject} is {inside_split(a, texts, f'the {band_label(head.band)} target band')}."
 
 
+def judgement_terms(shift: float, scale: float, skew: float) -> str:
+    """What a judgement does, in words: "centre +0.20 pp, spread \u00d71.10, skew +0.15 pp"
+    (terms that change nothing are left out)."""
+    parts = []
+    if shift:
+        parts.append(f"centre {fmt.number(shift, 2, signed=True)} pp")
+    if scale != 1:
+        parts.append(f"spread \u00d7{fmt.number(scale, 2)}")
+    if skew:
+        parts.append(
+            f"risks tilted {'up' if skew > 0 else 'down'} ({fmt.number(skew, 2, signed=True)} pp)"
+        )
+    return ", ".join(parts) or "no change"
+
+
 def _judgement_message(a: Assessment) -> str:
-    """Where the staff judgement moves P(inside) most, and whether it reaches the policy horizon."""
-    spans = "; ".join(f"{j.start} to {j.end}" for j in a.judgement)
+    """What the staff judgement is and why (its content and reason), where it moves P(inside)
+    most, and whether it reaches the policy horizon."""
+    said = "; ".join(
+        f"{j.start} to {j.end}: {judgement_terms(j.shift, j.scale, j.skew)}"
+        + (f", because {_reason(j.reason)}" if j.reason.strip() else "")
+        for j in a.judgement
+    )
     pairs = list(zip(a.model_based_horizons, a.horizons, strict=True))
     base, final = max(pairs, key=lambda p: abs(p[1].p_inside - p[0].p_inside))
     text = (
-        f"Staff judgement ({spans}) moves the probability of being inside most in {final.period}: "
+        f"Staff judgement ({said}) moves the probability of being inside most in {final.period}: "
         f"from {fmt.single_percent(base.p_inside)} (model-based) to {fmt.single_percent(final.p_inside)}."
     )
     policy_base = a.horizon_result(a.policy_horizon, model_based=True)
@@ -105,6 +130,15 @@ def _judgement_message(a: Assessment) -> str:
         )
     else:
         text += " It does not cover the policy horizon."
+    return text
+
+
+def _reason(text: str) -> str:
+    """A stated reason as a clause: its first letter lower-cased (unless it opens with an
+    acronym) and its closing full stop dropped."""
+    text = " ".join(text.split()).rstrip(".")
+    if len(text) > 1 and text[0].isupper() and not text[1].isupper():
+        text = text[0].lower() + text[1:]
     return text
 
 
@@ -155,24 +189,27 @@ def _inside_now(a: Assessment) -> tuple[str, bool] | None:
 
 
 def _path_message(a: Assessment) -> str:
-    """The path statement that carries information: staying inside when inside now, getting
-    back inside when outside now."""
-    first, policy = a.horizons[0], a.policy
+    """Where inflation stands now and, when it is outside the band, how likely it is to get
+    back inside at least once by the policy horizon.
+
+    The chance of staying inside in every single period up to the policy horizon is not
+    said here: it is always far smaller than any one period's chance (a single month's
+    noise outside the band breaks the run), so on page 1 it reads as an alarm; the annex
+    gives it with that explanation.
+    """
+    policy = a.policy
     path = next(p for p in a.path if p.h == a.policy_horizon)
-    unit = "month" if a.frequency == "monthly" else "quarter"
     now = _inside_now(a)
-    stay = (
-        f"staying inside in every {unit} from {first.period} to {policy.period} is "
-        f"{phrase(a, fmt.single_percent(path.p_inside_throughout))}"
-    )
+    if now is None:
+        return f"There is no observed outcome before {a.horizons[0].period} in the inputs."
+    said, inside = now
+    if inside:
+        return f"{said}."
     back = (
         f"getting back inside at least once by {policy.period} is "
         f"{phrase(a, fmt.single_percent(path.p_back_inside_by))}"
     )
-    if now is None:
-        return f"Inflation {stay}."
-    said, inside = now
-    return f"{said}; {stay if inside else back}."
+    return f"{said}; {back}."
 
 
 def messages(a: Assessment) -> tuple[str, ...]:
@@ -205,7 +242,7 @@ def nearest_bin(a: Assessment) -> ReliabilityBin | None:
     return min(rows, key=lambda r: abs(r.forecast_mean - today))
 
 
-def _held(said: float, happened: float) -> str:
+def held_words(said: float, happened: float) -> str:
     gap = happened - said
     if abs(gap) <= RELIABILITY_TOLERANCE:
         return "about as often as stated"
@@ -215,30 +252,26 @@ def _held(said: float, happened: float) -> str:
     return "more often than stated" if gap > 0 else "less often than stated"
 
 
-def _calibration_sentence(a: Assessment) -> str:
-    """How far to trust today's number, in the track record's own terms."""
+def coverage_sentence(a: Assessment) -> str:
+    """How the 90% ranges of past rounds held at the policy horizon, in plain words."""
     cover = coverage(a, a.policy_horizon, 0.9)
-    r = nearest_bin(a)
-    if cover is None or r is None:
+    if cover is None:
         return "There are too few past rounds to check how past probability statements held."
-    said, happened = r.forecast_mean, r.observed_frequency
     held = cover.observed
     ranges = (
-        "too narrow"
+        "too narrow: read today's probabilities as less certain than they look"
         if held < COVERAGE_TOO_NARROW
         else "too wide"
         if held > COVERAGE_TOO_WIDE
         else "about right"
     )
     return (
-        f"In the replay, the {r.n} statements of {_bin_words(r.bin)} inside, at all horizons, "
-        f"came true {fmt.single_percent(happened)} of the time, {_held(said, happened)}. "
-        f"{ahead(a, a.policy_horizon).capitalize()}, the 90% ranges held "
-        f"{fmt.single_percent(held)} of {cover.n} outcomes: {ranges}." + _against_baseline(a)
+        f"{ahead(a, a.policy_horizon).capitalize()}, the 90% ranges of past rounds held "
+        f"{fmt.single_percent(held)} of {cover.n} outcomes: {ranges}."
     )
 
 
-def _bin_words(edges: tuple[float, float]) -> str:
+def bin_words(edges: tuple[float, float]) -> str:
     """A reliability bin's edges in words: "30% to 40%", "90% or more", "under 10%"."""
     lo, hi = (round(100 * edge) for edge in edges)
     if hi >= 100:
@@ -248,20 +281,27 @@ def _bin_words(edges: tuple[float, float]) -> str:
     return f"{lo}% to {hi}%"
 
 
-def _against_baseline(a: Assessment) -> str:
-    """A warning on page 1 when the method chosen did worse in the replay than the plain
-    constant normal law (the method page gives the scores)."""
+def against_baseline(a: Assessment) -> str:
+    """A warning when the method in use was chosen or adapted and did worse in the replay
+    than the plain constant normal law (the annex's method section gives the scores); when
+    today's law is that plain normal law, only the past choices can have done worse, and
+    that is said as such."""
     adj = a.adjustments
-    if adj is None or adj.verdict.against_baseline != "worse":
+    if adj is None or adj.verdict.against_baseline != "worse" or not method_was_chosen(a):
         return ""
+    if todays_law_is_baseline(a):
+        return (
+            " Choosing the method afresh at each past round scored worse in the replay than "
+            "keeping a plain normal law throughout; today's choice is that plain normal law."
+        )
     return (
         " The method chosen for these probabilities scored worse in the replay than a plain "
-        "normal law with a constant spread (see the method page)."
+        "normal law with a constant spread (see the annex, method and data)."
     )
 
 
-def track_text(a: Assessment) -> str:
-    """Page 1's track record: the size of past misses and how past statements held."""
+def misses_sentence(a: Assessment) -> str:
+    """The size and direction of the combined forecast's past misses at the policy horizon."""
     row = next(
         (x for x in a.accuracy if x.model == a.own_names.combination and x.h == a.policy_horizon),
         None,
@@ -273,27 +313,51 @@ def track_text(a: Assessment) -> str:
         f"Over the last {row.n} rounds with a known outcome, the combined forecast "
         f"{ahead(a, a.policy_horizon)} missed by {fmt.number(row.rmse)} pp on average "
         f"(root mean square), with outcomes {fmt.number(abs(row.mean_error))} pp {direction} it "
-        f"on average. {_calibration_sentence(a)}"
+        "on average."
     )
 
 
+def track_text(a: Assessment) -> str:
+    """Page 1's track record: the size of past misses and how the ranges held (page 4 says
+    more)."""
+    return f"{misses_sentence(a)} {coverage_sentence(a)} More under \u201cHow sure can we be?\u201d"
+
+
+def _centre_moved(before: float, now: float) -> str:
+    """ "fell 0.2 pp (3.5% to 3.3%)", "was unchanged at 3.4%", from the printed numbers."""
+    b, n = fmt.number(before), fmt.number(now)
+    if b == n:
+        return f"was unchanged at {n}%"
+    step = float(n.replace("\u2212", "-")) - float(b.replace("\u2212", "-"))
+    verb = "rose" if step > 0 else "fell"
+    return f"{verb} {fmt.number(abs(step))} pp ({b}% to {n}%)"
+
+
 def change_text(a: Assessment) -> str:
-    """The change since the previous brief, at the policy horizon's target period, in words."""
+    """The change since the previous brief at the policy horizon's target period, in words:
+    the probability then and now, and what moved underneath (the centre, the spread and
+    shape, the band), even when the total is small."""
     if not a.change or not a.change.horizons:
         return "No earlier brief was available for comparison, so the change since the last meeting is not shown."
     rows = {r.period: r for r in a.change.horizons}
     r = rows.get(a.policy.period) or a.change.horizons[-1]
-    total = r.p_inside_now - r.p_inside_before
+    before, now = fmt.single_percent(r.p_inside_before), fmt.single_percent(r.p_inside_now)
+    total = shown_probability(now) - shown_probability(before)
     since = (
         f"Since the brief of {a.change.previous_as_of}, the probability of being inside the "
         f"band in {r.period}"
     )
-    before, now = fmt.single_percent(r.p_inside_before), fmt.single_percent(r.p_inside_now)
+    centre = (
+        f"the centre {_centre_moved(r.centre_before, r.centre_now)}, worth "
+        f"{fmt.points(r.due_to_centre)} on its own"
+    )
+    spread = f"the spread and shape of the errors {fmt.points(r.due_to_spread)}"
+    band = f", the band {fmt.points(r.due_to_band)}" if fmt.points(r.due_to_band) != "0 pp" else ""
     if abs(total) < CHANGE_NOISE:
+        opposite = r.due_to_centre * r.due_to_spread < 0
         return (
-            f"{since} is essentially unchanged: {now} against {before} (changes under "
-            f"{int(100 * CHANGE_NOISE)} percentage points are within rounding and simulation "
-            "noise, so they are not split into causes)."
+            f"{since} is essentially unchanged: {now} against {before}. Underneath, {centre}; "
+            f"{spread}{band}" + ("; the two offset." if opposite else ".")
         )
     parts = {
         "the centre moving": r.due_to_centre,
@@ -303,22 +367,26 @@ def change_text(a: Assessment) -> str:
     main = max(parts, key=lambda k: abs(parts[k]))
     direction = "rose" if total > 0 else "fell"
     return (
-        f"{since} {direction} from {before} to {now} ({fmt.points(total)}): centre "
-        f"{fmt.points(r.due_to_centre)}, spread and shape {fmt.points(r.due_to_spread)}, "
-        f"band {fmt.points(r.due_to_band)}. Most of it came from {main}."
+        f"{since} {direction} from {before} to {now} ({printed_points(now, before)}): {centre}; "
+        f"{spread}{band}. Most of it came from {main}."
     )
 
 
 def scale_key(a: Assessment) -> str:
-    """One line: the verbal scale's words and their ranges (its source is on the method page)."""
-    terms = scale_of(a).terms
-    parts = [f"{t.word} {round(100 * t.low)}\u2013{round(100 * t.high)}%" for t in terms]
-    return (
-        "Words: "
-        + ", ".join(parts)
-        + f"; away from 50% a middle word gives way to \u201c{verbal.MORE_LIKELY}\u201d or "
-        f"\u201c{verbal.LESS_LIKELY}\u201d (source: method page)."
-    )
+    """One line: the verbal scale's words and their ranges as the brief uses them (its
+    source is in the annex). A middle word whose range spans 50% is used only at exactly
+    50%; either side of it the brief says "more likely than not" or "less likely than not",
+    and the key says so in the same place, so the headline's word is in it."""
+    parts = []
+    for t in scale_of(a).terms:
+        lo, hi = round(100 * t.low), round(100 * t.high)
+        if t.low < 0.5 < t.high:
+            parts.append(
+                f"{verbal.MORE_LIKELY} 50\u2013{hi}%, {t.word} 50%, {verbal.LESS_LIKELY} {lo}\u201350%"
+            )
+        else:
+            parts.append(f"{t.word} {lo}\u2013{hi}%")
+    return f"Words ({scale_of(a).name}): " + ", ".join(parts) + "."
 
 
 BASIS_TITLES = {
@@ -360,7 +428,7 @@ def change_alt(a: Assessment) -> str:
     """Alt text of the change chart."""
     assert a.change is not None
     parts = [
-        f"{r.period}: {fmt.points(r.p_inside_now - r.p_inside_before)} "
+        f"{r.period}: {printed_points(fmt.single_percent(r.p_inside_now), fmt.single_percent(r.p_inside_before))} "
         f"(centre {fmt.points(r.due_to_centre)}, spread {fmt.points(r.due_to_spread)}, band {fmt.points(r.due_to_band)})"
         for r in a.change.horizons
     ]
@@ -431,9 +499,12 @@ class SummaryContext:
 
 def note(a: Assessment) -> str:
     """The note under the summary table: what the centre is, the range and the band's edges."""
+    straddle = straddle_text(a)
     return (
         f"Centre: the most likely value, {centre_label(a)}; the models' own "
-        f"forecast is in the appendix. {INTERVAL_TEXT} {SHORT_BAND_TEXT}"
+        f"forecast is in the annex. {INTERVAL_TEXT}"
+        + (f" {straddle}" if straddle else "")
+        + f" {SHORT_BAND_TEXT}"
     )
 
 

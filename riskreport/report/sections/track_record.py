@@ -35,6 +35,9 @@ class AccuracyLine:
     is_combination: bool
 
 
+NOT_COMPARABLE = "dropped; not comparable"
+
+
 def benchmarks_text(a: Assessment) -> str:
     """The tool's own forecasters, under the names the tables give them."""
     own = a.own_names
@@ -50,14 +53,17 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
     by_key = {(r.model, r.h): r for r in a.accuracy}
     names = list(dict.fromkeys(r.model for r in a.accuracy))
     lines = []
+    current = {m.model for m in a.models if m.in_current_round}
+    left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
     for name in names:
         cells = tuple(
             fmt.number(by_key[(name, h)].rmse, 2) if (name, h) in by_key else "\u2013"
             for h in shown
         )
-        lines.append(AccuracyLine(name, cells, name == a.own_names.combination))
-    current = {m.model for m in a.models if m.in_current_round}
-    left_out = [m.model for m in a.models if not m.in_current_round and m.model in names]
+        # A model no longer in the round was scored on an older, shorter sample: its row
+        # says so itself, so a low number there is not read as the best record.
+        label = f"{name} ({NOT_COMPARABLE})" if name in left_out else name
+        lines.append(AccuracyLine(label, cells, name == a.own_names.combination))
     best: dict[str, list[int]] = {}
     for h in shown:
         candidates = [by_key[(n, h)] for n in names if (n, h) in by_key and n in current]
