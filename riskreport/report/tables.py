@@ -3,10 +3,14 @@
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
-from riskreport.report.sections.common import summary_horizons
+from riskreport.report.sections.common import declined, summary_horizons
+
+if TYPE_CHECKING:
+    from riskreport.forecasts.track_record import TestRow
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
@@ -41,21 +45,28 @@ def track_record_text(a: Assessment) -> list[str]:
             cells.append(f"{fmt.number(r.rmse, 2)} ({r.n})" if r else "-")
         rows.append(cells)
     lines += _table(["forecaster", *(f"h={h}" for h in shown)], rows)
-    lines += ["", "Diebold-Mariano (HLN) p-values against the combination (two-sided)", ""]
-    pvalues = {
-        (t.models[0], t.h): t.pvalue
+    lines += [
+        "",
+        "Diebold-Mariano p-values against the combination (two-sided; fixed-smoothing beyond one step)",
+        "",
+    ]
+    tests = {
+        (t.models[0], t.h): t
         for t in a.tests
         if t.name == "diebold-mariano" and t.models[1] == "combination"
     }
     rows = [
-        [m, *(_pvalue(pvalues[(m, h)]) if (m, h) in pvalues else "-" for h in shown)]
+        [m, *(_pvalue(tests[(m, h)]) if (m, h) in tests else "-" for h in shown)]
         for m in models
-        if any((m, h) in pvalues for h in shown)
+        if any((m, h) in tests for h in shown)
     ]
     lines += _table(["model", *(f"h={h}" for h in shown)], rows)
     return lines
 
 
-def _pvalue(value: float) -> str:
-    """A p-value to 3 decimals; "undefined" for a test that could not be computed."""
-    return fmt.number(value, 3) if math.isfinite(value) else "undefined"
+def _pvalue(test: TestRow) -> str:
+    """A p-value to 3 decimals; "too few" for a test that declined (too few independent
+    outcomes), "undefined" for one that could not be computed (no variation)."""
+    if declined(test.notes):
+        return "too few"
+    return fmt.number(test.pvalue, 3) if math.isfinite(test.pvalue) else "undefined"

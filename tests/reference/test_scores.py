@@ -15,7 +15,8 @@ import pytest
 import scoringrules as sr
 from scipy import integrate, stats
 
-from riskreport.forecasts import stats as rstats
+from riskreport.forecasts import pit_tests as rstats
+from riskreport.forecasts import stats as accuracy_stats
 from riskreport.laws._families import SkewNormalFit
 from riskreport.replay import scores
 
@@ -246,6 +247,6 @@ def test_knuppel_oracles() -> None:
     # test's, but the long-run covariance helper still computes it).
     u = np.sqrt(12) * (np.asarray(PIT) - 0.5)
     d = np.column_stack([u, u**2 - 1, u**3, u**4 - 9 / 5])
-    omega = rstats.long_run_covariance(d, 2, kernel="bartlett")
+    omega = accuracy_stats.long_run_covariance(d, 2, kernel="bartlett")
     alpha = 20 * d.mean(0) @ np.linalg.solve(omega, d.mean(0))
     assert alpha == pytest.approx(2.388942, abs=1e-6)

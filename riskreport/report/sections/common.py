@@ -7,6 +7,7 @@ from dataclasses import dataclass
 from typing import Generic, TypeVar
 
 from riskreport.assessment import Assessment, HorizonResult
+from riskreport.forecasts.fixed_smoothing import TOO_FEW
 from riskreport.report import formatting as fmt
 from riskreport.report import verbal
 
@@ -153,6 +154,23 @@ def inside_split(a: Assessment, texts: tuple[str, str, str], band: str = "the ba
 SIGNIFICANCE = 0.05  # conventional test level (common practice, no source)
 
 
+def declined(notes: tuple[str, ...]) -> bool:
+    """A test that did not speak because the record holds too few independent outcomes
+    (:func:`riskreport.forecasts.fixed_smoothing.smoothing`): no verdict either way."""
+    return any(note.startswith(TOO_FEW) for note in notes)
+
+
+def too_few_text(a: Assessment, hs: list[int], what: str) -> str:
+    """ "Too few independent outcomes at 13 and 18 months ahead to test ...": a declined
+    test in plain words."""
+    return (
+        f"Too few independent outcomes at {join_h(a, hs)} to test {what}: forecasts that "
+        "far ahead made in consecutive rounds share most of their shocks, so the past "
+        "rounds hold only a handful of independent outcomes, and no test would hold its "
+        "size there."
+    )
+
+
 def span(values: list[int]) -> str:
     """ "120" when all are equal, else "96 to 120"."""
     return str(min(values)) if min(values) == max(values) else f"{min(values)} to {max(values)}"
@@ -211,7 +229,8 @@ def units(a: Assessment) -> str:
 
 
 INTERVAL_TEXT = (
-    "Plausible range: where the probability of inside lies in 90% of resamples of the past errors."
+    "Plausible range: where the probability of inside lies in 90% of resamples of the past "
+    "errors, widened for the overlap of errors far ahead."
 )
 SHORT_BAND_TEXT = (
     "Both band edges count as inside; <1% and >99% are printed instead of 0% and 100%, "
