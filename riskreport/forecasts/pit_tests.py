@@ -13,7 +13,8 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy import stats
 
-from riskreport.forecasts.stats import CONSTANT_PITS, TestResult, _mean_test, _vector
+from riskreport.forecasts.fixed_smoothing import smoothing
+from riskreport.forecasts.stats import CONSTANT_PITS, TestResult, _mean_test, _MeanTest, _vector
 
 
 def berkowitz(pit: ArrayLike) -> TestResult:
@@ -101,7 +102,14 @@ def knuppel(pit: ArrayLike, *, h: int = 1, moments: int = 4) -> TestResult:
     z = _vector(pit, "pit")
     u = np.sqrt(12) * (z - 0.5)
     d = np.column_stack([u, u**2 - 1, u**3, u**4 - 9 / 5])[:, :moments]
-    result = _mean_test(d, h)
+    one_step = smoothing(d.shape[0], 1, moments) if h == 1 else None
+    if one_step is not None and one_step.declined is not None:
+        # The moments of uniform PITs are far from normal: Hotelling's F rejects a true
+        # null 8.6% of the time at T = 20 and 11% at T = 12 (simulated), so too few
+        # outcomes decline one step ahead too.
+        result = _MeanTest(float("nan"), float("nan"), (), "declined", (one_step.declined,))
+    else:
+        result = _mean_test(d, h)
     return TestResult(
         statistic=result.statistic,
         pvalue=result.pvalue,

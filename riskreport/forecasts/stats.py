@@ -315,6 +315,13 @@ def _mean_test(d: np.ndarray, h: int) -> _MeanTest:
             reference = "weighted periodogram, fixed-smoothing F: declined"
             return _MeanTest(float("nan"), float("nan"), (), reference, (rule.declined,))
         return fixed_smoothing_f(d, rule.frequencies)
+    return hotelling_f(d)
+
+
+def hotelling_f(d: np.ndarray) -> _MeanTest:
+    """F = (T - q)/(q T) T d-bar' S^-1 d-bar ~ F(q, T - q), S the divisor-T covariance: the
+    exact one-sample Hotelling test for independent normal rows (Anderson 2003, Thm 5.2.2)."""
+    t, q = d.shape
     mean = d.mean(axis=0)
     centred = d - mean
     omega = centred.T @ centred / t
