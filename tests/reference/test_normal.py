@@ -123,5 +123,3 @@ def test_effective_sample_interval_is_the_percentile_interval_widened_on_log_odd
     lo2, hi2 = effective_sample_interval(replicated, 0.7, 0.9, 2.0)
     assert logit(lo2) - logit(lo) == pytest.approx(logit(0.7) - logit(0.6), abs=1e-9)
     assert 0 < lo2 < 0.7 < hi2 < 1
-
-

@@ -164,10 +164,9 @@ def too_few_text(a: Assessment, hs: list[int], what: str) -> str:
     """ "Too few independent outcomes at 13 and 18 months ahead to test ...": a declined
     test in plain words."""
     return (
-        f"Too few independent outcomes at {join_h(a, hs)} to test {what}: forecasts that "
-        "far ahead made in consecutive rounds share most of their shocks, so the past "
-        "rounds hold only a handful of independent outcomes, and no test would hold its "
-        "size there."
+        f"Too few independent outcomes at {join_h(a, hs)} to test {what}: forecasts made in "
+        "consecutive rounds share the shocks of the months between them, so the past rounds "
+        "hold fewer independent outcomes than the test needs to hold its size."
     )
 
 

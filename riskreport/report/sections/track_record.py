@@ -193,12 +193,21 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     return tuple(lines)
 
 
+DECLINED_WHAT = {
+    "diebold-mariano": "differences in accuracy between two forecasters (Diebold-Mariano)",
+    "encompassing": "whether a model adds information to the combination (encompassing)",
+    "mariano-preve": "all current models together (Mariano-Preve)",
+}
+
+
 def declined_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
-    """The horizons shown where the tests declined (too few independent outcomes)."""
-    hs = sorted({t.h for t in a.tests if t.h in shown and declined(t.notes)})
-    if not hs:
-        return ()
-    return (too_few_text(a, hs, "differences in accuracy"),)
+    """One sentence per test that declined at horizons shown (too few independent outcomes)."""
+    lines = []
+    for name, what in DECLINED_WHAT.items():
+        hs = sorted({t.h for t in a.tests if t.name == name and t.h in shown and declined(t.notes)})
+        if hs:
+            lines.append(too_few_text(a, hs, what))
+    return tuple(lines)
 
 
 def undefined_text(a: Assessment) -> tuple[str, ...]:
