@@ -228,8 +228,7 @@ def units(a: Assessment) -> str:
 
 
 INTERVAL_TEXT = (
-    "Plausible range: where the probability of inside lies in 90% of resamples of the past "
-    "errors, widened for the overlap of errors far ahead."
+    "Plausible range: where the probability of inside lies in 90% of resamples of the past errors."
 )
 SHORT_BAND_TEXT = (
     "Both band edges count as inside; <1% and >99% are printed instead of 0% and 100%, "
