@@ -395,7 +395,10 @@ def mariano_preve(errors: ArrayLike, *, h: int = 1, loss: Loss = "squared") -> T
     Small-sample choice: the paper's chi-square(k - 1) with the rectangular-window Omega
     rejects a true null 10-20% of the time at T = 30-60 (bench/size.py). We use the exact
     Hotelling F for h = 1 and the fixed-smoothing F of a weighted-periodogram Omega for
-    h > 1, whose size is close to nominal there; both are stated in ``method``.
+    h > 1 with m frequencies from T and h; with fewer independent outcomes than a test of
+    k - 1 differentials needs to hold its size (40 for three forecasts), it declines: NaN
+    with a note (:func:`riskreport.forecasts.fixed_smoothing.smoothing`). The reference
+    distribution is stated in ``method``.
 
     References
     ----------
