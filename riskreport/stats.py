@@ -1,16 +1,15 @@
 """Forecast comparison and calibration tests: the stable public name ``riskreport.stats``.
 
-The implementation lives in :mod:`riskreport.forecasts.stats`; this module re-exports its
-public functions. ``h`` counts steps ahead, as the literature does.
+The implementation lives in :mod:`riskreport.forecasts.stats` and
+:mod:`riskreport.forecasts.pit_tests`; this module re-exports their public functions. ``h`` counts steps ahead, as the literature does.
 """
 
+from riskreport.forecasts.pit_tests import berkowitz, knuppel
 from riskreport.forecasts.stats import (
     TestResult,
-    berkowitz,
     diebold_mariano,
     encompassing,
     encompassing_multiple,
-    knuppel,
     mariano_preve,
 )
 

@@ -207,14 +207,24 @@ def test_outcome_for_as_of_is_ignored_everywhere_with_a_warning(case: Case) -> N
 
 
 def test_test_rows_carry_the_reference_distribution(case: Case) -> None:
-    """Every Diebold-Mariano row keeps what stats.TestResult said: the alternative and the
-    Student t with T - 1 degrees of freedom of the small-sample correction (Harvey,
-    Leybourne and Newbold 1997, Int. J. Forecasting 13, eq. 9); the JSON keeps its keys."""
+    """Every Diebold-Mariano row keeps what stats.TestResult said: the alternative and its
+    reference distribution: one step ahead the Student t with T - 1 degrees of freedom
+    (Harvey, Leybourne and Newbold 1997, Int. J. Forecasting 13, eq. 9), beyond it the
+    fixed-smoothing t(2m) of m frequencies (Coroneo & Iacone 2020, J. Applied Econometrics
+    35(4)), or none when the test declined; the JSON keeps its keys."""
+    from riskreport.forecasts.fixed_smoothing import smoothing
+
     a = riskreport.assess(case.write())
     dm = [t for t in a.tests if t.name == "diebold-mariano"]
     assert dm
     for t in dm:
-        assert t.df == (t.nobs - 1,)
+        rule = smoothing(t.nobs, t.h + 1)
+        if t.h == 0:
+            assert t.df == (t.nobs - 1,)
+        elif rule.declined is None:
+            assert t.df == (2 * rule.frequencies,)
+        else:
+            assert t.df == ()
         assert t.alternative
     written = json.loads(a.to_json())["tests"]
     assert set(written[0]) == {

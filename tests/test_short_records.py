@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 
 import riskreport
+from riskreport.forecasts.fixed_smoothing import TOO_FEW
 from riskreport.laws import probabilities
 from riskreport.report import tables
 from riskreport.report.sections import calibration, track_record
@@ -29,10 +30,15 @@ def test_short_history_skips_long_horizon_tests_with_a_note(tmp_path: Path) -> N
     errors = np.random.default_rng(5).normal(0, 0.5, 40)
     config = constant_forecast_world(tmp_path, errors, horizons=20)
     a = riskreport.assess(config)
-    assert any("Accuracy tests were not run" in w for w in a.warnings)
     tested = {t.horizon for t in a.tests}
     assert 0 in tested
-    assert all(t.nobs >= 2 * (t.horizon + 1) for t in a.tests)
+    # Far ahead the few rounds hold too few independent outcomes: the tests decline (no
+    # p-value, a note) and the brief says so in words, never a verdict.
+    far = [t for t in a.tests if t.horizon >= 10]
+    assert far
+    assert all(np.isnan(t.pvalue) and t.notes[0].startswith(TOO_FEW) for t in far)
+    lines = track_record.tests_text(a, (0, 12, 18))
+    assert any(line.startswith("Too few independent outcomes at 12 and 18") for line in lines)
 
 
 def test_gap_in_the_actuals_builds(tmp_path: Path) -> None:
@@ -45,8 +51,7 @@ def test_gap_in_the_actuals_builds(tmp_path: Path) -> None:
     (tmp_path / "a.csv").write_text("\n".join(kept) + "\n")
     a = riskreport.assess(config)
     assert len(a.horizons) == 25
-    assert any("Accuracy tests were not run" in w for w in a.warnings)
-    assert all(t.nobs >= 2 * (t.horizon + 1) for t in a.tests)
+    assert all(np.isnan(t.pvalue) for t in a.tests if t.horizon == 20)
 
 
 def test_bootstrap_interval_is_not_a_point_for_a_thin_far_horizon() -> None:
@@ -113,10 +118,11 @@ def test_tests_not_run_are_not_reported_as_not_significant(tmp_path: Path) -> No
     errors = np.random.default_rng(5).normal(0, 0.5, 40)
     (tmp_path / "b").mkdir()
     a = riskreport.assess(constant_forecast_world(tmp_path / "b", errors, horizons=20))
-    tested = {t.horizon for t in a.tests}
-    assert 0 in tested
-    assert 20 not in tested
+    spoke = {t.horizon for t in a.tests if np.isfinite(t.pvalue)}
+    assert 0 in spoke
+    assert 20 not in spoke
     text = " ".join(track_record.tests_text(a, (0, 20)))
+    assert "Too few independent outcomes at 20 months ahead" in text
     assert "these horizons" not in text
     assert "0 months ahead" in text
     assert "h = 20" not in text

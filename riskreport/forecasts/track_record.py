@@ -17,10 +17,9 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport.errors import NameClashWarning, SmallSampleWarning
+from riskreport.errors import NameClashWarning
 from riskreport.forecasts import benchmarks
 from riskreport.forecasts.combination import Combination
-from riskreport.reading import periods
 from riskreport.reading.panel import Panel, steps_ahead, window_mask
 
 if TYPE_CHECKING:  # the tests (scipy.stats) load only when run: `check` needs none of them
@@ -142,17 +141,16 @@ def _common(*columns: np.ndarray) -> np.ndarray:
     return np.all(np.isfinite(np.column_stack(columns)), axis=1)
 
 
-def _enough(keep: np.ndarray, steps: int, minimum: int, h: int, skipped: set[int]) -> bool:
-    """Enough common rows for a test of ``steps``-step errors; records h when too few."""
-    from riskreport.forecasts import stats
+def _enough(keep: np.ndarray, minimum: int) -> bool:
+    """Enough common rows to put a test in the record. Whether the test may speak at that
+    many rows and steps is its own decision: it declines with a note when the rows hold too
+    few independent outcomes (:func:`riskreport.forecasts.fixed_smoothing.smoothing`)."""
+    return int(keep.sum()) >= minimum
 
-    rows = int(keep.sum())
-    if rows < minimum:
-        return False
-    if stats.too_short(rows, steps) is not None:
-        skipped.add(h)
-        return False
-    return True
+
+# The version of each two-forecast test the brief prints: the one that holds its size at the
+# T and h it meets (bench/size.py; the HLN version over-rejects with overlapping errors).
+VERSION: stats.Version = "fixed-smoothing"
 
 
 def _tests(
@@ -165,8 +163,6 @@ def _tests(
 
     combined, no_change = names.combination, names.no_change
     rows: list[stats.TestResult] = []
-    skipped: set[int] = set()
-    crowded: set[int] = set()
     for h in range(horizons + 1):
         steps = steps_ahead(h)
         comb, naive = errors[combined][:, h], errors[no_change][:, h]
@@ -174,49 +170,23 @@ def _tests(
             e = errors[model][:, h]
             for other, e_other in ((combined, comb), (no_change, naive)):
                 keep = _common(e, e_other)
-                if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
-                    result = stats.diebold_mariano(e[keep], e_other[keep], h=steps)
+                if _enough(keep, MIN_TEST_ROWS):
+                    result = stats.diebold_mariano(e[keep], e_other[keep], h=steps, version=VERSION)
                     rows.append(result.labelled("diebold-mariano", (model, other)))
             keep = _common(comb, e)
-            if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
-                result = stats.encompassing(comb[keep], e[keep], h=steps)
+            if _enough(keep, MIN_TEST_ROWS):
+                result = stats.encompassing(comb[keep], e[keep], h=steps, version=VERSION)
                 rows.append(result.labelled("encompassing", (combined, model)))
         keep = _common(comb, naive)
-        if _enough(keep, steps, MIN_TEST_ROWS, h, skipped):
-            result = stats.diebold_mariano(comb[keep], naive[keep], h=steps)
+        if _enough(keep, MIN_TEST_ROWS):
+            result = stats.diebold_mariano(comb[keep], naive[keep], h=steps, version=VERSION)
             rows.append(result.labelled("diebold-mariano", (combined, no_change)))
         if len(current[h]) >= 2:
             matrix = np.column_stack([errors[m][:, h] for m in current[h]])
             keep = _common(matrix)
-            if _enough(keep, steps, max(MIN_TEST_ROWS, len(current[h]) + 2), h, skipped):
-                # Beyond one step the test rests on floor(T^(1/3)) frequencies, which must
-                # be at least half the number of loss differentials (stats._mean_test).
-                rows_kept = int(keep.sum())
-                if (
-                    steps > 1
-                    and 2 * stats.fixed_smoothing_bandwidth(rows_kept) < len(current[h]) - 1
-                ):
-                    crowded.add(h)
-                else:
-                    result = stats.mariano_preve(matrix[keep], h=steps)
-                    rows.append(result.labelled("mariano-preve", tuple(current[h])))
-    if crowded:
-        warnings.warn(
-            "The test of equal accuracy of all current models together (Mariano-Preve) was "
-            f"not run at horizons {periods.ranges(sorted(crowded))}: too many models for the "
-            "past rounds in common (the long-run variance of their loss differentials rests "
-            "on too few frequencies).",
-            SmallSampleWarning,
-            stacklevel=3,
-        )
-    if skipped:
-        warnings.warn(
-            f"Accuracy tests were not run at horizons {periods.ranges(sorted(skipped))}: "
-            "fewer past rounds in common than twice the number of steps ahead, too few to "
-            "estimate the long-run variance of overlapping multi-step errors.",
-            SmallSampleWarning,
-            stacklevel=3,
-        )
+            if _enough(keep, max(MIN_TEST_ROWS, len(current[h]) + 2)):
+                result = stats.mariano_preve(matrix[keep], h=steps)
+                rows.append(result.labelled("mariano-preve", tuple(current[h])))
     return rows
 
 

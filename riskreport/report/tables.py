@@ -5,9 +5,14 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
+from riskreport.report.sections.common import declined
+
+if TYPE_CHECKING:
+    from riskreport.forecasts.stats import TestResult
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
@@ -55,15 +60,19 @@ def track_record_text(a: Assessment, horizons: Sequence[int] | None = None) -> l
             cells.append(f"{fmt.number(r.rmse, 2)} ({r.n})" if r else "-")
         rows.append(cells)
     lines += _table(["h", *models], rows)
-    lines += ["", "Diebold-Mariano (HLN) p-values against the combination (two-sided)", ""]
-    pvalues = {
-        (t.models[0], t.horizon): t.pvalue
+    lines += [
+        "",
+        "Diebold-Mariano p-values against the combination (two-sided; fixed-smoothing beyond one step)",
+        "",
+    ]
+    tests = {
+        (t.models[0], t.horizon): t
         for t in a.tests
         if t.name == "diebold-mariano" and t.models[1] == a.own_names.combination
     }
-    tested = [m for m in models if any((m, h) in pvalues for h in shown)]
+    tested = [m for m in models if any((m, h) in tests for h in shown)]
     rows = [
-        [str(h), *(_pvalue(pvalues[(m, h)]) if (m, h) in pvalues else "-" for m in tested)]
+        [str(h), *(_pvalue(tests[(m, h)]) if (m, h) in tests else "-" for m in tested)]
         for h in shown
     ]
     lines += _table(["h", *tested], rows) if tested else ["(no test could be run)"]
@@ -87,6 +96,9 @@ def written_text(paths: Sequence[Path], out_dir: Path) -> list[str]:
     ]
 
 
-def _pvalue(value: float) -> str:
-    """A p-value to 3 decimals; "undefined" for a test that could not be computed."""
-    return fmt.number(value, 3) if math.isfinite(value) else "undefined"
+def _pvalue(test: TestResult) -> str:
+    """A p-value to 3 decimals; "too few" for a test that declined (too few independent
+    outcomes), "undefined" for one that could not be computed (no variation)."""
+    if declined(test.notes):
+        return "too few"
+    return fmt.number(test.pvalue, 3) if math.isfinite(test.pvalue) else "undefined"

@@ -15,7 +15,8 @@ from scipy import stats as st
 from statsmodels.stats.multivariate import test_mvmean as hotelling_test
 from statsmodels.stats.sandwich_covariance import S_hac_simple, weights_uniform
 
-from riskreport.forecasts import stats
+from riskreport.forecasts import pit_tests, stats
+from riskreport.forecasts.fixed_smoothing import TOO_FEW, smoothing
 from tests.reference.test_scores import PIT as BERKOWITZ_PITS
 
 # Oracle data for Diebold-Mariano with the HLN factor (T = 24, h = 3).
@@ -214,23 +215,74 @@ def test_mariano_preve_rectangular_omega_of_the_oracle_is_indefinite() -> None:
     assert np.linalg.eigvalsh(omega)[0] == pytest.approx(-0.0348, abs=1e-4)
 
 
-def test_mariano_preve_h2_is_the_fixed_smoothing_f() -> None:
-    # h > 1: weighted-periodogram Omega with m = floor(30^(1/3)) = 3 frequencies and the
-    # fixed-smoothing F(2, 2m - 1) (Sun 2013; Coroneo & Iacone 2020), checked against the
-    # FFT route above and scipy.stats.f.
+def test_fixed_smoothing_f_of_the_oracle_matches_the_fft_route() -> None:
+    # Weighted-periodogram Omega with m = 3 frequencies and the fixed-smoothing F(2, 2m - 1)
+    # (Sun 2013; Coroneo & Iacone 2020), checked against the FFT route above and
+    # scipy.stats.f.
     losses = MP_ERRORS**2
     d = losses[:, :-1] - losses[:, 1:]
-    result = stats.mariano_preve(MP_ERRORS, h=2)
+    result = stats.fixed_smoothing_f(d, 3)
     f, p = _periodogram_f(d, 3)
     assert result.statistic == pytest.approx(f, abs=1e-9)
     assert result.pvalue == pytest.approx(p, abs=1e-12)
     assert result.df == (2, 5)
+
+
+def test_mariano_preve_declines_on_the_short_oracle() -> None:
+    # T = 30 two-step rows hold about 15 independent outcomes (effective_sample_size); a
+    # test of two means needs 40 (fixed_smoothing.smoothing): no p-value, a note, never a
+    # rejection.
+    result = stats.mariano_preve(MP_ERRORS, h=2)
+    assert np.isnan(result.pvalue)
+    assert np.isnan(result.statistic)
+    assert result.notes[0].startswith(TOO_FEW)
+    assert "15 independent outcomes" in result.notes[0]
+
+
+def test_mariano_preve_on_a_long_record_is_the_fixed_smoothing_f(
+    rng: np.random.Generator,
+) -> None:
+    # T = 300 two-step rows: m = min(floor(300^(1/3)), floor(150.3 / 10)) = 6 frequencies,
+    # F(2, 11); the FFT route and scipy agree.
+    errors = rng.normal(size=(301, 3))
+    errors = errors[1:] + errors[:-1]  # overlapping two-step errors
+    losses = errors**2
+    d = losses[:, :-1] - losses[:, 1:]
+    assert smoothing(300, 2, 2).frequencies == 6
+    result = stats.mariano_preve(errors, h=2)
+    f, p = _periodogram_f(d, 6)
+    assert result.statistic == pytest.approx(f, abs=1e-9)
+    assert result.pvalue == pytest.approx(p, abs=1e-12)
+    assert result.df == (2, 11)
     assert "periodogram" in result.method
     assert result.notes == ()
     # Invariant to the order of the models (Mariano & Preve 2012, abstract).
-    assert stats.mariano_preve(MP_ERRORS[:, [2, 0, 1]], h=2).statistic == pytest.approx(
+    assert stats.mariano_preve(errors[:, [2, 0, 1]], h=2).statistic == pytest.approx(
         result.statistic, abs=1e-9
     )
+
+
+def test_fixed_smoothing_dm_against_the_fft_route_and_scipy(rng: np.random.Generator) -> None:
+    # Coroneo & Iacone (2020, J. Applied Econometrics 35(4)): t = sqrt(T) d-bar /
+    # sqrt(Omega_m) ~ t(2m); for one mean the F of the FFT route is t squared, F(1, 2m).
+    a, b = rng.normal(size=(2, 121))
+    a, b = a[1:] + a[:-1], b[1:] + b[:-1]  # two-step errors, T = 120: n_eff 60.3, m = 4
+    d = a**2 - b**2
+    result = stats.diebold_mariano(a, b, h=2, version="fixed-smoothing")
+    f, p = _periodogram_f(d[:, None], 4)
+    assert result.statistic**2 == pytest.approx(f, abs=1e-9)
+    assert np.sign(result.statistic) == np.sign(d.mean())
+    assert result.pvalue == pytest.approx(p, abs=1e-12)
+    assert result.df == (8,)
+    # One step ahead both versions are the t-test of the loss differential (scipy).
+    one = stats.diebold_mariano(a, b, version="fixed-smoothing")
+    assert one.statistic == pytest.approx(st.ttest_1samp(d, 0).statistic, abs=1e-9)
+    assert one.pvalue == pytest.approx(st.ttest_1samp(d, 0).pvalue, abs=1e-12)
+    # Encompassing, one-sided, the same variance.
+    enc = stats.encompassing(a, b, h=2, version="fixed-smoothing")
+    f, _ = _periodogram_f((a * (a - b))[:, None], 4)
+    assert enc.statistic**2 == pytest.approx(f, abs=1e-9)
+    assert enc.pvalue == pytest.approx(st.t.sf(enc.statistic, 8), abs=1e-12)
 
 
 def test_mariano_preve_h1_is_hotelling() -> None:
@@ -260,11 +312,11 @@ def test_mariano_preve_reduces_to_mdm_squared(rng: np.random.Generator) -> None:
 def test_knuppel_against_hotelling_and_the_periodogram(rng: np.random.Generator) -> None:
     # The 20 PITs of the Berkowitz oracle; h = 1: Hotelling on (u, u^2 - 1) (statsmodels
     # test_mvmean);
-    # h = 3: the fixed-smoothing F by the FFT route.
+    # the fixed-smoothing F by the FFT route.
     pit = np.array(BERKOWITZ_PITS)
     u = np.sqrt(12) * (pit - 0.5)
     d = np.column_stack([u, u**2 - 1])
-    one = stats.knuppel(pit, h=1, moments=2)
+    one = stats.hotelling_f(d)  # the test's one-step route (20 PITs: the test declines)
     hotelling = hotelling_test(d, mean_null=0)
     assert one.statistic == pytest.approx(float(hotelling.statistic), abs=1e-9)
     assert one.pvalue == pytest.approx(float(hotelling.pvalue), abs=1e-12)
@@ -272,10 +324,14 @@ def test_knuppel_against_hotelling_and_the_periodogram(rng: np.random.Generator)
     # Omega is 0.861693 for moments 1-2 (statsmodels S_hac_simple with 0 lags, computed
     # outside the project); Hotelling's F is (T - q)/(q T) of it.
     assert one.statistic == pytest.approx(0.861693 * 18 / 40, abs=1e-6)
-    three = stats.knuppel(pit, h=3, moments=2)
     f, p = _periodogram_f(d, 2)
-    assert (three.statistic, three.pvalue) == pytest.approx((f, p), abs=1e-9)
-    assert three.df == (2, 3)
+    fixed = stats.fixed_smoothing_f(d, 2)
+    assert (fixed.statistic, fixed.pvalue) == pytest.approx((f, p), abs=1e-9)
+    assert fixed.df == (2, 3)
+    # 20 three-step PITs hold about 7 independent outcomes: the test declines.
+    three = pit_tests.knuppel(pit, h=3, moments=2)
+    assert np.isnan(three.pvalue)
+    assert three.notes[0].startswith(TOO_FEW)
 
 
 def test_identical_forecasts_give_an_undefined_test_not_p_one() -> None:

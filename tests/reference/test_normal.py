@@ -101,21 +101,25 @@ def test_a_law_rescaled_about_zero_keeps_its_meaning_in_every_bootstrap_replicat
     assert moved.mode == pytest.approx(s * replicate.loc + 0.3, abs=1e-12)
 
 
-def test_bias_corrected_bootstrap_interval_follows_efron() -> None:
-    # Efron (1987), "Better bootstrap confidence intervals", JASA 82(397), eq. 2.3 with no
-    # acceleration (a = 0); also Efron & Tibshirani (1993), An Introduction to the
-    # Bootstrap, section 14.3: z0 = Phi^-1(share below the estimate), and the interval is
-    # the replicates' quantiles at Phi(2 z0 -/+ z_(1 - alpha/2)).
-    from riskreport.laws.probabilities import bias_corrected_interval
+def test_effective_sample_interval_is_the_percentile_interval_widened_on_log_odds() -> None:
+    # Percentile interval (Efron & Tibshirani 1993, An Introduction to the Bootstrap,
+    # section 13.3): with widen = 1 and replicates whose log-odds are symmetric about the
+    # estimate's, the interval is the replicates' own 5% and 95% quantiles. Log-odds and
+    # their inverse from scipy.special (logit, expit).
+    from scipy.special import expit, logit
 
-    replicated = stats.norm.ppf((np.arange(10_000) + 0.5) / 10_000)  # exact N(0, 1) quantiles
-    # With the estimate at the replicates' median, z0 = 0: the percentile interval.
-    assert bias_corrected_interval(replicated, 0.0, 0.9) == pytest.approx(
-        tuple(np.quantile(replicated, [0.05, 0.95])), abs=1e-12
-    )
-    # With 80% of the replicates below the estimate, z0 = Phi^-1(0.8) = 0.8416 and the
-    # quantiles move to Phi(2 (0.8416) -/+ 1.6449) = 0.5153 and 0.99956 (hand computed).
-    estimate = float(np.quantile(replicated, 0.8))
-    lo, hi = bias_corrected_interval(replicated, estimate, 0.9)
-    assert stats.norm.cdf(lo) == pytest.approx(0.5153, abs=2e-4)
-    assert stats.norm.cdf(hi) == pytest.approx(0.99956, abs=2e-4)
+    from riskreport.laws.probabilities import effective_sample_interval
+
+    odds = logit(0.6) + 0.3 * stats.norm.ppf((np.arange(10_000) + 0.5) / 10_000)
+    replicated = expit(odds)
+    lo, hi = effective_sample_interval(replicated, 0.6, 0.9, 1.0)
+    assert (lo, hi) == pytest.approx(tuple(np.quantile(replicated, [0.05, 0.95])), abs=1e-6)
+    # Widened by 2 (a record holding a quarter as many independent outcomes as errors):
+    # twice the log-odds half-widths, 2 x 0.3 x 1.6449 (hand computed), about the estimate.
+    lo, hi = effective_sample_interval(replicated, 0.6, 0.9, 2.0)
+    assert logit(hi) - logit(0.6) == pytest.approx(2 * 0.3 * 1.644854, abs=2e-3)
+    assert logit(0.6) - logit(lo) == pytest.approx(2 * 0.3 * 1.644854, abs=2e-3)
+    # Placed at the estimate, not at the replicates' median: a shifted estimate moves it.
+    lo2, hi2 = effective_sample_interval(replicated, 0.7, 0.9, 2.0)
+    assert logit(lo2) - logit(lo) == pytest.approx(logit(0.7) - logit(0.6), abs=1e-9)
+    assert 0 < lo2 < 0.7 < hi2 < 1

@@ -15,7 +15,8 @@ import pytest
 import scoringrules as sr
 from scipy import integrate, stats
 
-from riskreport.forecasts import stats as rstats
+from riskreport.forecasts import pit_tests as rstats
+from riskreport.forecasts import stats as accuracy_stats
 from riskreport.laws._families import SkewNormalFit
 from riskreport.replay import scores
 
@@ -236,16 +237,26 @@ def test_knuppel_oracles() -> None:
     # Knueppel (2015) alpha with an iid, centred covariance (statsmodels S_hac_simple, 0 lags,
     # computed outside the project), moments 1-2: 0.861693; 1-4: 1.152559. One step
     # ahead the test reports Hotelling's F = (T - q)/(q T) alpha ~ F(q, T - q) (Anderson
-    # 2003, Thm 5.2.2), T = 20.
-    two = rstats.knuppel(PIT, h=1, moments=2)
+    # 2003, Thm 5.2.2), T = 20: the formula through the test's Hotelling step, since with
+    # 20 PITs the test itself declines (too few outcomes for the F to hold its size).
+    u = np.sqrt(12) * (np.asarray(PIT) - 0.5)
+    moments = np.column_stack([u, u**2 - 1, u**3, u**4 - 9 / 5])
+    two = accuracy_stats.hotelling_f(moments[:, :2])
     assert two.statistic == pytest.approx(0.861693 * 18 / 40, abs=1e-6)
     assert two.df == (2, 18)
-    four = rstats.knuppel(PIT, h=1, moments=4)
+    four = accuracy_stats.hotelling_f(moments)
     assert four.statistic == pytest.approx(1.152559 * 16 / 80, abs=1e-6)
+    assert np.isnan(rstats.knuppel(PIT, h=1, moments=2).pvalue)
+    # 40 PITs (the oracle's twice, in order): the test speaks, and is the same F.
+    doubled = np.r_[PIT, PIT]
+    d = moments[:, :2][np.r_[np.arange(20), np.arange(20)]]
+    assert rstats.knuppel(doubled, h=1, moments=2).statistic == pytest.approx(
+        accuracy_stats.hotelling_f(d).statistic, abs=1e-12
+    )
     # Bartlett L = 2, centred, moments 1-4: alpha = 2.388942 (the kernel is no longer the
     # test's, but the long-run covariance helper still computes it).
     u = np.sqrt(12) * (np.asarray(PIT) - 0.5)
     d = np.column_stack([u, u**2 - 1, u**3, u**4 - 9 / 5])
-    omega = rstats.long_run_covariance(d, 2, kernel="bartlett")
+    omega = accuracy_stats.long_run_covariance(d, 2, kernel="bartlett")
     alpha = 20 * d.mean(0) @ np.linalg.solve(omega, d.mean(0))
     assert alpha == pytest.approx(2.388942, abs=1e-6)

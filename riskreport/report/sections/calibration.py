@@ -17,8 +17,10 @@ from riskreport.report.sections.common import (
     Table,
     ahead_label,
     chart,
+    declined,
     join_h,
     summary_horizons,
+    too_few_text,
     units,
 )
 
@@ -112,10 +114,14 @@ def calibration(
             f"({fmt.p_value(berk.pvalue)})."
         )
     knuppel = [h for h in shown if ("knuppel", h) in tests]
-    # A test with no value (no variation in the PITs) supports neither verdict.
+    # A test with no value supports neither verdict: it declined (too few independent
+    # outcomes for it to hold its size) or the PITs did not vary.
     run = [h for h in knuppel if math.isfinite(tests[("knuppel", h)].pvalue)]
-    undefined = [h for h in knuppel if h not in run]
+    too_few = [h for h in knuppel if declined(tests[("knuppel", h)].notes)]
+    undefined = [h for h in knuppel if h not in run and h not in too_few]
     rejected = [h for h in run if tests[("knuppel", h)].pvalue < SIGNIFICANCE]
+    if too_few:
+        lines.append(too_few_text(a, too_few, "calibration (raw-moment test)"))
     if undefined:
         lines.append(
             f"The raw-moment calibration test could not be computed at {join_h(a, undefined)}: "
@@ -131,7 +137,7 @@ def calibration(
                 "power far ahead, so this is weak evidence that the ranges are right."
             )
         )
-    elif not undefined:
+    elif not undefined and not too_few:
         lines.append(
             "The calibration tests were not run: they need at least "
             f"{MIN_TEST_ROUNDS} replayed rounds at a horizon."

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 from typing import Generic, TypeVar
 
 from riskreport.assessment import Assessment, HorizonResult
+from riskreport.forecasts.fixed_smoothing import TOO_FEW
 from riskreport.report import formatting as fmt
 from riskreport.report import verbal
 
@@ -158,6 +159,22 @@ def inside_split(a: Assessment, texts: tuple[str, str, str], band: str = "the ba
 
 
 SIGNIFICANCE = 0.05  # conventional test level (common practice, no source)
+
+
+def declined(notes: tuple[str, ...]) -> bool:
+    """A test that did not speak because the record holds too few independent outcomes
+    (:func:`riskreport.forecasts.fixed_smoothing.smoothing`): no verdict either way."""
+    return any(note.startswith(TOO_FEW) for note in notes)
+
+
+def too_few_text(a: Assessment, hs: list[int], what: str) -> str:
+    """ "Too few independent outcomes at 13 and 18 months ahead to test ...": a declined
+    test in plain words."""
+    return (
+        f"Too few independent outcomes at {join_h(a, hs)} to test {what}: forecasts made in "
+        "consecutive rounds share the shocks of the months between them, so the past rounds "
+        "hold fewer independent outcomes than the test needs to hold its size."
+    )
 
 
 def span(values: list[int]) -> str:

@@ -34,15 +34,16 @@ ONE_RELEASE_TEXT = (
     "column in the actuals would replay what was known at each round)"
 )
 TESTS_METHOD = (
-    "Two forecasts: Diebold-Mariano and encompassing tests with the Harvey-Leybourne-Newbold "
-    "correction, Student t; for a forecast n periods ahead the long-run variance uses n\u22121 lags "
-    "(rectangular window, Bartlett when that is negative). Several forecasts (Mariano-Preve) "
-    "and the calibration test of overlapping PITs (Knueppel): Hotelling F one step ahead; "
-    "further ahead, a weighted-periodogram variance with a fixed-smoothing F, because the "
-    "textbook chi-square versions reject a true null two to five times too often in samples "
-    "like ours (in simulations the calibration test still rejects too often far ahead in "
-    "short samples). Tests are skipped when there are fewer past rounds than twice the steps "
-    "ahead; a test with no variation to test has no p-value."
+    "One step ahead: Diebold-Mariano and encompassing tests with the Harvey-Leybourne-Newbold "
+    "correction, Student t; Mariano-Preve (several forecasts) and the calibration test of "
+    "PITs (Knueppel): Hotelling F. Further ahead the errors of consecutive rounds overlap: "
+    "every test uses a weighted-periodogram variance with a fixed-smoothing t or F "
+    "(Coroneo and Iacone 2020), with as many frequencies as the independent outcomes in the "
+    "record allow (one per four for two forecasts, more for several; at most the cube root "
+    "of the rounds). Where they are too few for any version to hold its size, the test "
+    "declines and the brief says so; the textbook versions reject a true null two to ten "
+    "times too often there. The PIT histograms' chi-square is a description, not a test; a "
+    "test with no variation to test has no p-value."
 )
 
 
@@ -260,9 +261,9 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
         ),
         KeyValue(
             "Plausible range of inside",
-            f"{int(100 * u.interval_level)}% of {u.bootstrap_replicates} moving-block "
-            "bootstrap resamples of the past errors (bias-corrected percentiles, Efron "
-            "1987); it leaves out the uncertainty of the "
+            f"{int(100 * u.interval_level)}% of {u.bootstrap_replicates} bootstrap "
+            "resamples of the past errors, widened to the number of independent outcomes "
+            "among overlapping errors; it leaves out the uncertainty of the "
             "choice of method (the sensitivity panel shows that)",
         ),
         KeyValue(

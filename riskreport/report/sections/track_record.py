@@ -16,9 +16,11 @@ from riskreport.report.sections.common import (
     Table,
     ahead_header,
     chart,
+    declined,
     join_h,
     span,
     summary_horizons,
+    too_few_text,
     units,
 )
 
@@ -87,17 +89,25 @@ def accuracy(a: Assessment) -> tuple[tuple[str, ...], tuple[AccuracyLine, ...], 
     return tuple(ahead_header(a, h) for h in shown), tuple(lines), text
 
 
+DM_NAME = (
+    "Diebold-Mariano test; beyond one step ahead with a fixed-smoothing variance, Coroneo and "
+    "Iacone 2020"
+)
+
+
 def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     """Plain sentences on the comparative tests at the horizons shown.
 
     Only tests that were run and have a p-value speak: a test skipped (too few past
-    rounds) or undefined (no variation) supports no "not significant" statement.
+    rounds), declined (too few independent outcomes for any version to hold its size) or
+    undefined (no variation) supports no "not significant" statement.
     """
     ran = [t for t in a.tests if t.horizon in shown and math.isfinite(t.pvalue)]
     if not ran:
         return (
             "No accuracy test could be computed at these horizons (too few past rounds, or "
             "no variation to test), so no difference in accuracy is established either way.",
+            *declined_text(a, shown),
             *undefined_text(a),
         )
     # Statements about "these horizons" only when every shown horizon's tests ran.
@@ -120,14 +130,14 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
         tested = "" if whole else f" ({join_h(a, sorted({t.horizon for t in dm}))} tested)"
         lines.append(
             f"No model's accuracy differs significantly from the combination's at the {level} "
-            f"level{tested} (Diebold-Mariano test with the Harvey-Leybourne-Newbold correction)."
+            f"level{tested} ({DM_NAME})."
         )
     else:
         parts = [f"{m} ({join_h(a, hs)})" for m, hs in worse.items()]
         if parts:
             lines.append(
                 f"The combination is significantly more accurate than {'; '.join(parts)} at "
-                f"the {level} level (Diebold-Mariano, HLN correction)."
+                f"the {level} level ({DM_NAME})."
             )
         parts = [f"{m} ({join_h(a, hs)})" for m, hs in better.items()]
         if parts:
@@ -174,19 +184,14 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
             f"{'these horizons' if whole else none_at(encompassing)} (encompassing test, "
             "HLN 1998); with this many past rounds the test may miss a small gain."
         )
-    fallback = [t for t in ran if any("Bartlett" in note for note in t.notes)]
-    if fallback:
-        lines.append(
-            f"In {len(fallback)} of these {len(ran)} tests the usual (rectangular) long-run "
-            "variance came out negative, as it can for overlapping multi-step errors; those "
-            "tests use the Bartlett kernel instead (Harvey, Leybourne and Whitehouse 2017)."
-        )
+    lines.extend(declined_text(a, shown))
     lines.extend(undefined_text(a))
     n = sorted({t.nobs for t in dm})
     if n:
         lines.append(
-            f"Tests use {span(n)} past rounds per horizon; overlapping multi-step "
-            "errors make them less reliable at long horizons."
+            f"Tests use {span(n)} past rounds per horizon; errors of forecasts made in "
+            "consecutive rounds overlap, so each test uses only as much smoothing as the "
+            "independent outcomes allow, and speaks only where it holds its size."
         )
     if len(ran) > 1:
         lines.append(
@@ -198,9 +203,32 @@ def tests_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
     return tuple(lines)
 
 
+DECLINED_WHAT = {
+    "diebold-mariano": "differences in accuracy between two forecasters (Diebold-Mariano)",
+    "encompassing": "whether a model adds information to the combination (encompassing)",
+    "mariano-preve": "all current models together (Mariano-Preve)",
+}
+
+
+def declined_text(a: Assessment, shown: tuple[int, ...]) -> tuple[str, ...]:
+    """One sentence per test that declined at horizons shown (too few independent outcomes)."""
+    lines = []
+    for name, what in DECLINED_WHAT.items():
+        hs = sorted(
+            {
+                t.horizon
+                for t in a.tests
+                if t.name == name and t.horizon in shown and declined(t.notes)
+            }
+        )
+        if hs:
+            lines.append(too_few_text(a, hs, what))
+    return tuple(lines)
+
+
 def undefined_text(a: Assessment) -> tuple[str, ...]:
-    """The count of tests with no p-value (nothing varied), when there are any."""
-    undefined = [t for t in a.tests if not math.isfinite(t.pvalue)]
+    """The count of tests with no p-value because nothing varied, when there are any."""
+    undefined = [t for t in a.tests if not math.isfinite(t.pvalue) and not declined(t.notes)]
     if not undefined:
         return ()
     return (
