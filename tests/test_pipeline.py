@@ -218,8 +218,8 @@ def test_test_rows_carry_the_reference_distribution(case: Case) -> None:
     dm = [t for t in a.tests if t.name == "diebold-mariano"]
     assert dm
     for t in dm:
-        rule = smoothing(t.nobs, t.h + 1)
-        if t.h == 0:
+        rule = smoothing(t.nobs, t.h)  # TestResult.h counts steps ahead
+        if t.horizon == 0:
             assert t.df == (t.nobs - 1,)
         elif rule.declined is None:
             assert t.df == (2 * rule.frequencies,)
