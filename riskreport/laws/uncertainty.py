@@ -16,12 +16,12 @@ import numpy as np
 
 from riskreport._typing import Family
 from riskreport.errors import BoundaryFitWarning, InputError, SmallSampleWarning
-from riskreport.laws import distributions, dynamics
+from riskreport.laws import distributions, dynamics, predictive
 from riskreport.laws.distributions import GIVEN_FAMILY, Distribution
 from riskreport.reading import periods
 from riskreport.reading.config import Config
 from riskreport.reading.inputs import ErrorQuantiles
-from riskreport.reading.panel import window_mask
+from riskreport.reading.panel import steps_ahead, window_mask
 from riskreport.replay import selection
 
 SMALL_SAMPLE = 30  # fewer errors than this earns a caution (common practice, no source)
@@ -183,6 +183,8 @@ def build(
         if used:
             thin.append(f"{h} (from h = {', '.join(map(str, used))})")
         fitted = _fit(family, sample, mode, h)
+        if cfg.uncertainty.predictive == "student-t" and fitted.family == "normal":
+            fitted = predictive.student(fitted, steps_ahead(h), mode_fixed=mode is not None)
         samples.append(sample[np.isfinite(sample)])
         own.append(int(columns[h].size))
         families.append(fitted.family)

@@ -153,6 +153,7 @@ def replay(
     candidates: tuple[Candidate, ...],
     cache: ReplayCache | None = None,
     windows: dict[SpreadOption, np.ndarray] | None = None,
+    predictive: bool = False,
 ) -> dict[tuple[str, int], HorizonReplay]:
     """Replay every candidate at every horizon, keyed by (candidate label, h).
 
@@ -163,7 +164,8 @@ def replay(
     spread option, gives each panel origin row its own window (chosen by
     :func:`choose_windows`) for the families of ``WINDOW_FAMILIES``; otherwise every
     origin uses ``window``. With a ``cache``, origins replayed before with identical inputs
-    are taken from it.
+    are taken from it. With ``predictive`` the normal law is replayed as its Student t
+    predictive (:mod:`riskreport.laws.predictive`).
     """
     spreads = list(dict.fromkeys(c.spread for c in candidates))
     per_row = {s: (windows or {}).get(s) for s in spreads}
@@ -194,15 +196,30 @@ def replay(
                     shared = chosen if c.family in WINDOW_FAMILIES else fixed
                     if cache is None:
                         out[(c.label, h)] = calibration.replay_horizon(
-                            c.family, shared, mode=mode, scale=at, label=c.label
+                            c.family,
+                            shared,
+                            mode=mode,
+                            scale=at,
+                            label=c.label,
+                            predictive=predictive,
                         )
                     elif pending is None:
                         out[(c.label, h)] = cache.replay_horizon(
-                            c.family, shared, mode=mode, scale=at, label=c.label
+                            c.family,
+                            shared,
+                            mode=mode,
+                            scale=at,
+                            label=c.label,
+                            predictive=predictive,
                         )
                     else:
                         out[(c.label, h)], found = cache.lookup(
-                            c.family, shared, mode=mode, scale=at, label=c.label
+                            c.family,
+                            shared,
+                            mode=mode,
+                            scale=at,
+                            label=c.label,
+                            predictive=predictive,
                         )
                         pending.append(found)
         return out
@@ -299,6 +316,7 @@ def choose_windows(
     band_for: Callable[[int], Band],
     spreads: tuple[SpreadOption, ...],
     cache: ReplayCache | None = None,
+    predictive: bool = False,
 ) -> tuple[dict[tuple[str, int], HorizonReplay], dict[SpreadOption, WindowChoice]]:
     """Choose the window at each past origin, per spread option, prequentially.
 
@@ -322,6 +340,7 @@ def choose_windows(
             band_for=band_for,
             candidates=base,
             cache=cache,
+            predictive=predictive,
         ).items():
             runs[(window_label(label, w), h)] = run
     n = panel.origins.size
