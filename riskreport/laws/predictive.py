@@ -14,9 +14,10 @@ memory):
   s_u^2 = sum((e - mean)^2) / (n - 1).
 
 Overlapping h-step errors hold fewer than n independent pieces of evidence: n is replaced
-by the record's effective size (:func:`riskreport.forecasts.overlap.effective_sample_size`,
-``steps = h + 1``), which sets the degrees of freedom and the widening of the scale, while
-s is still computed from every error of the window (it is unbiased either way).
+by the record's effective size about its spread (the count of
+:func:`riskreport.forecasts.overlap.effective_sample_size`, ``steps = h + 1``, times
+:func:`variance_factor`), which sets the degrees of freedom and the widening of the scale,
+while s is still computed from every error of the window.
 """
 
 from __future__ import annotations
@@ -34,6 +35,24 @@ from riskreport.forecasts.overlap import effective_sample_size
 # Fewest degrees of freedom used: below 2 the t has no variance and the spread of the
 # monotone rule is undefined (common practice, no source).
 MIN_DF = 2.0
+
+
+def variance_factor(steps: int) -> float:
+    """How many more independent pieces a record holds about a spread than about a mean.
+
+    For Gaussian errors cov(x_i^2, x_j^2) = 2 rho_ij^2 sigma^4 (Isserlis 1918, Biometrika
+    12), so a mean of squares has the effective size n^2 / sum rho^2 where a mean has
+    n^2 / sum rho. Under the triangular autocorrelation of efficient ``steps``-step errors
+    (:mod:`riskreport.forecasts.overlap`), sum rho = s and sum rho^2 = 1 + (s - 1)(2s - 1)
+    / (3s) per error of a long record: the ratio 3 s^2 / (2 s^2 + 1), 1 at one step and
+    3/2 for long horizons.
+
+    Examples
+    --------
+    >>> variance_factor(1), round(variance_factor(13), 3)
+    (1.0, 1.496)
+    """
+    return 3.0 * steps**2 / (2.0 * steps**2 + 1.0)
 
 
 @functools.lru_cache(maxsize=4096)
@@ -61,7 +80,7 @@ def degrees_and_widening(
     eff = np.array([effective_size(max(int(c), 1), steps) for c in counts.ravel()]).reshape(
         counts.shape
     )
-    eff = np.maximum(eff, 1.0)
+    eff = np.maximum(eff * variance_factor(steps), 1.0)
     if mode_fixed:
         return np.maximum(eff, MIN_DF), np.ones_like(eff)
     # s_u sqrt(1 + 1/n_eff), with the ML scale's divisor n turned into n - 1.

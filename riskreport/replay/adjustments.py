@@ -445,6 +445,23 @@ def verdict(result: Replays) -> Verdict:
     )
 
 
+def method_reason(cfg: Config) -> tuple[str, str]:
+    """Whether the method is the default or configured, and one sentence on why it ran."""
+    u = cfg.uncertainty
+    what = (
+        f"distribution = {u.distribution}, spread = {u.spread}, centre = {u.centre}, "
+        f"predictive = {u.predictive}, recalibrate = {'true' if u.recalibrate else 'false'}, "
+        f"window = {u.window or 'all'}"
+    )
+    if not u.configured:
+        return "defaults", (
+            f"The default method ({what}): the one whose replay held best on real inflation "
+            "histories (docs/method.md, 'The default method and its evidence')."
+        )
+    keys = ", ".join(u.configured)
+    return "configured", f"As configured ({keys} set in [uncertainty]): {what}."
+
+
 def family_totals(result: Replays) -> dict[str, float]:
     """Per family, today's best record over its spread options (for the ``auto`` record)."""
     totals: dict[str, float] = {}
@@ -501,6 +518,13 @@ class Adjustments:
     factors
         Per horizon, today's scale factor of the spread: the volatility (``ewma``), the
         ratio of the joint to the own ML spread (``joint``) or 1 (``constant``).
+    method_source
+        ``defaults`` when the config sets no method key in ``[uncertainty]``, else
+        ``configured``.
+    method_reason
+        Which method ran and why, in one sentence.
+    predictive
+        The configured ``[uncertainty] predictive`` (``student-t`` or ``plug-in``).
     """
 
     spread_option: str
@@ -519,3 +543,6 @@ class Adjustments:
     window_grid: tuple[int, ...] = ()
     window_spells: tuple[MethodSpell, ...] = ()
     factors: tuple[float, ...] = ()
+    method_source: str = "defaults"
+    method_reason: str = ""
+    predictive: str = "plug-in"
