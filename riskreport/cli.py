@@ -435,6 +435,9 @@ def _compare(old: Path, new: Path) -> dict[str, Any]:
         "old_as_of": result.old_as_of,
         "new_as_of": result.new_as_of,
         "horizons": [dataclasses.asdict(r) for r in result.rows],
+        "methods_differ": result.methods_differ,
+        "old_method": result.old_method,
+        "new_method": result.new_method,
         "summary": compare.text(result),
     }
 
