@@ -134,7 +134,11 @@ def _label(ordinal: int, frequency: str) -> str:
 
 def write_case(history: History, folder: Path) -> Path:
     """The forecasts, actuals and a config (no method keys) of one history."""
-    y, per_year, horizons = history.series, 12 if history.frequency == "monthly" else 4, history.horizons
+    y, per_year, horizons = (
+        history.series,
+        12 if history.frequency == "monthly" else 4,
+        history.horizons,
+    )
     labels = [_label(history.start + i, history.frequency) for i in range(y.size + horizons)]
     rows = ["origin,period,model,value"]
     for o in range(4 * per_year, y.size):
@@ -198,7 +202,9 @@ def figures(a: pipeline.Assessment) -> Figures:
     )
 
 
-def true_law_floor(history: History, records: int = SIMULATED_RECORDS) -> dict[str, tuple[float, float]]:
+def true_law_floor(
+    history: History, records: int = SIMULATED_RECORDS
+) -> dict[str, tuple[float, float]]:
     """95th and 99th percentiles of each calibration figure when the true law is replayed
     on simulated records like the history (same length, horizons, persistence, band)."""
     y = history.series
@@ -262,10 +268,10 @@ def main(steps: bool = "--steps" in sys.argv) -> None:
             b, f = figures(before), figures(after)
             gains.append(f.log_score - f.baseline)
             print(f"\n{history.name} ({history.source})")
-            print(f"{'':<22} {'log score':>9} {'50% gap':>8} {'90% gap':>8} {'PIT bin':>8} {'P(in) rel':>9}")
             print(
-                f"{'constant normal law':<22} {f.baseline:>9.3f}"
+                f"{'':<22} {'log score':>9} {'50% gap':>8} {'90% gap':>8} {'PIT bin':>8} {'P(in) rel':>9}"
             )
+            print(f"{'constant normal law':<22} {f.baseline:>9.3f}")
             for name, x in (("before (old defaults)", b), ("after (defaults)", f)):
                 print(
                     f"{name:<22} {x.log_score:>9.3f} {x.gap_50:>8.3f} {x.gap_90:>8.3f} "
@@ -274,13 +280,15 @@ def main(steps: bool = "--steps" in sys.argv) -> None:
             print(
                 f"{'true law 95% / 99%':<22} {'':>9} "
                 + " ".join(
-                    f"{floor[k][0]:.3f}/{floor[k][1]:.3f}".rjust(9 if k == 'reliability' else 8)
+                    f"{floor[k][0]:.3f}/{floor[k][1]:.3f}".rjust(9 if k == "reliability" else 8)
                     for k in ("gap_50", "gap_90", "pit", "reliability")
                 )
             )
             adj = after.adjustments
             assert adj is not None
-            print(f"today's method: {adj.method}; builds {t_before:.1f} s before, {t_after:.1f} s after")
+            print(
+                f"today's method: {adj.method}; builds {t_before:.1f} s before, {t_after:.1f} s after"
+            )
             if steps:
                 for name, options in STEPS:
                     a, seconds = _assess(path, **options)

@@ -126,3 +126,8 @@ class HeadlineBasisWarning(RiskReportWarning):
 
 class CombinationRangeWarning(RiskReportWarning):
     """Estimated weights are negative, or the combined forecast leaves the models' range."""
+
+
+class CentreCorrectionWarning(RiskReportWarning):
+    """The error law's estimated centre moves the outcome's centre off the point forecast
+    by more than a tenth of the target band's width."""

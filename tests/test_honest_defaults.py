@@ -88,7 +88,9 @@ def test_replay_is_as_calibrated_as_the_true_law(
 ) -> None:
     path, _, sd = world
     a = assess_config(config.load(path), search=path.parent / "none")
-    y = np.array([float(line.split(",")[1]) for line in (path.parent / "a.csv").read_text().split()[1:]])
+    y = np.array(
+        [float(line.split(",")[1]) for line in (path.parent / "a.csv").read_text().split()[1:]]
+    )
     hs = np.arange(HORIZONS + 1)
     gaps, true_gaps = [], []
     for nominal in (0.5, 0.9):
@@ -136,3 +138,39 @@ def test_crps_of_the_t_matches_scoringrules() -> None:
     # scoringrules.crps_t (Jordan, Krueger & Lerch 2019, J. Stat. Softw. 90(12)).
     expected = sr.crps_t(y, 5.0, 0.2, 1.5)
     np.testing.assert_allclose(ours, expected, rtol=1e-8)
+
+
+def test_two_piece_scales_stay_within_the_bounded_ratio() -> None:
+    # Forty errors, most just above zero and a few large ones: the free maximum
+    # likelihood puts one scale far below the other (John's closed form, John 1982,
+    # Communications in Statistics A 11(8)); the bounded fit keeps the ratio at most 3 and
+    # its log-likelihood is the two-piece normal's own density summed (Wallis 2014,
+    # Statistical Science 29(1), eq. 1: f = sqrt(2/pi) / (s1 + s2) exp(-(x - m)^2 / 2 s^2)).
+    from riskreport.laws._families import TPN_MAX_RATIO, fit_two_piece_normal_batch
+
+    x = np.array([[0.1, 0.2, 0.05, 3.0, 2.5, -0.1, 0.15, 0.12] * 5])
+    fit = fit_two_piece_normal_batch(x, 0.0)
+    s1, s2 = float(fit.sigma1[0]), float(fit.sigma2[0])
+    assert max(s1, s2) / min(s1, s2) == pytest.approx(TPN_MAX_RATIO)
+    sd = np.where(x[0] < 0, s1, s2)
+    density = np.sqrt(2 / np.pi) / (s1 + s2) * np.exp(-(x[0] ** 2) / (2 * sd**2))
+    assert float(fit.loglik[0]) == pytest.approx(float(np.sum(np.log(density))), rel=1e-10)
+    # ... and it is the maximum on that boundary: a nearby scale on it does worse.
+    for k in (0.98, 1.02):
+        t1, t2 = s1 * k, s2 * k
+        sd = np.where(x[0] < 0, t1, t2)
+        other = np.sum(np.log(np.sqrt(2 / np.pi) / (t1 + t2)) - x[0] ** 2 / (2 * sd**2))
+        assert other < float(fit.loglik[0])
+
+
+def test_an_estimated_centre_that_moves_far_is_said(tmp_path: Path) -> None:
+    from tests.conftest import constant_forecast_world
+
+    rng = np.random.default_rng(4)
+    errors = 0.6 + 0.3 * rng.standard_normal(80)  # a mean error of 0.6 against a band of 2
+    path = constant_forecast_world(tmp_path, errors)
+    cfg = config.load(path)
+    moved = assess_config(cfg.replaced("uncertainty", centre="estimated"), search=tmp_path / "none")
+    assert any("tenth of the band's width" in w for w in moved.warnings)
+    kept = assess_config(cfg, search=tmp_path / "none")
+    assert not any("tenth of the band's width" in w for w in kept.warnings)

@@ -178,4 +178,3 @@ def crps_student(y: ArrayLike, loc: ArrayLike, scale: ArrayLike, df: ArrayLike) 
         / (df - 1)
     )
     return np.asarray(s * (z * (2 * big_f - 1) + 2 * f * (df + z**2) / (df - 1) - tail))
-

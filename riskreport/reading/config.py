@@ -571,7 +571,8 @@ def load(path: str | Path) -> Config:
 
     method = cast(CombinationMethod, combination.choice("method", COMBINATION_METHODS, "equal"))
     distribution = cast(
-        DistributionChoice, uncertainty.choice("distribution", DISTRIBUTION_CHOICES, DEFAULT_METHOD["distribution"])
+        DistributionChoice,
+        uncertainty.choice("distribution", DISTRIBUTION_CHOICES, DEFAULT_METHOD["distribution"]),
     )
     formats_raw = output._get("formats", list, "a list of formats", list(OUTPUT_FORMATS))
     for item in formats_raw:
@@ -581,7 +582,9 @@ def load(path: str | Path) -> Config:
             )
     directory = output._get("directory", str, "a folder path", "out")
     shrinkage = _shrinkage(combination)
-    spread = cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, DEFAULT_METHOD["spread"]))
+    spread = cast(
+        SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, DEFAULT_METHOD["spread"])
+    )
     if spread in ("ewma", "joint") and distribution not in ("auto", *EWMA_FAMILIES):
         # The replay offers these spreads only with these laws: no candidate would be
         # left to choose from (was an IndexError, exit 1).
