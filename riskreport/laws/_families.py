@@ -314,7 +314,8 @@ def fit_two_piece_normal_batch(
                     ]
                 )
             s1, s2 = _side_sums(x, m)
-    sigma1, sigma2, loglik = _bounded_ratio(*_tpn_scales(s1, s2, n), s1, s2, n)
+    free1, free2, free_loglik = _tpn_scales(s1, s2, n)
+    sigma1, sigma2, loglik = _bounded_ratio(free1, free2, free_loglik, s1, s2, n)
     with np.errstate(invalid="ignore"):
         constant = np.nanmax(x, axis=1) == np.nanmin(x, axis=1)
     boundary = np.asarray(boundary) & ~constant  # rounding noise, not an edge optimum

@@ -10,6 +10,7 @@ horizon and is used exactly as given.
 from __future__ import annotations
 
 import warnings
+from collections.abc import Collection
 from dataclasses import dataclass
 
 import numpy as np
@@ -125,7 +126,7 @@ def _monotone(fits: list[Distribution], given: set[int]) -> list[Distribution]:
 CENTRE_SHARE = 0.1
 
 
-def _warn_centre(cfg: Config, fits: list[Distribution], given: dict[int, object]) -> None:
+def _warn_centre(cfg: Config, fits: list[Distribution], given: Collection[int]) -> None:
     """Warn where the estimated centre of the errors (``centre = "estimated"``) moves the
     outcome's centre by more than CENTRE_SHARE of the band's width."""
     moved: list[int] = []
