@@ -57,7 +57,9 @@ BEFORE = {
     "predictive": "plug-in",
     "window": 120,
 }
-STEPS: tuple[tuple[str, dict[str, object]], ...] = (  # the default built up one step at a time (the cost of each step)
+STEPS: tuple[
+    tuple[str, dict[str, object]], ...
+] = (  # the default built up one step at a time (the cost of each step)
     (
         "normal, forecast centre",
         {"spread": "constant", "recalibrate": False, "predictive": "plug-in"},

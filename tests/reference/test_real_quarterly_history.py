@@ -207,9 +207,7 @@ def test_default_student_t_against_scipy(history: History) -> None:
     # riskreport.forecasts.overlap times 3 s^2 / (2 s^2 + 1), Isserlis 1918, Biometrika 12).
     from riskreport.forecasts.overlap import effective_sample_size
 
-    a = riskreport.assess(
-        _config(history, "student", centre="forecast", predictive="student-t")
-    )
+    a = riskreport.assess(_config(history, "student", centre="forecast", predictive="student-t"))
     combined = _combined_history(history)
     for h in range(H + 1):
         e = _windowed_errors(history, combined, h)
