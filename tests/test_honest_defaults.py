@@ -143,7 +143,7 @@ def test_crps_of_the_t_matches_scoringrules() -> None:
 def test_two_piece_scales_stay_within_the_bounded_ratio() -> None:
     # Forty errors, most just above zero and a few large ones: the free maximum
     # likelihood puts one scale far below the other (John's closed form, John 1982,
-    # Communications in Statistics A 11(8)); the bounded fit keeps the ratio at most 3 and
+    # Communications in Statistics A 11(8)); the bounded fit keeps the ratio at most 4 and
     # its log-likelihood is the two-piece normal's own density summed (Wallis 2014,
     # Statistical Science 29(1), eq. 1: f = sqrt(2/pi) / (s1 + s2) exp(-(x - m)^2 / 2 s^2)).
     from riskreport.laws._families import TPN_MAX_RATIO, fit_two_piece_normal_batch

@@ -44,9 +44,9 @@ TPN_EDGE_SHARE, TPN_EDGE_MIN = 0.1, 5
 TPN_DEGENERATE_RATIO = 0.1  # smaller scale below this share of the larger: flagged
 # The larger of the two scales is at most this multiple of the smaller: the maximum
 # likelihood on that boundary otherwise. Forty errors gave scales of 0.12 and 2.0 on a real
-# history, a law no forecaster would publish; a ratio of 3 already puts three quarters of
-# the probability on one side of the mode (common practice, no source).
-TPN_MAX_RATIO = 3.0
+# history, a law no forecaster would publish; a ratio of 4 already puts four fifths of the
+# probability on one side of the mode (common practice, no source).
+TPN_MAX_RATIO = 4.0
 
 
 def _rows(samples: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
