@@ -57,16 +57,12 @@ BEFORE = {
     "predictive": "plug-in",
     "window": 120,
 }
-STEPS: tuple[
-    tuple[str, dict[str, object]], ...
-] = (  # the default built up one step at a time (the cost of each step)
-    (
-        "normal, forecast centre",
-        {"spread": "constant", "recalibrate": False, "predictive": "plug-in"},
-    ),
-    ("+ student-t predictive", {"spread": "constant", "recalibrate": False}),
-    ("+ spread auto", {"recalibrate": False}),
-    ("+ recalibration (= after)", {}),
+STEPS: tuple[tuple[str, dict[str, object]], ...] = (  # each step's gain and cost
+    ("constant normal law", {"predictive": "plug-in"}),
+    ("+ student-t predictive (= after)", {}),
+    ("  + spread ewma (option)", {"spread": "ewma"}),
+    ("  + spread auto (option)", {"spread": "auto"}),
+    ("  + recalibrate (option)", {"recalibrate": True}),
 )
 SIMULATED_RECORDS = 200
 RELIABILITY_MIN_N = 100
