@@ -174,3 +174,36 @@ def test_an_estimated_centre_that_moves_far_is_said(tmp_path: Path) -> None:
     assert any("tenth of the band's width" in w for w in moved.warnings)
     kept = assess_config(cfg.replaced("uncertainty", centre="forecast"), search=tmp_path / "none")
     assert not any("tenth of the band's width" in w for w in kept.warnings)
+
+
+def test_the_replay_grades_the_t_law_each_past_round_would_have_published() -> None:
+    # At every replayed origin the PIT is the Student t CDF (scipy.stats.t) of that round's
+    # own window: its root mean square error and its own degrees of freedom, which grow
+    # with the errors known then (the effective size times 3 s^2 / (2 s^2 + 1), Isserlis
+    # 1918, Biometrika 12, for the squares of Gaussian errors).
+    from riskreport.replay import calibration
+
+    rng = np.random.default_rng(8)
+    h = 2
+    errors = np.full((90, 3), np.nan)
+    errors[:, h] = rng.normal(0.0, 1.0, 90)
+    tests, train, test = calibration.training(errors, h, 40)
+    n = tests.size
+    data = calibration.HorizonData(
+        h,
+        tests,
+        train,
+        test,
+        np.full(n, -1.0),
+        np.full(n, 1.0),
+        np.ones(n, int),
+        np.ones((n, 3)) / 3,
+    )
+    run = calibration.replay_horizon("normal", data, mode=0.0, predictive=True)
+    for i in (0, n // 2, n - 1):
+        row = train[i][np.isfinite(train[i])]
+        s = h + 1
+        df = effective_sample_size(row.size, s) * 3 * s**2 / (2 * s**2 + 1)
+        expected = stats.t.cdf(test[i], df, 0.0, np.sqrt(np.mean(row**2)))
+        assert run.pit[i] == pytest.approx(expected, abs=1e-10)
+    assert np.count_nonzero(np.isfinite(train[0])) < np.count_nonzero(np.isfinite(train[-1]))
