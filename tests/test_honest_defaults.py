@@ -207,3 +207,38 @@ def test_the_replay_grades_the_t_law_each_past_round_would_have_published() -> N
         expected = stats.t.cdf(test[i], df, 0.0, np.sqrt(np.mean(row**2)))
         assert run.pit[i] == pytest.approx(expected, abs=1e-10)
     assert np.count_nonzero(np.isfinite(train[0])) < np.count_nonzero(np.isfinite(train[-1]))
+
+
+@pytest.mark.parametrize(
+    ("frequency", "as_of", "window"), [("monthly", "2024-12", 120), ("quarterly", "2024-Q4", 40)]
+)
+def test_a_config_without_uncertainty_gets_the_default_method(
+    tmp_path: Path, frequency: str, as_of: str, window: int
+) -> None:
+    # Ten years' worth of rounds at either frequency (common practice, no source), the
+    # normal law centred on the forecast with its Student t predictive.
+    (tmp_path / "f.csv").write_text("origin,period,value\n")
+    (tmp_path / "a.csv").write_text("period,value\n")
+    path = tmp_path / "c.toml"
+    path.write_text(
+        f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{as_of}"\nfrequency = "{frequency}"\n'
+        '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n[target]\nlower = 1.0\nupper = 3.0\n'
+    )
+    u = config.load(path).uncertainty
+    assert (u.distribution, u.centre, u.predictive, u.spread, u.recalibrate) == (
+        "normal",
+        "forecast",
+        "student-t",
+        "constant",
+        False,
+    )
+    assert u.window == window
+    assert u.configured == ()
+    pinned = path.read_text() + '[uncertainty]\npredictive = "plug-in"\ncentre = "estimated"\n'
+    path.write_text(pinned)
+    u = config.load(path).uncertainty
+    assert (u.predictive, u.centre, u.configured) == (
+        "plug-in",
+        "estimated",
+        ("centre", "predictive"),
+    )
