@@ -15,6 +15,7 @@ SpreadKind = Literal["constant", "ewma", "joint"]
 SpreadChoice = Literal["constant", "ewma", "joint", "auto"]
 WindowChoice = Literal["fixed", "auto"]
 RecalibrationMethod = Literal["tracking", "beta"]
+Predictive = Literal["student-t", "plug-in"]
 DistributionChoice = Literal["normal", "two-piece-normal", "skew-normal", "empirical", "auto"]
 CombinationMethod = Literal[
     "equal",
@@ -44,4 +45,5 @@ EWMA_FAMILIES: tuple[Family, ...] = ("normal", "two-piece-normal")
 SPREAD_CHOICES: tuple[SpreadChoice, ...] = get_args(SpreadChoice)
 WINDOW_CHOICES: tuple[WindowChoice, ...] = get_args(WindowChoice)
 RECALIBRATION_METHODS: tuple[RecalibrationMethod, ...] = get_args(RecalibrationMethod)
+PREDICTIVES: tuple[Predictive, ...] = get_args(Predictive)
 SCORE_AGAINST: tuple[ScoreAgainst, ...] = get_args(ScoreAgainst)

@@ -452,6 +452,9 @@ def _compare(old: Path, new: Path) -> dict[str, Any]:
         "new_as_of": result.new_as_of,
         "swapped": result.swapped,
         "horizons": [dataclasses.asdict(r) for r in result.rows],
+        "methods_differ": result.methods_differ,
+        "old_method": result.old_method,
+        "new_method": result.new_method,
         "summary": compare.text(result),
     }
 

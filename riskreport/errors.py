@@ -138,3 +138,8 @@ class UnusedColumnWarning(RiskReportWarning):
 
 class OutcomeGapWarning(RiskReportWarning):
     """The outcome series has no value for some periods between its first and last."""
+
+
+class CentreCorrectionWarning(RiskReportWarning):
+    """The error law's estimated centre moves the outcome's centre off the point forecast
+    by more than a tenth of the target band's width."""

@@ -273,6 +273,7 @@ def adjustments(
     label = periods.label
     windows = replayed.windows.get(chosen.current.spread)
     window = cfg.uncertainty.window if replayed.window is None else replayed.window
+    source, reason = adjustments_module.method_reason(cfg)
     return adjustments_module.Adjustments(
         spread_option=cfg.uncertainty.spread,
         spread=chosen.current.spread.label,
@@ -311,6 +312,9 @@ def adjustments(
                 errors[:, : cfg.brief.horizons + 1], chosen.current.spread, window
             )
         ),
+        method_source=source,
+        method_reason=reason,
+        predictive=cfg.uncertainty.predictive,
     )
 
 

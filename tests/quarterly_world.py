@@ -58,6 +58,8 @@ method = "equal"
 [uncertainty]
 distribution = "normal"
 window = 0
+centre = "estimated"
+predictive = "plug-in"
 monotone = false
 bootstrap_replicates = 50
 simulations = {simulations}

@@ -79,6 +79,7 @@ def _macrodata_case(tmp_path: Path) -> tuple[Path, np.ndarray]:
         'frequency = "quarterly"\nhorizons = 0\npolicy_horizon = 0\n'
         '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n[target]\nlower = 1.0\nupper = 3.0\n'
         '[uncertainty]\ndistribution = "normal"\nwindow = 40\nbootstrap_replicates = 50\n'
+        'centre = "estimated"\npredictive = "plug-in"\n'
         "simulations = 1000\n"
     )
     return tmp_path / "c.toml", infl

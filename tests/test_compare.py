@@ -131,3 +131,24 @@ def test_rounds_given_newest_first_are_put_in_date_order(
     assert "2024-09 -> 2024-12" in text
     assert "given newest first" in text
     assert "given newest first" not in run("compare", old, new).stdout
+
+
+def test_compare_says_when_the_rounds_used_different_methods(
+    rounds: Path, run: Callable[..., Result], tmp_path: Path
+) -> None:
+    # The same rounds, the later one rewritten as if built with another method: compare
+    # must say so (issue "Honest by default"), and stay silent for the same method.
+    old, new = rounds / "assessment-2024-09.json", rounds / "assessment-2024-12.json"
+    same = json.loads(run("compare", old, new, "--json").stdout)
+    assert same["methods_differ"] is False
+    assert "different methods" not in run("compare", old, new).stdout
+    data = json.loads(new.read_text())
+    data["uncertainty"]["centre"] = "estimated"
+    data["adjustments"]["predictive"] = "plug-in"
+    other = tmp_path / "assessment-2024-12.json"
+    other.write_text(json.dumps(data))
+    summary = json.loads(run("compare", old, other, "--json").stdout)
+    assert summary["methods_differ"] is True
+    assert "centre estimated" in summary["new_method"]
+    text = run("compare", old, other).stdout
+    assert "used different methods" in text

@@ -10,18 +10,24 @@ horizon and is used exactly as given.
 from __future__ import annotations
 
 import warnings
+from collections.abc import Collection
 from dataclasses import dataclass
 
 import numpy as np
 
 from riskreport._typing import Family
-from riskreport.errors import BoundaryFitWarning, InputError, SmallSampleWarning
-from riskreport.laws import distributions, dynamics
+from riskreport.errors import (
+    BoundaryFitWarning,
+    CentreCorrectionWarning,
+    InputError,
+    SmallSampleWarning,
+)
+from riskreport.laws import distributions, dynamics, predictive
 from riskreport.laws.distributions import GIVEN_FAMILY, Distribution
 from riskreport.reading import periods
 from riskreport.reading.config import Config
 from riskreport.reading.inputs import ErrorQuantiles
-from riskreport.reading.panel import window_mask
+from riskreport.reading.panel import steps_ahead, window_mask
 from riskreport.replay import selection
 
 SMALL_SAMPLE = 30  # fewer errors than this earns a caution (common practice, no source)
@@ -115,6 +121,35 @@ def _monotone(fits: list[Distribution], given: set[int]) -> list[Distribution]:
     return out
 
 
+# A correction of the centre larger than this share of the band's width is said in the
+# brief (issue "Honest by default"; common practice, no source).
+CENTRE_SHARE = 0.1
+
+
+def _warn_centre(cfg: Config, fits: list[Distribution], given: Collection[int]) -> None:
+    """Warn where the estimated centre of the errors (``centre = "estimated"``) moves the
+    outcome's centre by more than CENTRE_SHARE of the band's width."""
+    moved: list[int] = []
+    largest = 0.0
+    for h, fit in enumerate(fits):
+        if h in given:
+            continue
+        band = cfg.band_for(cfg.brief.as_of + h)
+        shift = abs(float(fit.mode))
+        if shift > CENTRE_SHARE * (band.upper - band.lower):
+            moved.append(h)
+            largest = max(largest, shift)
+    if moved:
+        warnings.warn(
+            f'The errors\' estimated centre (centre = "estimated") moves the centre off the point '
+            f"forecast by more than a tenth of the band's width at horizons "
+            f"{periods.ranges(moved)} (by up to {largest:.2f} pp); after a past episode such a "
+            'correction is often noise: centre = "forecast" leaves it out.',
+            CentreCorrectionWarning,
+            stacklevel=3,
+        )
+
+
 def build(
     cfg: Config,
     errors: np.ndarray,
@@ -183,6 +218,8 @@ def build(
         if used:
             thin.append(f"{h} (from h = {', '.join(map(str, used))})")
         fitted = _fit(family, sample, mode, h)
+        if cfg.uncertainty.predictive == "student-t" and fitted.family == "normal":
+            fitted = predictive.student(fitted, steps_ahead(h), mode_fixed=mode is not None)
         samples.append(sample[np.isfinite(sample)])
         own.append(int(columns[h].size))
         families.append(fitted.family)
@@ -221,6 +258,8 @@ def build(
             BoundaryFitWarning,
             stacklevel=2,
         )
+    if mode is None:
+        _warn_centre(cfg, fits, given_h)
     if cfg.uncertainty.monotone:
         fits = _monotone(fits, set(given_h) & set(range(cfg.brief.horizons + 1)))
     shown_given = sorted(h for h in given_h if h <= cfg.brief.horizons)

@@ -20,6 +20,7 @@ from riskreport._typing import (
     EWMA_FAMILIES,
     FREQUENCIES,
     OUTPUT_FORMATS,
+    PREDICTIVES,
     RECALIBRATION_METHODS,
     SCORE_AGAINST,
     SPREAD_CHOICES,
@@ -30,6 +31,7 @@ from riskreport._typing import (
     DistributionChoice,
     Frequency,
     OutputFormat,
+    Predictive,
     RecalibrationMethod,
     ScoreAgainst,
     SpreadChoice,
@@ -51,6 +53,39 @@ MAX_WINDOW_YEARS = LAST_YEAR - FIRST_YEAR  # windows and min_errors: the whole y
 MAX_SCALE = 100.0  # a judgement's spread multiplier
 
 T = TypeVar("T")
+
+# The method a config without an [uncertainty] section gets: the one that held on real
+# inflation histories (docs/method.md, "The default method and its evidence";
+# bench/calibration.py): the normal law centred on the point forecast over about ten
+# years of errors, its predictive a Student t that carries the uncertainty of the
+# estimated spread. The adaptive options (spread = "ewma" / "auto", recalibrate) are
+# offered but off: on the real histories recalibration bought coverage with log score,
+# and the EWMA spread, the best on all three, lost log score where nothing changes.
+DEFAULT_METHOD: dict[str, str] = {
+    "distribution": "normal",
+    "spread": "constant",
+    "centre": "forecast",
+    "predictive": "student-t",
+}
+# The default error window: about ten years' worth of rounds (120 monthly, 40 quarterly):
+# long enough for a stable spread, short enough to forget an old regime (common practice,
+# no source).
+WINDOW_YEARS = 10
+# The [uncertainty] keys that change the method (the others set simulation sizes).
+METHOD_KEYS = frozenset(
+    {
+        "distribution",
+        "window",
+        "centre",
+        "monotone",
+        "spread",
+        "window_choice",
+        "recalibrate",
+        "recalibration",
+        "predictive",
+        "min_errors",
+    }
+)
 
 
 @dataclass(frozen=True)
@@ -148,6 +183,10 @@ class UncertaintySection:
     recalibrate: bool = False
     recalibration: RecalibrationMethod = "tracking"
     window_choice: WindowChoice = "fixed"  # "auto": the replay also chooses the window
+    # "student-t": the normal law's predictive carries the uncertainty of its estimated
+    # spread (laws/predictive.py); "plug-in": the fitted normal itself.
+    predictive: Predictive = "plug-in"
+    configured: tuple[str, ...] = ()  # the [uncertainty] keys the file sets (the rest: defaults)
 
 
 @dataclass(frozen=True)
@@ -225,6 +264,7 @@ _KNOWN_KEYS: dict[str, set[str]] = {
         "window_choice",
         "recalibrate",
         "recalibration",
+        "predictive",
         "bootstrap_replicates",
         "simulations",
         "seed",
@@ -531,7 +571,8 @@ def load(path: str | Path) -> Config:
 
     method = cast(CombinationMethod, combination.choice("method", COMBINATION_METHODS, "equal"))
     distribution = cast(
-        DistributionChoice, uncertainty.choice("distribution", DISTRIBUTION_CHOICES, "auto")
+        DistributionChoice,
+        uncertainty.choice("distribution", DISTRIBUTION_CHOICES, DEFAULT_METHOD["distribution"]),
     )
     formats_raw = output._get("formats", list, "a list of formats", list(OUTPUT_FORMATS))
     for item in formats_raw:
@@ -541,7 +582,9 @@ def load(path: str | Path) -> Config:
             )
     directory = output._get("directory", str, "a folder path", "out")
     shrinkage = _shrinkage(combination)
-    spread = cast(SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, "constant"))
+    spread = cast(
+        SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, DEFAULT_METHOD["spread"])
+    )
     if spread in ("ewma", "joint") and distribution not in ("auto", *EWMA_FAMILIES):
         # The replay offers these spreads only with these laws: no candidate would be
         # left to choose from (was an IndexError, exit 1).
@@ -594,8 +637,10 @@ def load(path: str | Path) -> Config:
         ),
         uncertainty=UncertaintySection(
             distribution=distribution,
-            window=uncertainty.integer("window", 120, minimum=0, maximum=window_limit),
-            centre=cast(Centre, uncertainty.choice("centre", CENTRES, "estimated")),
+            window=uncertainty.integer(
+                "window", WINDOW_YEARS * per_year, minimum=0, maximum=window_limit
+            ),
+            centre=cast(Centre, uncertainty.choice("centre", CENTRES, DEFAULT_METHOD["centre"])),
             monotone=uncertainty.flag("monotone", True),
             min_errors=uncertainty.integer("min_errors", 20, minimum=2, maximum=window_limit),
             bootstrap_replicates=uncertainty.integer(
@@ -612,6 +657,11 @@ def load(path: str | Path) -> Config:
                 RecalibrationMethod,
                 uncertainty.choice("recalibration", RECALIBRATION_METHODS, "tracking"),
             ),
+            predictive=cast(
+                Predictive,
+                uncertainty.choice("predictive", PREDICTIVES, DEFAULT_METHOD["predictive"]),
+            ),
+            configured=tuple(sorted(set(uncertainty.table) & METHOD_KEYS)),
         ),
         judgements=_judgements(path, data.get("judgement"), frequency, bound),
         scenarios=_scenarios(path, data.get("scenario"), frequency, bound),

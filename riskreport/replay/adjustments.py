@@ -30,6 +30,7 @@ from riskreport.replay.prequential import Candidate, PrequentialSelection
 if TYPE_CHECKING:
     from riskreport.replay.cache import ReplayCache
 
+BASELINE = "constant normal law"  # the verdict's benchmark, when no candidate is it
 NEAR = 0.05  # |coverage - nominal| the brief calls "near nominal" (common practice, no source)
 
 
@@ -100,6 +101,7 @@ def replays(
     )
     candidates = tuple(c for c in replayed if c.family in allowed and c.spread in spreads)
     mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
+    predictive = cfg.uncertainty.predictive == "student-t"
     stage: dict[tuple[str, int], HorizonReplay] = {}
     windows: dict[dynamics.SpreadOption, prequential.WindowChoice] = {}
     baseline = "normal"
@@ -117,6 +119,7 @@ def replays(
             band_for=cfg.band_for,
             spreads=every,
             cache=cache,
+            predictive=predictive,
         )
         baseline = prequential.window_label("normal", cfg.uncertainty.window)
     runs = prequential.replay(
@@ -130,8 +133,26 @@ def replays(
         candidates=replayed,
         cache=cache,
         windows={s: w.rows for s, w in windows.items()} or None,
+        predictive=predictive,
     )
     runs.update(stage)
+    if predictive or mode != 0.0 or windows:
+        # The verdict's benchmark is always the constant normal law itself: the plug-in
+        # normal centred on the point forecast over the configured window.
+        plain = prequential.replay(
+            panel,
+            combined,
+            errors,
+            cfg.brief.horizons,
+            window=cfg.uncertainty.window,
+            mode=0.0,
+            band_for=cfg.band_for,
+            candidates=(Candidate("normal", dynamics.CONSTANT),),
+            cache=cache,
+        )
+        for (_, h), run in plain.items():
+            runs[(BASELINE, h)] = dataclasses.replace(run, family=BASELINE)
+        baseline = BASELINE
     chosen = prequential.select(runs, candidates, panel.origins.size)
     graded = candidates[0].label
     if len(candidates) > 1:
@@ -424,6 +445,23 @@ def verdict(result: Replays) -> Verdict:
     )
 
 
+def method_reason(cfg: Config) -> tuple[str, str]:
+    """Whether the method is the default or configured, and one sentence on why it ran."""
+    u = cfg.uncertainty
+    what = (
+        f"distribution = {u.distribution}, spread = {u.spread}, centre = {u.centre}, "
+        f"predictive = {u.predictive}, recalibrate = {'true' if u.recalibrate else 'false'}, "
+        f"window = {u.window or 'all'}"
+    )
+    if not u.configured:
+        return "defaults", (
+            f"The default method ({what}): the one whose replay held best on real inflation "
+            "histories (docs/method.md, 'The default method and its evidence')."
+        )
+    keys = ", ".join(u.configured)
+    return "configured", f"As configured ({keys} set in [uncertainty]): {what}."
+
+
 def family_totals(result: Replays) -> dict[str, float]:
     """Per family, today's best record over its spread options (for the ``auto`` record)."""
     totals: dict[str, float] = {}
@@ -480,6 +518,13 @@ class Adjustments:
     factors
         Per horizon, today's scale factor of the spread: the volatility (``ewma``), the
         ratio of the joint to the own ML spread (``joint``) or 1 (``constant``).
+    method_source
+        ``defaults`` when the config sets no method key in ``[uncertainty]``, else
+        ``configured``.
+    method_reason
+        Which method ran and why, in one sentence.
+    predictive
+        The configured ``[uncertainty] predictive`` (``student-t`` or ``plug-in``).
     """
 
     spread_option: str
@@ -498,3 +543,6 @@ class Adjustments:
     window_grid: tuple[int, ...] = ()
     window_spells: tuple[MethodSpell, ...] = ()
     factors: tuple[float, ...] = ()
+    method_source: str = "defaults"
+    method_reason: str = ""
+    predictive: str = "plug-in"

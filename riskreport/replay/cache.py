@@ -276,9 +276,12 @@ class ReplayCache:
         mode: float | None,
         scale: np.ndarray | None = None,
         label: str | None = None,
+        predictive: bool = False,
     ) -> HorizonReplay:
         """:func:`riskreport.replay.calibration.replay_horizon`, fitting only origins not cached."""
-        replayed, pending = self.lookup(family, data, mode=mode, scale=scale, label=label)
+        replayed, pending = self.lookup(
+            family, data, mode=mode, scale=scale, label=label, predictive=predictive
+        )
         self.record(pending)
         return replayed
 
@@ -290,11 +293,15 @@ class ReplayCache:
         mode: float | None,
         scale: np.ndarray | None = None,
         label: str | None = None,
+        predictive: bool = False,
     ) -> tuple[HorizonReplay, Pending]:
         """:meth:`replay_horizon` without changing the cache: the replay and what
         :meth:`record` adds to the cache (so a forked child can replay and the parent
         record)."""
         name = f"{label or family}|mode={mode!r}"
+        if predictive and family == "normal":
+            # the t predictive's degrees of freedom depend on the horizon too
+            name += f"|student-t h={data.h}"
         table = self._tables.get(name)
         index = table.index if table is not None else {}
         digests = _row_digests(data, scale)
@@ -311,6 +318,7 @@ class ReplayCache:
                 mode=mode,
                 scale=None if scale is None else scale[missing],
                 label=label,
+                predictive=predictive,
             )
             values[missing] = np.column_stack(
                 [fresh.pit, fresh.probabilities, fresh.log_score, fresh.crps]

@@ -21,6 +21,7 @@ from scipy import stats as st
 from riskreport._typing import Family, Frequency
 from riskreport.forecasts import pit_tests, stats
 from riskreport.laws.distributions import FAMILIES, fit_batch
+from riskreport.laws.predictive import student
 from riskreport.reading.config import Band
 from riskreport.reading.panel import Panel, steps_ahead
 from riskreport.replay import scores
@@ -283,8 +284,13 @@ def replay_horizon(
     mode: float | None,
     scale: np.ndarray | None = None,
     label: str | None = None,
+    predictive: bool = False,
 ) -> HorizonReplay:
     """Replay one family at one horizon.
+
+    With ``predictive``, the normal law is replayed as the Student t predictive each past
+    round would have published (:mod:`riskreport.laws.predictive`: degrees of freedom from
+    the effective size of that round's window at ``steps = h + 1``).
 
     With ``scale`` (one volatility per evaluation origin; ``data.train`` then holds
     standardised errors), the law at each origin is the fitted one times its volatility:
@@ -300,6 +306,8 @@ def replay_horizon(
     for start in range(0, data.tests.size, CHUNK):
         rows = slice(start, start + CHUNK)
         fitted: Any = fit_batch(family, data.train[rows], mode=mode)
+        if predictive and family == "normal":
+            fitted = student(fitted, steps_ahead(data.h), mode_fixed=mode is not None)
         f_lower = np.asarray(fitted.cdf(data.lower[rows]))
         f_upper = np.asarray(fitted.cdf(data.upper[rows]))
         parts.append(

@@ -13,6 +13,7 @@ from numpy.typing import ArrayLike
 from scipy import special
 
 from riskreport.laws._families import EmpiricalFit, NormalFit, SkewNormalFit, TwoPieceNormalFit
+from riskreport.laws.predictive import StudentPredictive, crps_student
 
 _SQRT_PI = np.sqrt(np.pi)
 
@@ -216,6 +217,8 @@ def crps(fit: object, y: ArrayLike) -> np.ndarray:
     """CRPS of a (batched) fit at y, in closed form for every family."""
     if isinstance(fit, NormalFit):
         return crps_normal(y, fit.loc, fit.scale)
+    if isinstance(fit, StudentPredictive):
+        return crps_student(y, fit.base.loc, fit.scale, fit.df)
     if isinstance(fit, TwoPieceNormalFit):
         return crps_two_piece_normal(y, fit.mode, fit.sigma1, fit.sigma2)
     if isinstance(fit, EmpiricalFit):

@@ -26,6 +26,30 @@ class Comparison:
     new_as_of: str
     rows: tuple[change.ChangeHorizon, ...]  # the brief's own change rows
     swapped: bool = False  # the files were given newest first and compared in date order
+    old_method: str = ""  # the method each round ran (method_of), "" when not recorded
+    new_method: str = ""
+
+    @property
+    def methods_differ(self) -> bool:
+        """Whether the two rounds used different methods (both recorded)."""
+        return bool(self.old_method and self.new_method and self.old_method != self.new_method)
+
+
+def method_of(data: dict[str, Any]) -> str:
+    """The method an assessment JSON records, in words (the error law today, the spread,
+    the centre, the predictive, recalibration and window); "" when it records none."""
+    adj = data.get("adjustments")
+    unc = data.get("uncertainty")
+    if not isinstance(adj, dict) or not isinstance(unc, dict):
+        return ""
+    parts = [
+        str(adj.get("method", "?")),
+        f"centre {unc.get('centre', '?')}",
+        f"predictive {adj.get('predictive', 'plug-in')}",
+        "recalibrated" if adj.get("recalibrate") else "not recalibrated",
+        f"window {adj.get('window', unc.get('window', '?'))}",
+    ]
+    return ", ".join(parts)
 
 
 def _read(path: Path) -> dict[str, Any]:
@@ -92,6 +116,8 @@ def compare_files(old: Path, new: Path) -> Comparison:
         new_as_of=str(now["as_of"]),
         rows=record.horizons,
         swapped=swapped,
+        old_method=method_of(before),
+        new_method=method_of(now),
     )
 
 
@@ -116,6 +142,12 @@ def text(c: Comparison) -> list[str]:
         "(centre + spread + band = change; parts in percentage points)",
         "",
     ]
+    if c.methods_differ:
+        lines[2:2] = [
+            "The two rounds used different methods, so part of the change is the method's:",
+            f"  {c.old_as_of}: {c.old_method}",
+            f"  {c.new_as_of}: {c.new_method}",
+        ]
     if c.swapped:
         lines[2:2] = [
             f"(the files were given newest first; compared in date order, {c.old_as_of} first)"

@@ -110,6 +110,8 @@ def _config(
     method: str = "equal",
     family: str = "normal",
     forecasts: str = "forecasts.csv",
+    centre: str = "estimated",
+    predictive: str = "plug-in",
 ) -> Path:
     path = history.folder / f"{name}.toml"
     path.write_text(
@@ -133,6 +135,8 @@ window = 24
 [uncertainty]
 distribution = "{family}"
 window = {WINDOW}
+centre = "{centre}"
+predictive = "{predictive}"
 monotone = false
 bootstrap_replicates = 50
 simulations = 4000
@@ -194,6 +198,25 @@ def test_normal_family_against_scipy(history: History) -> None:
     data = json.loads((out / "assessment-2009-Q3.json").read_text("utf-8"))
     assert data["headline"]["label"] == "2010-Q3"
     assert data["horizons"][4]["p_inside"] == pytest.approx(a.policy.p_inside, abs=1e-11)
+
+
+def test_default_student_t_against_scipy(history: History) -> None:
+    # The default predictive: a Student t centred on the point forecast, scale the root
+    # mean square error, degrees of freedom the effective size about a spread of the
+    # window's (h + 1)-step errors (scipy.stats.t; the count of
+    # riskreport.forecasts.overlap times 3 s^2 / (2 s^2 + 1), Isserlis 1918, Biometrika 12).
+    from riskreport.forecasts.overlap import effective_sample_size
+
+    a = riskreport.assess(_config(history, "student", centre="forecast", predictive="student-t"))
+    combined = _combined_history(history)
+    for h in range(H + 1):
+        e = _windowed_errors(history, combined, h)
+        s = h + 1
+        df = effective_sample_size(e.size, s) * 3 * s**2 / (2 * s**2 + 1)
+        law = stats.t(df, _point(history)[h], np.sqrt(np.mean(e**2)))
+        assert a.horizons[h].p_inside == pytest.approx(
+            law.cdf(BAND[1]) - law.cdf(BAND[0]), abs=1e-9
+        )
 
 
 def test_kernel_family_against_silverman(history: History) -> None:

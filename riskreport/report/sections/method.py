@@ -422,13 +422,35 @@ def _window_sentence(adj: Adjustments) -> str | None:
     )
 
 
+def _source_sentence(a: Assessment, adj: Adjustments) -> str:
+    """Which method ran and why: the default, or what the config set."""
+    t = (
+        ", its predictive a Student t that widens where few independent errors are on record"
+        if adj.predictive == "student-t"
+        else ""
+    )
+    centre = (
+        "centred on the point forecast"
+        if a.uncertainty.centre == "forecast"
+        else "centred on the forecast plus the window's mean error"
+    )
+    what = f"{_method_name(adj.method)}, {centre}{t}"
+    if adj.method_source == "defaults":
+        return (
+            f"Method: the default ({what}); of the methods offered it is the one whose "
+            "replay held best on real inflation histories (its log score beat the constant "
+            "normal law's on each)."
+        )
+    return f"Method: as set in the configuration ({what})."
+
+
 def adjustment_text(a: Assessment) -> tuple[str, ...]:
     """Sentences: the adjustments made and what the replay says of the result."""
     adj = a.adjustments
     if adj is None:
         return ()
     v = adj.verdict
-    lines = [_spread_sentence(adj)]
+    lines = [_source_sentence(a, adj), _spread_sentence(adj)]
     window = _window_sentence(adj)
     if window is not None:
         lines.append(window)
