@@ -364,15 +364,15 @@ def test_refusal_messages_name_the_subfolder_and_do_not_claim_nothing_was_writte
     # A refused build records its failure line in runs.jsonl, so "nothing was written"
     # was untrue; a link or a changed file in tables/ was reported as if in the folder.
     out = tmp_path / "out"
-    folder.write_round(out, {"tables/t.csv": b"a\n"}, as_of=AS_OF)
+    folder.write_round(out, {"tables/t-2024-12.csv": b"a\n"}, as_of=AS_OF)
     with pytest.raises(folder.OverwriteRefused) as refused:
-        folder.write_round(out, {"tables/t.csv": b"b\n"}, as_of=AS_OF)
+        folder.write_round(out, {"tables/t-2024-12.csv": b"b\n"}, as_of=AS_OF)
     assert "out/tables/" in str(refused.value)
     assert "nothing was written" not in str(refused.value)
-    (out / "tables" / "t.csv").unlink()
-    (out / "tables" / "t.csv").symlink_to(tmp_path / "elsewhere.csv")
+    (out / "tables" / "t-2024-12.csv").unlink()
+    (out / "tables" / "t-2024-12.csv").symlink_to(tmp_path / "elsewhere.csv")
     with pytest.raises(folder.LinkRefused) as linked:
-        folder.write_round(out, {"tables/t.csv": b"b\n"}, as_of=AS_OF, force=True)
+        folder.write_round(out, {"tables/t-2024-12.csv": b"b\n"}, as_of=AS_OF, force=True)
     assert str(out / "tables") in str(linked.value)
     assert "nothing was written" not in str(linked.value)
     assert not (tmp_path / "elsewhere.csv").exists()
