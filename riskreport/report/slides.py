@@ -19,7 +19,7 @@ from matplotlib.figure import Figure
 from PIL.PngImagePlugin import PngInfo
 
 from riskreport.assessment import Assessment
-from riskreport.report import charts
+from riskreport.report import cells, charts
 from riskreport.report.sections import outlook
 
 SLIDE_INCHES = (13.33, 7.5)
@@ -124,5 +124,6 @@ def quantile_table(a: Assessment) -> bytes:
     writer.writerow(["period", "h", "quantile", "value"])
     for r in a.horizons:
         for q, v in r.quantiles.items():
-            writer.writerow([r.period, r.h, q, f"{v:.12g}"])  # as in the JSON
+            row = [r.period, r.h, q, f"{v:.12g}"]  # as in the JSON
+            writer.writerow([cells.csv_value(c) for c in row])
     return buffer.getvalue().encode("utf-8")
