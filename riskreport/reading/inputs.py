@@ -33,6 +33,10 @@ FIRST_YEAR, LAST_YEAR = 1800, 2200
 MAX_HORIZON = 12 * (LAST_YEAR - FIRST_YEAR)
 
 
+# Longest model (and scenario) name, in characters (common practice, no source): room for
+# any descriptive name, short enough for a table row, a chart legend and a file.
+MAX_NAME = 80
+
 # Names the track record gives its own forecasters (track_record.forecasters); no model
 # in the forecasts may use one.
 BENCHMARK_NAMES = ("combination", "no-change", "autoregression")
@@ -373,6 +377,10 @@ def read_forecasts(
         names = frame["model"].str.strip()
         if (bad := _first(names == "")) is not None:
             raise _error(frame, path, "expected a model name, got an empty cell", bad, "model")
+        if (bad := _first(names.str.len() > MAX_NAME)) is not None:
+            length = len(names.iloc[bad])
+            message = f"expected a model name of at most {MAX_NAME} characters, got {length}"
+            raise _error(frame, path, message, bad, "model")
         if (bad := _first(names.str.casefold().isin(BENCHMARK_NAMES))) is not None:
             # The track record scores these forecasters of its own beside the models; a model
             # of the same name was silently replaced by the tool's own in every table.
