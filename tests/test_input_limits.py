@@ -317,3 +317,9 @@ def test_a_long_model_name_wraps_on_the_page(
     runs = [len(m) for page in pages for m in re.findall("M{2,}", page.extract_text())]
     assert sum(runs) >= 2 * len(name)  # the name is on the pages (more than once)
     assert max(runs) < len(name)  # and always broken across lines: none runs off
+
+
+def test_a_config_nested_too_deeply(run: Callable[..., Result], case: Case) -> None:
+    # A sibling of the deep JSON of the issue: tomllib recurses once per level of nesting.
+    case.config += "\n[output.deep]\nx = " + "[" * 100_000 + "]" * 100_000 + "\n"
+    _fails(run, case, "config.toml", "nested too deeply")

@@ -512,6 +512,8 @@ def load(path: str | Path) -> Config:
         data = tomllib.loads(path.read_text(encoding="utf-8-sig"))
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"invalid TOML: {exc}", file=path) from None
+    except RecursionError:  # tomllib recurses once per level of nesting
+        raise InputError("invalid TOML: arrays or tables nested too deeply", file=path) from None
     except UnicodeDecodeError:
         raise InputError("expected a UTF-8 text file", file=path) from None
     except OSError as exc:
