@@ -424,9 +424,6 @@ def _plan(
 ) -> _Plan:
     """What to write. Raises OverwriteRefused before anything is written."""
     manifest = manifest_name(as_of)
-    if not _own(files, as_of):
-        strays = sorted(n for n in files if not _own({n: ""}, as_of))
-        raise ValueError(f"not files of the round {as_of}: {strays}")
     for name in (*files, manifest, RUNS_NAME):
         _refuse_links(out_dir, name)
     changed: dict[str, bytes] = {}
@@ -497,6 +494,9 @@ def write_round(
     EnvironmentFailure
         The file system refused a write (read-only, full, no permission).
     """
+    if not _own(files, as_of):  # checked before the folder is made or locked
+        strays = sorted(n for n in files if not _own({n: ""}, as_of))
+        raise ValueError(f"not files of the round {as_of}: {strays}")
     kept: list[tuple[str, str]] = []
     with locked(out_dir):
         out_dir = out_dir.resolve()

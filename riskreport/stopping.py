@@ -67,6 +67,13 @@ def restore_default_term() -> None:
         signal.signal(signal.SIGTERM, signal.SIG_DFL)
 
 
+def ignore_stops() -> None:
+    """SIGTERM and SIGINT change nothing from now on (a worker whose task is over)."""
+    if threading.current_thread() is threading.main_thread():
+        for s in SIGNALS:
+            signal.signal(s, signal.SIG_IGN)
+
+
 @contextlib.contextmanager
 def critical() -> Iterator[None]:
     """Run the block to its end even if a stop arrives; the stop takes effect after it.

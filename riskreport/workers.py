@@ -28,7 +28,7 @@ from dataclasses import dataclass
 from multiprocessing.connection import Connection, wait
 from typing import Any
 
-from riskreport import parallel
+from riskreport import parallel, stopping
 
 
 @dataclass(frozen=True)
@@ -41,17 +41,22 @@ class Outcome:
 
 
 def _worker(task: Callable[[], Any], pipe: Connection, parent: int) -> None:
-    """Run ``task`` in the worker and send its outcome; a stop ends it quietly."""
+    """Run ``task`` in the worker and send its outcome; a stop ends it quietly (a second
+    stop too: Ctrl-C reaches the worker, then the parent's SIGTERM)."""
     parallel.die_with_parent(parent)
     try:
-        outcome = Outcome(True, task())
-    except KeyboardInterrupt as exc:  # SIGTERM (stopping.Stopped) or SIGINT
-        outcome = Outcome(False, None, str(exc) or "interrupted")
-    except BaseException as exc:
-        outcome = Outcome(False, None, f"{type(exc).__name__}: {exc}")
-    with contextlib.suppress(OSError):  # the parent may have stopped reading
-        pipe.send_bytes(pickle.dumps(outcome, protocol=pickle.HIGHEST_PROTOCOL))
-    pipe.close()
+        try:
+            outcome = Outcome(True, task())
+        except KeyboardInterrupt as exc:  # SIGTERM (stopping.Stopped) or SIGINT
+            outcome = Outcome(False, None, str(exc) or "interrupted")
+        except BaseException as exc:
+            outcome = Outcome(False, None, f"{type(exc).__name__}: {exc}")
+        stopping.ignore_stops()  # the task is over: a late stop changes nothing
+        with contextlib.suppress(OSError):  # the parent may have stopped reading
+            pipe.send_bytes(pickle.dumps(outcome, protocol=pickle.HIGHEST_PROTOCOL))
+        pipe.close()
+    except KeyboardInterrupt:  # a second stop while the first was handled: just end
+        pass
 
 
 def _collect(process: multiprocessing.process.BaseProcess, pipe: Connection) -> Outcome:

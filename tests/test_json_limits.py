@@ -68,9 +68,13 @@ def test_compare_refuses_a_file_beyond_the_size_limit(
     from riskreport.reading import jsonfile
 
     _, out = two_rounds
-    monkeypatch.setattr(jsonfile, "MAX_BYTES", 1000)  # the real files are far larger
+    manifest = (out / "manifest-2024-11.json").stat().st_size
+    assessment = (out / "assessment-2024-11.json").stat().st_size
+    assert assessment > 4 * manifest
+    limit = 2 * manifest  # the manifests are read, the assessment is beyond the limit
+    monkeypatch.setattr(jsonfile, "MAX_BYTES", limit)
     result = run("compare", out / "assessment-2024-11.json", out / "assessment-2024-12.json")
-    _one_line(result, "assessment-2024-11.json", "larger than")
+    _one_line(result, "assessment-2024-11.json", f"larger than {limit} bytes")
 
 
 def test_an_earlier_round_nested_too_deep_is_skipped_with_a_warning(

@@ -162,9 +162,10 @@ def test_recovery_keeps_a_file_whose_content_is_not_the_recorded_one(tmp_path: P
     assert (out / f"assessment-{AS_OF}.kept-1.json").read_bytes() == b"edited"
 
 
-def test_write_round_refuses_a_name_that_is_not_the_rounds() -> None:
+def test_write_round_refuses_a_name_that_is_not_the_rounds(tmp_path: Path) -> None:
     with pytest.raises(ValueError, match="not files of the round"):
-        folder.write_round(Path("unused"), {"runs.jsonl": b""}, as_of=AS_OF)
+        folder.write_round(tmp_path / "out", {"runs.jsonl": b""}, as_of=AS_OF)
+    assert not (tmp_path / "out").exists()
 
 
 @pytest.mark.parametrize(

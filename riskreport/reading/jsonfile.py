@@ -62,9 +62,7 @@ def parse(content: bytes) -> Any:
         both ``ValueError``).
     """
     if len(content) > MAX_BYTES:
-        raise JsonLimitError(
-            f"larger than {MAX_BYTES // (1024 * 1024)} MiB; not a file riskreport wrote"
-        )
+        raise JsonLimitError(f"larger than {MAX_BYTES} bytes; not a file riskreport wrote")
     levels = depth(content)
     if levels > MAX_DEPTH:
         raise JsonLimitError(
