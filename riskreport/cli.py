@@ -12,7 +12,7 @@ import argparse
 import contextlib
 import dataclasses
 import datetime as dt
-import errno
+import functools
 import hashlib
 import json
 import logging
@@ -24,16 +24,23 @@ from importlib import resources
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from riskreport import __version__, parallel, progress
+from riskreport import __version__, parallel, progress, stopping
 from riskreport.errors import EnvironmentFailure, InputError
+from riskreport.runlog import (
+    EXIT_ENVIRONMENT,
+    EXIT_INPUT,
+    EXIT_INTERNAL,
+    EXIT_OK,
+    RunRecord,
+    exit_code,
+    one_line,
+)
 
 if TYPE_CHECKING:  # annotations only: `check` runs without loading the pipeline
     from riskreport.assessment import Assessment
-    from riskreport.folder import Round
 
 log = logging.getLogger("riskreport")
 
-EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_ENVIRONMENT = 0, 1, 2, 3
 DEMO_PREVIOUS_ROUND = "2026-10"
 
 
@@ -166,50 +173,6 @@ def _headline(assessment: Assessment) -> dict[str, Any]:
     }
 
 
-def exit_code(exc: BaseException) -> int:
-    """The exit code for an exception: 2 bad input, 3 environment, 1 anything else."""
-    if isinstance(exc, InputError):
-        return EXIT_INPUT
-    if isinstance(exc, EnvironmentFailure | OSError):
-        return EXIT_ENVIRONMENT
-    return EXIT_INTERNAL
-
-
-def one_line(exc: BaseException) -> str:
-    """The one-line message for an exception (as printed on stderr)."""
-    if isinstance(exc, InputError | EnvironmentFailure):
-        return exc.one_line()
-    if isinstance(exc, OSError) and exc.strerror:
-        name = errno.errorcode.get(exc.errno or 0, "")
-        where = f"{exc.filename}: " if exc.filename else ""
-        return f"{where}{exc.strerror}" + (f" ({name})" if name else "")
-    if isinstance(exc, KeyboardInterrupt):
-        return "interrupted"
-    return " ".join(f"{type(exc).__name__}: {exc}".split())
-
-
-def _record_failure(out_dir: Path, record: dict[str, Any], exc: BaseException) -> None:
-    """The one line a failed run writes: its exit status and message in ``runs.jsonl``."""
-    from riskreport import folder
-
-    line = {**record, "outputs": [], "exit_status": exit_code(exc), "error": one_line(exc)}
-    try:
-        folder.append_record(out_dir, line)
-    except (InputError, EnvironmentFailure) as problem:
-        log.warning("the failure was not recorded in runs.jsonl: %s", problem.one_line())
-
-
-def _record_success(out_dir: Path, record: dict[str, Any], written: Round) -> None:
-    """The line a run that wrote the round ``written`` adds to ``runs.jsonl``."""
-    from riskreport import folder
-
-    outputs = [
-        {"path": str(p.relative_to(out_dir)), "sha256": h}
-        for p, h in zip(written.paths, written.sha256, strict=True)
-    ]
-    folder.append_record(out_dir, {**record, "outputs": outputs, "exit_status": EXIT_OK})
-
-
 def _build(
     config: Path,
     out: Path | None,
@@ -225,13 +188,8 @@ def _build(
     from riskreport.rounds import change
 
     out_dir = out.resolve() if out is not None else None
-    record: dict[str, Any] = {
-        "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
-        "command": "build",
-        "as_of": as_of,
-        "config_sha256": None,
-        "inputs": {},
-    }
+    run = _run_record("build", as_of)
+    record = run.fields
     steps = progress.Steps.start(3)
     try:
         steps.step("assessing (replay, fits, simulation)")
@@ -245,19 +203,19 @@ def _build(
         existed = out_dir.is_dir()
         replays = replay_cache.ReplayCache(out_dir) if cache else None
         key = None
-        with folder.locked(out_dir) if existed else contextlib.nullcontext():
+        with run.locked(out_dir) if existed else contextlib.nullcontext():
             if previous is not None:
                 folder.check_listed(previous.resolve())
             if cache and existed:
                 key = _build_key(cfg, previous or change.find_previous(out_dir, record["as_of"]))
                 again = replay_cache.unchanged(out_dir, key, record["as_of"])
                 if again is not None:
-                    return _rerun(out_dir, record, again)
+                    return _rerun(out_dir, run, again)
                 replays = replay_cache.ReplayCache.load(out_dir)
             assessment = pipeline.assess_config(
                 cfg, previous=previous, search=out_dir, cache=replays
             )
-        with folder.locked(out_dir):
+        with run.locked(out_dir):  # a failure here is recorded before the lock is let go
             if not existed and previous is None and folder.rounds(out_dir):
                 # Another run made the folder meanwhile: compare with what it wrote.
                 assessment = pipeline.assess_config(cfg, search=out_dir, cache=replays)
@@ -272,7 +230,7 @@ def _build(
                 {"path": str(p), "sha256": h}
                 for p, h in zip(written.paths, written.sha256, strict=True)
             ]
-            _record_success(out_dir, record, written)
+            run.succeeded(out_dir, written)
             if replays is not None:
                 replays.save()
                 log.debug("replay: %d past origins reused, %d fitted", replays.hits, replays.misses)
@@ -292,7 +250,7 @@ def _build(
                 )
     except BaseException as exc:
         if out_dir is not None and out_dir.is_dir():
-            _record_failure(out_dir, record, exc)
+            run.failed(out_dir, exc)  # unless recorded under the lock already
         raise
     finally:
         steps.close()
@@ -309,8 +267,27 @@ def _build(
         "as_of": assessment.as_of,
         "outputs": listed,
         "headline": _headline(assessment),
-        "warnings": list(assessment.warnings),
+        "warnings": [*assessment.warnings, *_kept_notes(written)],
     }
+
+
+def _run_record(command: str, as_of: str | None) -> RunRecord:
+    """The run's line in runs.jsonl, before its round and inputs are known."""
+    return RunRecord(
+        {
+            "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
+            "command": command,
+            "as_of": as_of,
+            "config_sha256": None,
+            "inputs": {},
+        }
+    )
+
+
+def _kept_notes(written: Any) -> list[str]:
+    """The files of the round moved aside rather than replaced, as warnings (the log has
+    them too: riskreport.round_files)."""
+    return [f"{old} was not as riskreport wrote it: kept as {new}" for old, new in written.kept]
 
 
 def _build_key(cfg: Any, previous: Path | None) -> str:
@@ -325,18 +302,14 @@ def _build_key(cfg: Any, previous: Path | None) -> str:
     return replay_cache.build_key(cfg.path, label, inputs, previous, cfg.output.formats)
 
 
-def _rerun(out_dir: Path, record: dict[str, Any], again: dict[str, Any]) -> dict[str, Any]:
+def _rerun(out_dir: Path, run: RunRecord, again: dict[str, Any]) -> dict[str, Any]:
     """An identical re-run: the folder already holds exactly this build's files. Only the
     run record is written (as for any build that changes nothing)."""
-    from riskreport import folder
-
+    record = run.fields
     files = again["files"]
     order = [n for n in again.get("order", []) if n in files] or sorted(files)
     outputs = [{"path": name, "sha256": files[name]} for name in order]
-    folder.append_record(
-        out_dir,
-        {**record, "inputs": again["inputs"], "outputs": outputs, "exit_status": EXIT_OK},
-    )
+    run.append(out_dir, {"inputs": again["inputs"], "outputs": outputs})
     log.info("inputs, config and software unchanged: %s is up to date", out_dir)
     for warning in again["warnings"]:
         log.warning("warning: %s", warning)
@@ -395,13 +368,8 @@ def _backtest(
     from riskreport.report import tables
 
     out_dir = out.resolve() if out is not None else None
-    record: dict[str, Any] = {
-        "time": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
-        "command": "backtest",
-        "as_of": as_of,
-        "config_sha256": None,
-        "inputs": {},
-    }
+    run = _run_record("backtest", as_of)
+    record = run.fields
     try:
         cfg = config_module.load_config(config, as_of)
         out_dir = out_dir or cfg.output.directory.resolve()
@@ -416,14 +384,14 @@ def _backtest(
             if name.startswith(("tables/accuracy-", "tables/tests-", "tables/weights-"))
         }
         # Under the folder's lock like a build, and recorded in runs.jsonl like any run.
-        with folder.locked(out_dir):
+        with run.locked(out_dir):
             written = folder.write_round(
                 out_dir, files, as_of=assessment.as_of, force=force, replace=False
             )
-            _record_success(out_dir, record, written)
+            run.succeeded(out_dir, written)
     except BaseException as exc:
         if out_dir is not None and out_dir.is_dir():
-            _record_failure(out_dir, record, exc)
+            run.failed(out_dir, exc)  # unless recorded under the lock already
         raise
     return {
         "status": "ok",
@@ -438,7 +406,7 @@ def _backtest(
             for p, h in zip(written.paths, written.sha256, strict=True)
         ],
         "headline": _headline(assessment),
-        "warnings": list(assessment.warnings),
+        "warnings": [*assessment.warnings, *_kept_notes(written)],
     }
 
 
@@ -556,16 +524,18 @@ def _batch(args: argparse.Namespace) -> dict[str, Any]:
     configs = list(args.configs)
     results: list[dict[str, Any]] = []
     if args.jobs > 1 and len(configs) > 1:
-        from concurrent.futures import ProcessPoolExecutor
+        from riskreport import workers
 
-        # Each config in its own short-lived worker: weasyprint's memory goes with it.
-        with ProcessPoolExecutor(max_workers=args.jobs, max_tasks_per_child=1) as pool:
-            futures = [
-                pool.submit(_one_config, c, months, args.out, args.force, args.verbose, args.cache)
-                for c in configs
-            ]
-            for future in futures:
-                results.extend(future.result())
+        # Each config in its own short-lived worker (weasyprint's memory goes with it) that
+        # stops with this process, after the round it is switching (riskreport.workers).
+        tasks = [
+            functools.partial(
+                _one_config, c, months, args.out, args.force, args.verbose, args.cache
+            )
+            for c in configs
+        ]
+        for config, outcome in zip(configs, workers.run_each(tasks, args.jobs), strict=True):
+            results.extend(outcome.value if outcome.ok else [_worker_failed(config, outcome)])
     else:
         for config in configs:
             results.extend(
@@ -577,6 +547,18 @@ def _batch(args: argparse.Namespace) -> dict[str, Any]:
         "briefs": results,
         "exit_code": worst,
         "outputs": [o for r in results for o in r.get("outputs", [])],
+    }
+
+
+def _worker_failed(config: Path, outcome: Any) -> dict[str, Any]:
+    """The result of a config whose worker gave no result (stopped, or killed)."""
+    print(f"riskreport: {config.name}: error: {outcome.error}", file=sys.stderr)
+    return {
+        "config": str(config),
+        "as_of": None,
+        "exit_code": EXIT_INTERNAL,
+        "status": "error",
+        "error": outcome.error,
     }
 
 
@@ -604,7 +586,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     progress.configure(enabled=not (args.quiet or args.json))
     parallel.configure(enabled=True)  # the second core, for this command only
     try:
-        return _main(args)
+        with stopping.handled():  # SIGTERM stops the run as Ctrl-C does (riskreport.stopping)
+            return _main(args)
     finally:
         parallel.configure(enabled=False)
 
@@ -619,15 +602,15 @@ def _main(args: argparse.Namespace) -> int:
     except (EnvironmentFailure, OSError) as exc:
         print(f"riskreport: environment error: {one_line(exc)}", file=sys.stderr)
         summary, code = {"status": "error", "error": one_line(exc)}, EXIT_ENVIRONMENT
-    except KeyboardInterrupt:
-        # A round switches over as a unit: the one being made was not written; rounds a
-        # batch had already finished stay complete.
+    except KeyboardInterrupt as exc:  # Ctrl-C, or SIGTERM (riskreport.stopping.Stopped)
+        # A round switches over as a unit, and a stop waits for a switch under way: every
+        # round in the folder is whole.
         print(
-            "riskreport: interrupted; the brief being made was not written (briefs already "
-            "finished are complete)",
+            f"riskreport: {one_line(exc)}; every round in the output folder is whole (the "
+            "brief being made was written completely or not at all)",
             file=sys.stderr,
         )
-        summary, code = {"status": "error", "error": "interrupted"}, EXIT_INTERNAL
+        summary, code = {"status": "error", "error": one_line(exc)}, EXIT_INTERNAL
     except Exception as exc:
         detail = traceback.format_exc() if args.verbose else f"{type(exc).__name__}: {exc}"
         print(

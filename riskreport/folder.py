@@ -18,7 +18,15 @@ seconds) and then fails with :class:`~riskreport.errors.FolderBusy`. The switch:
 
 A run killed before step 2 leaves the old round untouched; one killed after it leaves a
 round without a manifest (trusted by no reader). The next run, under the lock, removes
-staging folders without a journal and completes those with one (roll forward).
+staging folders without a journal and completes those with one (roll forward). A stop
+(SIGTERM, SIGINT) waits until steps 1 to 4 are over (:func:`riskreport.stopping.critical`),
+so only SIGKILL or a crash leaves such a round for the next run to complete.
+
+What is removed or replaced follows one rule, :mod:`riskreport.round_files`: only a file
+named as one of the round's own, and only while its content still has the digest the tool
+recorded; anything else of the round's is moved aside under a new name, and no other file
+(``runs.jsonl``, the lock, the cache, a user's file) is ever touched, whatever a manifest or
+a journal lists. Manifests and journals are read through :mod:`riskreport.reading.jsonfile`.
 
 Nothing is written through a symbolic link: a link among the folder's children that a
 write would use is refused (:class:`~riskreport.errors.LinkRefused`), and files are opened
@@ -30,7 +38,6 @@ from __future__ import annotations
 import contextlib
 import errno
 import fcntl
-import hashlib
 import json
 import logging
 import os
@@ -41,7 +48,9 @@ import time
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
+from riskreport import round_files, stopping
 from riskreport.errors import (
     EnvironmentFailure,
     FolderBusy,
@@ -49,6 +58,7 @@ from riskreport.errors import (
     LinkRefused,
     OverwriteRefused,
 )
+from riskreport.reading import jsonfile
 
 log = logging.getLogger("riskreport")
 
@@ -68,10 +78,13 @@ _held: dict[Path, tuple[int, int]] = {}
 
 @dataclass(frozen=True)
 class Round:
-    """The files of one round as written: paths in the output folder and their SHA-256."""
+    """The files of one round as written: paths in the output folder and their SHA-256,
+    and the files of the round that were moved aside rather than replaced (old name, new
+    name; see :mod:`riskreport.round_files`)."""
 
     paths: tuple[Path, ...]
     sha256: tuple[str, ...]
+    kept: tuple[tuple[str, str], ...] = ()
 
 
 def manifest_name(as_of: str) -> str:
@@ -79,8 +92,7 @@ def manifest_name(as_of: str) -> str:
     return f"manifest-{as_of}.json"
 
 
-def _digest(content: bytes) -> str:
-    return hashlib.sha256(content).hexdigest()
+_digest = round_files.digest
 
 
 def _crash_point(step: str) -> None:
@@ -229,26 +241,28 @@ def locked(out_dir: Path) -> Iterator[None]:
         os.close(fd)  # closing the descriptor releases the lock
 
 
-def _inside(name: str) -> bool:
-    """True when ``name`` is a plain relative path that stays inside the output folder.
-
-    Manifests and journals are files in the folder that anyone may have edited; a name
-    that is absolute or climbs out (``..``) would make ``--force`` remove, or recovery
-    move, a file elsewhere, so such a name makes the whole manifest untrusted.
-    """
-    parts = name.split("/")
-    return bool(name) and "\\" not in name and all(p not in ("", ".", "..") for p in parts)
-
-
-def _parse_manifest(content: bytes | None) -> dict[str, str] | None:
+def _listed(content: bytes | None) -> dict[str, str] | None:
+    """Every (name, SHA-256) a manifest lists; None when absent or not a manifest."""
     if content is None:
         return None
     try:
-        data = json.loads(content.decode("utf-8"))
+        data = jsonfile.parse(content)
         entries = {str(e["path"]): str(e["sha256"]) for e in data["files"]}
     except (ValueError, KeyError, TypeError, AttributeError):
         return None
-    return entries if all(_inside(name) for name in entries) else None
+    return entries
+
+
+def _own(entries: Mapping[str, object], as_of: str) -> bool:
+    """True when every name is one of round ``as_of``'s files (the manifest aside)."""
+    manifest = manifest_name(as_of)
+    return all(n != manifest and round_files.is_round_file(n, as_of) for n in entries)
+
+
+def _recorded(entries: Mapping[str, str] | None, as_of: str) -> dict[str, str]:
+    """The digests a manifest records for files of round ``as_of``; any other name it
+    lists (``runs.jsonl``, ``../x``, a user's file) is not the round's and is ignored."""
+    return {n: d for n, d in (entries or {}).items() if _own({n: d}, as_of)}
 
 
 def _manifest_bytes(as_of: str, entries: Mapping[str, str]) -> bytes:
@@ -259,12 +273,13 @@ def _manifest_bytes(as_of: str, entries: Mapping[str, str]) -> bytes:
 def verified(out_dir: Path, as_of: str) -> dict[str, str] | None:
     """The files of round ``as_of`` (name to SHA-256) if its manifest is complete, else None.
 
-    Complete means: the manifest is present and readable, and every file it lists is a
+    Complete means: the manifest is present and readable, it lists only files of the
+    round (:func:`riskreport.round_files.is_round_file`), and every file it lists is a
     regular file (not a link) whose SHA-256 matches.
     """
-    entries = _parse_manifest(_read(out_dir / manifest_name(as_of)))
-    if entries is None:
-        return None
+    entries = _listed(_read(out_dir / manifest_name(as_of)))
+    if entries is None or not _own(entries, as_of):
+        return None  # absent, unreadable, or edited to list files that are not the round's
     for name, digest in entries.items():
         try:
             _refuse_links(out_dir, name)
@@ -277,11 +292,13 @@ def verified(out_dir: Path, as_of: str) -> dict[str, str] | None:
 
 
 def rounds(out_dir: Path) -> list[str]:
-    """The ``as_of`` of every round with a manifest in ``out_dir``, in order."""
+    """The ``as_of`` of every round with a manifest in ``out_dir``, in order (a manifest
+    kept aside, ``manifest-2024-12.kept-1.json``, is no round's)."""
     if not out_dir.is_dir():
         return []
     names = (p.name for p in out_dir.glob("manifest-*.json"))
-    return sorted(n.removeprefix("manifest-").removesuffix(".json") for n in names)
+    labels = (n.removeprefix("manifest-").removesuffix(".json") for n in names)
+    return sorted(label for label in labels if round_files.is_as_of(label))
 
 
 def check_listed(path: Path) -> None:
@@ -304,75 +321,108 @@ def check_listed(path: Path) -> None:
 
 
 def recover(out_dir: Path) -> None:
-    """Complete or remove interrupted rounds' staging folders (call under the lock)."""
+    """Complete or remove interrupted rounds' staging folders (call under the lock).
+
+    A journal is followed only as far as :mod:`riskreport.round_files` allows: it names
+    files of one round, and a file it would replace or remove goes only if its content has
+    the digest the journal recorded (else it is moved aside).
+    """
     for staging in sorted(out_dir.glob(STAGING_PREFIX + "*")):
         if not staging.is_dir() or staging.is_symlink():
             continue
-        plan = _parse_journal(_read(staging / JOURNAL_NAME))
-        if plan is None:
-            log.info("removed the staging folder of an interrupted run: %s", staging.name)
-        else:
-            log.info("completed the round %s of an interrupted run", plan["as_of"])
-            _switch(out_dir, staging, plan)
-        shutil.rmtree(staging, ignore_errors=True)
+        with stopping.critical():
+            plan = _parse_journal(_read(staging / JOURNAL_NAME))
+            if plan is None:
+                log.info("removed the staging folder of an interrupted run: %s", staging.name)
+            else:
+                log.info("completed the round %s of an interrupted run", plan["as_of"])
+                _switch(out_dir, staging, plan)
+            shutil.rmtree(staging, ignore_errors=True)
 
 
-def _parse_journal(content: bytes | None) -> dict[str, object] | None:
+def _parse_journal(content: bytes | None) -> dict[str, Any] | None:
     """The plan in a staging folder's journal; None when absent or not one this module
-    wrote (unreadable, or naming a file outside the folder: see :func:`_inside`)."""
+    wrote: unreadable, or naming as a file to move or remove anything but a file of its
+    round (``runs.jsonl``, ``../x``, a user's file: see :mod:`riskreport.round_files`)."""
     if content is None:
         return None
     try:
-        plan = json.loads(content.decode("utf-8"))
-        names = [str(plan["manifest"]), *plan["files"], *plan["remove"]]
-        str(plan["as_of"])
+        plan = jsonfile.parse(content)
+        as_of, files, remove = plan["as_of"], plan["files"], plan["remove"]
+        manifest, recorded = plan["manifest"], plan.get("recorded", {})
     except (ValueError, KeyError, TypeError, AttributeError):
         return None
-    lists = isinstance(plan["files"], list) and isinstance(plan["remove"], list)
-    if not lists or not all(isinstance(n, str) and _inside(n) for n in names):
+    if not (
+        isinstance(as_of, str)
+        and isinstance(files, list)
+        and isinstance(remove, list)
+        and isinstance(recorded, dict)
+        and manifest == manifest_name(as_of)
+        and all(isinstance(n, str) for n in [*files, *remove])
+        and _own(dict.fromkeys([*files, *remove], ""), as_of)
+    ):
         return None
-    return dict(plan)
+    digests = {n: d for n, d in recorded.items() if isinstance(n, str) and isinstance(d, str)}
+    return {"as_of": as_of, "manifest": manifest, "files": files, "remove": remove,
+            "recorded": digests}  # fmt: skip
 
 
-def _switch(out_dir: Path, staging: Path, plan: Mapping[str, object]) -> None:
-    """Step 3 of the module notes; idempotent, so recovery can run it again."""
+def _switch(out_dir: Path, staging: Path, plan: Mapping[str, Any]) -> list[tuple[str, str]]:
+    """Step 3 of the module notes; idempotent, so recovery can run it again. Returns the
+    files moved aside (old name, new name)."""
     payload = staging / PAYLOAD
-    manifest = str(plan["manifest"])
-    names = plan["files"]
-    remove = plan["remove"]
-    assert isinstance(names, list)
-    assert isinstance(remove, list)
+    as_of: str = plan["as_of"]
+    manifest: str = plan["manifest"]
+    recorded: Mapping[str, str] = plan["recorded"]
+    kept: list[tuple[str, str]] = []
     if not (payload / manifest).exists():
-        return  # the new manifest is in place: the switch was complete
-    with contextlib.suppress(FileNotFoundError):
-        (out_dir / manifest).unlink()
+        return kept  # the new manifest is in place: the switch was complete
+
+    def make_way(name: str) -> None:
+        _refuse_links(out_dir, name)
+        new = round_files.clear(out_dir, name, recorded.get(name), as_of)
+        if new is not None:
+            kept.append((name, new))
+
+    make_way(manifest)
     _fsync_dir(out_dir)
-    for i, name in enumerate(names):
+    for i, name in enumerate(plan["files"]):
         source = payload / name
-        if not source.exists():
-            continue  # moved before an interruption
+        if source.is_symlink() or not source.is_file():
+            continue  # moved before an interruption (or not a file this module staged)
         target = out_dir / name
         _refuse_links(out_dir, name)
         target.parent.mkdir(parents=True, exist_ok=True)
+        make_way(name)
         os.replace(source, target)
         _fsync_dir(target.parent)
         if i == 0:
             _crash_point("switching")
-    for name in remove:
-        _refuse_links(out_dir, name)
-        with contextlib.suppress(FileNotFoundError):
-            (out_dir / name).unlink()
+    for name in plan["remove"]:
+        make_way(name)
     _crash_point("switched")
     os.replace(payload / manifest, out_dir / manifest)
     _fsync_dir(out_dir)
     _crash_point("manifest")
+    return kept
+
+
+@dataclass(frozen=True)
+class _Plan:
+    """What a write changes: the files to write, the stale files of the replaced round,
+    the digests recorded for what is there now, and the new manifest."""
+
+    changed: dict[str, bytes]
+    stale: list[str]
+    recorded: dict[str, str]
+    manifest: bytes
+    any_change: bool
 
 
 def _plan(
     out_dir: Path, files: Mapping[str, bytes], as_of: str, force: bool, replace: bool
-) -> tuple[dict[str, bytes], list[str], bytes, bool]:
-    """What to write: the changed files, the stale names, the new manifest, and whether
-    anything at all changes. Raises OverwriteRefused before anything is written."""
+) -> _Plan:
+    """What to write. Raises OverwriteRefused before anything is written."""
     manifest = manifest_name(as_of)
     for name in (*files, manifest, RUNS_NAME):
         _refuse_links(out_dir, name)
@@ -390,14 +440,19 @@ def _plan(
             )
         changed[name] = content
     old_bytes = _read(out_dir / manifest)
-    old = _parse_manifest(old_bytes) or {}
-    stale = sorted(set(old) - set(files)) if replace and force and changed else []
+    listed = _listed(old_bytes)
+    recorded = _recorded(listed, as_of)
+    stale = sorted(set(recorded) - set(files)) if replace and force and changed else []
     for name in stale:
         _refuse_links(out_dir, name)
-    entries = {n: d for n, d in old.items() if n not in stale}
+    entries = {n: d for n, d in recorded.items() if n not in stale}
     entries.update({name: _digest(content) for name, content in files.items()})
     new_bytes = _manifest_bytes(as_of, entries)
-    return changed, stale, new_bytes, bool(changed or stale or new_bytes != old_bytes)
+    if old_bytes is not None and listed is not None and _own(listed, as_of):
+        if old_bytes == _manifest_bytes(as_of, listed):  # exactly as this module writes one
+            recorded[manifest] = _digest(old_bytes)
+    any_change = bool(changed or stale or new_bytes != old_bytes)
+    return _Plan(changed, stale, recorded, new_bytes, any_change)
 
 
 def write_round(
@@ -415,17 +470,21 @@ def write_round(
     out_dir
         The output folder (created if needed).
     files
-        Content by path relative to ``out_dir``.
+        Content by path relative to ``out_dir``; every name one of the round's
+        (:func:`riskreport.round_files.is_round_file`).
     as_of
         The round; its manifest is ``manifest-<as_of>.json``.
     force
-        Replace files that exist with other content.
+        Replace files that exist with other content (a file whose content is not what
+        the tool recorded is moved aside instead: :mod:`riskreport.round_files`).
     replace
         The files are the whole round: with ``force``, files of the earlier round that
         this one does not have are removed. False adds to the round (e.g. tables only).
 
     Raises
     ------
+    ValueError
+        A name is not one of the round's files.
     OverwriteRefused
         A file exists with other content and ``force`` is false; nothing is written.
     LinkRefused
@@ -435,51 +494,59 @@ def write_round(
     EnvironmentFailure
         The file system refused a write (read-only, full, no permission).
     """
+    if not _own(files, as_of):  # checked before the folder is made or locked
+        strays = sorted(n for n in files if not _own({n: ""}, as_of))
+        raise ValueError(f"not files of the round {as_of}: {strays}")
+    kept: list[tuple[str, str]] = []
     with locked(out_dir):
         out_dir = out_dir.resolve()
         with environment(out_dir):
-            changed, stale, manifest, any_change = _plan(out_dir, files, as_of, force, replace)
-            if any_change:
-                _stage_and_switch(out_dir, changed, stale, as_of, manifest)
+            plan = _plan(out_dir, files, as_of, force, replace)
+            if plan.any_change:
+                kept = _stage_and_switch(out_dir, plan, as_of)
     names = list(files)
     return Round(
         paths=tuple(out_dir / n for n in names),
         sha256=tuple(_digest(files[n]) for n in names),
+        kept=tuple(kept),
     )
 
 
-def _stage_and_switch(
-    out_dir: Path, changed: Mapping[str, bytes], stale: list[str], as_of: str, manifest: bytes
-) -> None:
-    staging = Path(tempfile.mkdtemp(prefix=STAGING_PREFIX, dir=out_dir))
-    committed = False
-    try:
-        payload = staging / PAYLOAD
-        for name, content in {**changed, manifest_name(as_of): manifest}.items():
-            path = payload / name
-            path.parent.mkdir(parents=True, exist_ok=True)
-            _write_new(path, content)
-        for folder in {(payload / n).parent for n in changed} | {payload}:
-            _fsync_dir(folder)
-        _crash_point("staged")
-        plan = {
-            "as_of": as_of,
-            "manifest": manifest_name(as_of),
-            "files": list(changed),
-            "remove": stale,
-        }
-        _write_new(staging / (JOURNAL_NAME + ".tmp"), json.dumps(plan).encode("utf-8"))
-        os.replace(staging / (JOURNAL_NAME + ".tmp"), staging / JOURNAL_NAME)
-        _fsync_dir(staging)
-        committed = True
-        _crash_point("committed")
-        _switch(out_dir, staging, plan)
-        shutil.rmtree(staging)
-    except BaseException:
-        if not committed:
-            shutil.rmtree(staging, ignore_errors=True)
-        # A committed round is left for the next run to complete under the lock.
-        raise
+def _stage_and_switch(out_dir: Path, plan: _Plan, as_of: str) -> list[tuple[str, str]]:
+    with stopping.critical():  # a stop waits: the round is never left half switched
+        staging = Path(tempfile.mkdtemp(prefix=STAGING_PREFIX, dir=out_dir))
+        committed = False
+        try:
+            payload = staging / PAYLOAD
+            for name, content in {**plan.changed, manifest_name(as_of): plan.manifest}.items():
+                path = payload / name
+                path.parent.mkdir(parents=True, exist_ok=True)
+                _write_new(path, content)
+            for folder in {(payload / n).parent for n in plan.changed} | {payload}:
+                _fsync_dir(folder)
+            _crash_point("staged")
+            touched = {*plan.changed, *plan.stale, manifest_name(as_of)}
+            journal = {
+                "as_of": as_of,
+                "manifest": manifest_name(as_of),
+                "files": list(plan.changed),
+                "remove": plan.stale,
+                "recorded": {n: d for n, d in plan.recorded.items() if n in touched},
+            }
+            temporary = staging / (JOURNAL_NAME + ".tmp")
+            _write_new(temporary, json.dumps(journal).encode("utf-8"))
+            os.replace(temporary, staging / JOURNAL_NAME)
+            _fsync_dir(staging)
+            committed = True
+            _crash_point("committed")
+            kept = _switch(out_dir, staging, journal)
+            shutil.rmtree(staging)
+        except BaseException:
+            if not committed:
+                shutil.rmtree(staging, ignore_errors=True)
+            # A committed round is left for the next run to complete under the lock.
+            raise
+    return kept
 
 
 def append_record(out_dir: Path, record: Mapping[str, object]) -> None:

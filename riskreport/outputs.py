@@ -19,6 +19,7 @@ from pathlib import Path
 from riskreport import folder, parallel
 from riskreport._typing import OUTPUT_FORMATS, OutputFormat
 from riskreport.assessment import ACCURACY_TEST_KEYS, Assessment, HorizonResult
+from riskreport.report import cells
 from riskreport.serialise import plain
 
 log = logging.getLogger("riskreport")
@@ -32,7 +33,9 @@ def run_id(assessment_json: str) -> str:
 
 
 def _csv(rows: Iterable[dict[str, object]]) -> bytes:
-    rows = list(rows)
+    """CSV bytes; text a spreadsheet would read as a formula (a model named ``=1+2``) is
+    neutralised, numbers stay numbers (:mod:`riskreport.report.cells`)."""
+    rows = [{k: cells.csv_value(v) for k, v in row.items()} for row in rows]
     buffer = io.StringIO()
     if rows:
         writer = csv.DictWriter(buffer, fieldnames=list(rows[0]), lineterminator="\n")

@@ -35,6 +35,8 @@ from dataclasses import dataclass
 from multiprocessing.connection import Connection
 from typing import Any, TypeVar
 
+from riskreport import stopping
+
 T = TypeVar("T")
 
 ENV = "RISKREPORT_WORKERS"
@@ -91,9 +93,10 @@ class _Outcome:
     warned: tuple[tuple[str, type[Warning]], ...]
 
 
-def _die_with_parent(parent: int) -> None:
-    """Ask Linux to stop this child when its parent dies (prctl PR_SET_PDEATHSIG), so a
-    killed run leaves no process behind; elsewhere nothing is done."""
+def die_with_parent(parent: int) -> None:
+    """Ask Linux to send this child SIGTERM when its parent dies (prctl PR_SET_PDEATHSIG),
+    so a killed run leaves no process behind; elsewhere nothing is done. ``parent`` is the
+    parent's pid, to catch a parent that died before the request took effect."""
     try:
         libc = ctypes.CDLL(None, use_errno=True)
         libc.prctl(PR_SET_PDEATHSIG, signal.SIGTERM)
@@ -105,7 +108,10 @@ def _die_with_parent(parent: int) -> None:
 
 def _child(task: Callable[[], Any], pipe: Connection, parent: int) -> None:
     """Run ``task`` in the forked child and send its outcome (any failure only as a flag)."""
-    _die_with_parent(parent)
+    # The child writes nothing, so SIGTERM may end it at once, as before the command
+    # line's handler (riskreport.stopping) was inherited through the fork.
+    stopping.restore_default_term()
+    die_with_parent(parent)
     try:
         with warnings.catch_warnings(record=True) as caught:
             value = task()

@@ -7,6 +7,7 @@ validate -> combine -> errors -> distributions -> staff judgement -> probabiliti
 from __future__ import annotations
 
 import dataclasses
+import logging
 import threading
 import warnings
 from pathlib import Path
@@ -42,6 +43,8 @@ from riskreport.replay.cache import ReplayCache
 from riskreport.rounds import attribution as attribution_module
 from riskreport.rounds import change as change_module
 from riskreport.rounds import history as history_module
+
+log = logging.getLogger("riskreport")
 
 
 def _simulate(cfg: Config, errors: np.ndarray, dists: list[Distribution]) -> np.ndarray:
@@ -81,14 +84,24 @@ def assess_config(
     change = None
     moved: tuple[attribution_module.AttributionRow, ...] = ()
     if source is not None:
-        earlier = change_module.load(source)
-        if previous is not None:
+        try:
+            earlier = change_module.load(source)
+        except InputError as exc:
+            if previous is not None:
+                raise  # named on the command line: bad input
+            # Found in the folder (e.g. beyond the JSON reader's limits, its manifest
+            # fixed): skipped, as an incomplete round is.
+            label = source.stem.removeprefix("assessment-")
+            log.warning("the round %s cannot be read; not compared: %s", label, exc)
+            earlier = None
+        if earlier is not None and previous is not None:
             _check_earlier(source, earlier["as_of"], cfg)
-        change = change_module.compare(
-            earlier, [(r.period, change_module.side_of(r)) for r in assessment.horizons]
-        )
-        moved, note = _attribution(cfg, assessment, earlier)
-        notes.extend([note] if note else [])
+        if earlier is not None:
+            change = change_module.compare(
+                earlier, [(r.period, change_module.side_of(r)) for r in assessment.horizons]
+            )
+            moved, note = _attribution(cfg, assessment, earlier)
+            notes.extend([note] if note else [])
     policy = assessment.policy
     rounds = history_module.points(
         previous.parent if previous is not None else search or cfg.output.directory,

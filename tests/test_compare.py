@@ -152,3 +152,21 @@ def test_compare_says_when_the_rounds_used_different_methods(
     assert "centre estimated" in summary["new_method"]
     text = run("compare", old, other).stdout
     assert "used different methods" in text
+
+
+def test_a_round_that_does_not_match_its_manifest_is_compared_with_a_warning(
+    rounds: Path, run: Callable[..., Result]
+) -> None:
+    # Regression: compare read a half-switched round (after a kill -9, before the next run
+    # completed it) without a word. The file is still compared, as it is.
+    old, new = rounds / "assessment-2024-09.json", rounds / "assessment-2024-12.json"
+    table = rounds / "tables/horizons-2024-09.csv"
+    table.write_bytes(table.read_bytes() + b"\n")  # no longer what the manifest lists
+    result = run("compare", old, new)
+    assert result.code == 0, result.stderr
+    assert "assessment-2024-09.json" in result.stderr
+    assert "manifest-2024-09.json does not match" in result.stderr
+    assert "compared as it is" in result.stderr
+    assert "2024-09 -> 2024-12" in result.stdout
+    clean = run("compare", new, new)
+    assert "manifest" not in clean.stderr

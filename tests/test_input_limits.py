@@ -1,7 +1,8 @@
 """Hostile and extreme input: implausible magnitudes and years, unbounded config numbers,
-repeated columns, files that are not what their name says, blank lines, byte-order marks,
-formula cells without values, and user text in chart labels. Each is exit 2 with one line
-naming the file, row and column (or the config key), no traceback and no output."""
+over-long texts, repeated columns, files that are not what their name says, blank lines,
+byte-order marks, formula cells without values, and user text in chart labels. Each is exit
+2 with one line naming the file, row and column (or the config key), no traceback and no
+output."""
 
 from __future__ import annotations
 
@@ -20,6 +21,8 @@ from riskreport.reading.inputs import read_actuals, read_forecasts
 from riskreport.report import charts
 from tests.conftest import Case, Result
 from tests.conftest import build_fails as _fails
+
+LONG_NAMES = tuple(f"{i}-" + "a long and descriptive model name " * 3 for i in range(8))
 
 # --- implausible magnitudes and years ---------------------------------------------------
 
@@ -101,6 +104,42 @@ def test_judgement_upper_bounds(
         f'\n[[judgement]]\nfrom = "2025-01"\nto = "2025-02"\n{key} = {value}\nreason = "x"\n'
     )
     _fails(run, case, "config.toml", f"[judgement 1] {key}")
+
+
+# --- texts without length limits -------------------------------------------------------
+
+
+# Reproduction of the issue: an 80 KB title took 135 s and made a 60-page brief.
+@pytest.mark.parametrize(("key", "limit"), [("title", 200), ("institution", 200)])
+def test_long_brief_texts(run: Callable[..., Result], case: Case, key: str, limit: int) -> None:
+    old = next(line for line in case.config.splitlines() if line.startswith(f"{key} = "))
+    case.config = case.config.replace(old, f'{key} = "{"x" * limit}"')
+    assert run("check", case.write(), "-q").code == 0
+    case.config = case.config.replace(f'{key} = "{"x" * limit}"', f'{key} = "{"x" * 80_000}"')
+    _fails(run, case, "config.toml", f"[brief] {key}", f"at most {limit} characters", "80000")
+
+
+@pytest.mark.parametrize("kind", ["judgement", "scenario"])
+def test_long_reasons_and_scenario_names(run: Callable[..., Result], case: Case, kind: str) -> None:
+    name = 'name = "s"\n' if kind == "scenario" else ""
+    entry = f'\n[[{kind}]]\n{name}from = "2025-01"\nto = "2025-02"\nshift = 0.1\n'
+    base = case.config
+    case.config = base + entry + f'reason = "{"r" * 2000}"\n'
+    assert run("check", case.write(), "-q").code == 0
+    case.config = base + entry + f'reason = "{"r" * 2001}"\n'
+    _fails(run, case, "config.toml", f"[{kind} 1] reason", "at most 2000 characters")
+    if kind == "scenario":
+        case.config = base + entry.replace('"s"', f'"{"n" * 81}"') + 'reason = "r"\n'
+        _fails(run, case, "config.toml", "[scenario 1] name", "at most 80 characters")
+
+
+def test_long_model_name(run: Callable[..., Result], case: Case) -> None:
+    first = next(i for i, row in enumerate(case.forecasts) if row[2] == "b")
+    for row in case.forecasts[1:]:
+        if row[2] == "b":
+            row[2] = "m" * 81
+    where = f"row {first + 1}"  # the header is row 1
+    _fails(run, case, "forecasts.csv", where, "column 'model'", "at most 80 characters")
 
 
 # --- files that are not what they seem ---------------------------------------------------
@@ -224,3 +263,63 @@ def test_model_names_with_mathtext_characters_in_chart_legend() -> None:
         assert name in texts, name
     assert "italic" not in chart.svg
     assert "Oblique" not in chart.svg
+
+
+def test_long_model_names_keep_the_legend_inside_the_canvas() -> None:
+    # Reproduction of the issue: a very long model name ran the legend off the canvas.
+    # Oracle: matplotlib's own layout (each legend's window extent after drawing).
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    names = tuple(name[:80] for name in LONG_NAMES)  # the longest a model name may be
+    hs = [0, 1, 2]
+    assessment = SimpleNamespace(
+        combination=SimpleNamespace(
+            weights=[WeightRow(h, name, 1 / len(names)) for name in names for h in hs]
+        ),
+        horizons=[SimpleNamespace(h=h) for h in hs],
+        frequency="monthly",
+    )
+    fig = charts.weights_figure(assessment)  # type: ignore[arg-type]
+    canvas = FigureCanvasAgg(fig)
+    canvas.draw()
+    renderer = canvas.get_renderer()
+    legend = fig.axes[0].get_legend()
+    page = fig.bbox
+    # What is drawn of the legend (its frame is off): every label and every swatch.
+    for artist in [*legend.get_texts(), *legend.legend_handles]:
+        box = artist.get_window_extent(renderer)
+        assert box.x0 >= page.x0, (box, page)
+        assert box.x1 <= page.x1, (box, page)
+        assert box.y0 >= page.y0, (box, page)
+        assert box.y1 <= page.y1, (box, page)
+    labels = [t.get_text() for t in legend.get_texts()]
+    assert len(labels) == len(names)
+    assert all(len(t) <= charts.LEGEND_CHARACTERS and t.endswith("\u2026") for t in labels)
+    assert [t[:-1] for t in labels] == [n[: len(t) - 1] for n, t in zip(names, labels, strict=True)]
+
+
+def test_a_long_model_name_wraps_on_the_page(
+    run: Callable[..., Result], case: Case, tmp_path: Path
+) -> None:
+    # Reproduction of the issue: a very long model name ran off the page. One word of the
+    # longest allowed length, in wide letters, is the worst case. Oracle: pypdf's text
+    # extraction, one line of text per line on the page.
+    from pypdf import PdfReader
+
+    name = "M" * 80
+    for row in case.forecasts[1:]:
+        if row[2] == "b":
+            row[2] = name
+    case.config = case.config.replace('["json", "csv"]', '["json", "pdf"]')
+    out = tmp_path / "o"
+    assert run("build", case.write(), "--out", out, "-q").code == 0
+    pages = PdfReader(out / "brief-2024-12.pdf").pages
+    runs = [len(m) for page in pages for m in re.findall("M{2,}", page.extract_text())]
+    assert sum(runs) >= 2 * len(name)  # the name is on the pages (more than once)
+    assert max(runs) < len(name)  # and always broken across lines: none runs off
+
+
+def test_a_config_nested_too_deeply(run: Callable[..., Result], case: Case) -> None:
+    # A sibling of the deep JSON of the issue: tomllib recurses once per level of nesting.
+    case.config += "\n[output.deep]\nx = " + "[" * 100_000 + "]" * 100_000 + "\n"
+    _fails(run, case, "config.toml", "nested too deeply")

@@ -364,15 +364,15 @@ def test_refusal_messages_name_the_subfolder_and_do_not_claim_nothing_was_writte
     # A refused build records its failure line in runs.jsonl, so "nothing was written"
     # was untrue; a link or a changed file in tables/ was reported as if in the folder.
     out = tmp_path / "out"
-    folder.write_round(out, {"tables/t.csv": b"a\n"}, as_of=AS_OF)
+    folder.write_round(out, {"tables/t-2024-12.csv": b"a\n"}, as_of=AS_OF)
     with pytest.raises(folder.OverwriteRefused) as refused:
-        folder.write_round(out, {"tables/t.csv": b"b\n"}, as_of=AS_OF)
+        folder.write_round(out, {"tables/t-2024-12.csv": b"b\n"}, as_of=AS_OF)
     assert "out/tables/" in str(refused.value)
     assert "nothing was written" not in str(refused.value)
-    (out / "tables" / "t.csv").unlink()
-    (out / "tables" / "t.csv").symlink_to(tmp_path / "elsewhere.csv")
+    (out / "tables" / "t-2024-12.csv").unlink()
+    (out / "tables" / "t-2024-12.csv").symlink_to(tmp_path / "elsewhere.csv")
     with pytest.raises(folder.LinkRefused) as linked:
-        folder.write_round(out, {"tables/t.csv": b"b\n"}, as_of=AS_OF, force=True)
+        folder.write_round(out, {"tables/t-2024-12.csv": b"b\n"}, as_of=AS_OF, force=True)
     assert str(out / "tables") in str(linked.value)
     assert "nothing was written" not in str(linked.value)
     assert not (tmp_path / "elsewhere.csv").exists()
@@ -398,3 +398,37 @@ def test_a_backtest_is_recorded_like_any_run(case: Case, run: Callable[..., Resu
     assert failed.code == 2
     assert _records(out)[-1]["exit_status"] == 2
     assert "abc" in str(_records(out)[-1]["error"])
+
+
+def test_a_refused_build_records_its_line_while_it_holds_the_lock(
+    case: Case, run: Callable[..., Result], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Regression: a refused build appended its runs.jsonl line after the lock was released,
+    # so another run could come between its work and its record. Oracle: a second open file
+    # description of the lock file (as another process has) cannot take the lock while the
+    # line is written.
+    config = case.write()
+    out = case.folder / "out"
+    assert run("build", config, "--out", out, "-q").code == 0
+    case.config = case.config.replace("tolerance = 1.0", "tolerance = 1.3")
+    case.write()
+    held: list[bool] = []
+    append = folder.append_record
+
+    def observed(out_dir: Path, record: dict[str, object]) -> None:
+        fd = os.open(out_dir / folder.LOCK_NAME, os.O_RDWR)
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            held.append(False)
+        except BlockingIOError:
+            held.append(True)
+        finally:
+            os.close(fd)
+        append(out_dir, record)
+
+    monkeypatch.setattr(folder, "append_record", observed)
+    result = run("build", config, "--out", out)
+    assert result.code == 2
+    assert "use --force" in result.stderr
+    assert held == [True]
+    assert [r["exit_status"] for r in _records(out)] == [0, 2]

@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
 from collections.abc import Callable
 from pathlib import Path
 
@@ -24,8 +25,10 @@ def test_slides_and_pngs(case: Case, run: Callable[..., Result], tmp_path: Path)
     names = ["outlook", "band-probabilities", "density-h2"]
     for name in names:
         with Image.open(out / f"slides/{name}-2024-12.png") as image:
-            # 13.33 x 7.5 in at 200 dpi
-            assert image.size == (round(13.33 * 200), round(7.5 * 200))
+            # The size the README states: 2667 x 1500 pixels, the 16:9 widescreen slide
+            # (13 1/3 x 7.5 in) at 200 dpi with its width rounded to whole pixels.
+            assert image.size == (2667, 1500)
+            assert image.size[0] == round(image.size[1] * 16 / 9)
             assert image.info["dpi"] == pytest.approx((200, 200), abs=0.01)
             alt = image.text["Description"]
         assert alt == (out / f"slides/{name}-2024-12.txt").read_text().strip()
@@ -52,3 +55,13 @@ def test_png_bytes_are_reproducible(case: Case) -> None:
     assert slides.pictures(a)[0].png == first
     with Image.open(io.BytesIO(first)) as image:
         assert "Software" not in image.info
+
+
+def test_the_slide_size_is_the_one_the_readme_states() -> None:
+    # The README promised 2667 x 1500 pixels while the slides were 2666 wide.
+    from tests.conftest import REPO
+
+    readme = (REPO / "README.md").read_text("utf-8")
+    stated = re.search(r"slide size \([^)]*?(\d+) x (\d+)\s+pixels", readme)
+    assert stated is not None
+    assert (int(stated[1]), int(stated[2])) == slides.SLIDE_PIXELS == (2667, 1500)

@@ -40,7 +40,13 @@ from riskreport._typing import (
 from riskreport.errors import InputError
 from riskreport.forecasts.combination import SHRINKAGE, SHRINKAGE_BOUNDS
 from riskreport.reading import periods
-from riskreport.reading.inputs import FIRST_YEAR, LARGEST_MAX_ABS_VALUE, LAST_YEAR, MAX_ABS_VALUE
+from riskreport.reading.inputs import (
+    FIRST_YEAR,
+    LARGEST_MAX_ABS_VALUE,
+    LAST_YEAR,
+    MAX_ABS_VALUE,
+    MAX_NAME,
+)
 
 VERBAL_SCALES = ("ipcc-ar5", "icd-203", "efsa-2018")
 
@@ -51,6 +57,9 @@ MAX_SIMULATIONS = 1_000_000
 MAX_HORIZON_YEARS = 10  # horizons and policy_horizon: at most 10 years of periods
 MAX_WINDOW_YEARS = LAST_YEAR - FIRST_YEAR  # windows and min_errors: the whole year range
 MAX_SCALE = 100.0  # a judgement's spread multiplier
+# Longest text of a key, in characters (common practice, no source): a title or a reason
+# that long is a pasted file, and it would make a brief of dozens of pages.
+MAX_TEXT = {"title": 200, "institution": 200, "reason": 2000}
 
 T = TypeVar("T")
 
@@ -314,6 +323,9 @@ class _Reader:
         value = cast(str, self._get(key, str, "text", _REQUIRED if default is None else default))
         if not value.strip():
             raise self.error(key, "expected non-empty text")
+        if len(value) > MAX_TEXT.get(key, len(value)):
+            limit = MAX_TEXT[key]
+            raise self.error(key, f"expected at most {limit} characters, got {len(value)}")
         return value
 
     def number(self, key: str, default: Any = None, bound: float | None = None) -> float | None:
@@ -504,6 +516,12 @@ def _scenarios(
             raise InputError(
                 "expected a scenario name (text)", file=path, column=f"[scenario {i}] name"
             )
+        if len(name.strip()) > MAX_NAME:
+            raise InputError(
+                f"expected at most {MAX_NAME} characters, got {len(name.strip())}",
+                file=path,
+                column=f"[scenario {i}] name",
+            )
         names.append(name.strip())
     return tuple(zip(names, entries, strict=True))
 
@@ -534,6 +552,8 @@ def load(path: str | Path) -> Config:
         data = tomllib.loads(path.read_text(encoding="utf-8-sig"))
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"invalid TOML: {exc}", file=path) from None
+    except RecursionError:  # tomllib recurses once per level of nesting
+        raise InputError("invalid TOML: arrays or tables nested too deeply", file=path) from None
     except UnicodeDecodeError:
         raise InputError("expected a UTF-8 text file", file=path) from None
     except OSError as exc:

@@ -33,6 +33,11 @@ FIRST_YEAR, LAST_YEAR = 1800, 2200
 MAX_HORIZON = 12 * (LAST_YEAR - FIRST_YEAR)
 
 
+# Longest model (and scenario) name, in characters (common practice, no source): room for
+# any descriptive name, short enough for a table row, a chart legend and a file.
+MAX_NAME = 80
+
+
 @dataclass(frozen=True)
 class Forecasts:
     """Forecast rows: model index, origin and period ordinals, values (one row each)."""
@@ -365,6 +370,10 @@ def read_forecasts(
         names = frame["model"].str.strip()
         if (bad := _first(names == "")) is not None:
             raise _error(frame, path, "expected a model name, got an empty cell", bad, "model")
+        if (bad := _first(names.str.len() > MAX_NAME)) is not None:
+            length = len(names.iloc[bad])
+            message = f"expected a model name of at most {MAX_NAME} characters, got {length}"
+            raise _error(frame, path, message, bad, "model")
     else:
         names = pd.Series("combined", index=frame.index)
     origin = _periods(frame, "origin", frequency, path)

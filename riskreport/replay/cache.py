@@ -46,6 +46,7 @@ from typing import Any
 import numpy as np
 
 from riskreport._typing import Family
+from riskreport.reading import jsonfile
 from riskreport.replay import calibration
 from riskreport.replay.calibration import HorizonData, HorizonReplay
 
@@ -397,7 +398,7 @@ def _builds(out_dir: Path) -> list[dict[str, Any]]:
         content = _read(path / BUILDS_NAME)
         if content is None:
             return []
-        data = json.loads(content.decode("utf-8"))
+        data = jsonfile.parse(content)
         if data.get("fingerprint") != fingerprint():
             return []
         builds = data["builds"]

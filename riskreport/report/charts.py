@@ -452,8 +452,28 @@ MODEL_SHADES = (
 MODEL_HATCHES = ("", "////", "\\\\", "..", "xx", "--", "++", "oo")
 
 
+LEGEND_CHARACTERS = 28  # a longer model name is shortened in the legend
+_CHARACTER_MM, _HANDLE_MM = 6.5 * 0.6 * 25.4 / 72, 9.0  # 0.6 em a character at 6.5 pt; swatch
+
+
+def short_label(text: str, characters: int = LEGEND_CHARACTERS) -> str:
+    """``text`` cut to ``characters`` with an ellipsis where longer (the tables keep it whole).
+
+    >>> short_label("a model with a very long name indeed", 20)
+    'a model with a very…'
+    """
+    return text if len(text) <= characters else text[: characters - 1].rstrip() + "\u2026"
+
+
 def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Chart:
     """The current round's combination weights by horizon, stacked (negative ones below 0)."""
+    with matplotlib.rc_context(_RC):
+        fig = weights_figure(assessment, width_mm, height_mm)
+        return Chart("weights", _svg(fig), width_mm, height_mm)
+
+
+def weights_figure(assessment: Assessment, width_mm: float = 170, height_mm: float = 48) -> Figure:
+    """The weights chart's Figure: names shortened, as many legend columns as fit the width."""
     table: dict[str, dict[int, float]] = {}
     for w in assessment.combination.weights:
         table.setdefault(w.model, {})[w.h] = w.weight
@@ -475,7 +495,7 @@ def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48
                 hatch=MODEL_HATCHES[i % 8],
                 edgecolor=INK,
                 linewidth=0.3,
-                label=model,
+                label=short_label(model),
             )
             up += np.where(values >= 0, values, 0)
             down += np.where(values < 0, values, 0)
@@ -483,14 +503,16 @@ def weights(assessment: Assessment, width_mm: float = 170, height_mm: float = 48
         ax.set_xlabel(f"{_units(assessment)} ahead")
         ax.set_ylabel("weight")
         ax.spines[["top", "right"]].set_visible(False)
+        longest = max((len(short_label(m)) for m in table), default=1)
+        fitting = int(0.95 * width_mm // (longest * _CHARACTER_MM + _HANDLE_MM))
         ax.legend(
             fontsize=6.5,
             frameon=False,
-            ncol=min(len(table), 5),
+            ncol=max(1, min(len(table), 5, fitting)),
             loc="upper center",
             bbox_to_anchor=(0.5, -0.28),
         )
-        return Chart("weights", _svg(fig), width_mm, height_mm)
+        return fig
 
 
 def density_curves(c: DensityCurve) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -59,10 +59,10 @@ def model_paths(a: Assessment, width_mm: float = 170, height_mm: float = 62) -> 
         ends.append(("combined", last.h, last.point_forecast, combined["color"]))
         lower, upper = a.horizons[0].band
         ax.axhspan(lower, upper, color=BAND_FILL, lw=0, zorder=0)
-        first, last = a.horizons[0].h, a.horizons[-1].h
+        h_first, h_last = a.horizons[0].h, a.horizons[-1].h
         # one reported period alone (horizons = 0): half a period either side, not a
         # singular axis
-        ax.set_xlim(*((first, last) if last > first else (first - 0.5, last + 0.5)))
+        ax.set_xlim(*((h_first, h_last) if h_last > h_first else (h_first - 0.5, h_last + 0.5)))
         low, high = ax.get_ylim()
         placed = spread_labels([y for _, _, y, _ in ends], gap=0.075 * (high - low))
         for (label, x, _, colour), at in zip(ends, placed, strict=True):

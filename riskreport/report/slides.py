@@ -2,9 +2,10 @@
 (``slides``), each with its alt text in the PNG metadata and in a sidecar text file, plus a
 tidy quantile table (period, quantile, value) that any plotting tool can redraw.
 
-A slide is 13.33 x 7.5 in at 200 dpi (2667 x 1500 pixels). The chart is drawn at half that
-size and rendered at twice the resolution, so its 8 pt text reads at 16 pt on the slide;
-the PNG then records 200 dpi, so it prints at the full slide size.
+A slide is 2667 x 1500 pixels at 200 dpi: the 16:9 widescreen slide of 13 1/3 x 7.5 in,
+its width rounded to whole pixels (13.335 in). The chart is drawn at half that size and
+rendered at twice the resolution, so its 8 pt text reads at 16 pt on the slide; the PNG
+then records 200 dpi, so it prints at the full slide size.
 """
 
 from __future__ import annotations
@@ -19,11 +20,12 @@ from matplotlib.figure import Figure
 from PIL.PngImagePlugin import PngInfo
 
 from riskreport.assessment import Assessment
-from riskreport.report import charts
+from riskreport.report import cells, charts
 from riskreport.report.sections import outlook, summary
 
-SLIDE_INCHES = (13.33, 7.5)
+SLIDE_PIXELS = (2667, 1500)
 SLIDE_DPI = 200
+SLIDE_INCHES = (SLIDE_PIXELS[0] / SLIDE_DPI, SLIDE_PIXELS[1] / SLIDE_DPI)
 BRIEF_DPI = 200
 ENLARGE = 2  # slide charts are drawn at 1/ENLARGE of the slide and rendered ENLARGE x finer
 
@@ -138,5 +140,6 @@ def quantile_table(a: Assessment) -> bytes:
     writer.writerow(["period", "h", "quantile", "value"])
     for r in a.horizons:
         for q, v in r.quantiles.items():
-            writer.writerow([r.period, r.h, q, f"{v:.12g}"])  # as in the JSON
+            row = [r.period, r.h, q, f"{v:.12g}"]  # as in the JSON
+            writer.writerow([cells.csv_value(c) for c in row])
     return buffer.getvalue().encode("utf-8")

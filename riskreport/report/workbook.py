@@ -25,6 +25,7 @@ from openpyxl.writer.excel import ExcelWriter
 
 from riskreport.assessment import Assessment, HorizonResult, Quantiles
 from riskreport.laws.sensitivity import FIXED_SHIFTS
+from riskreport.report import cells
 from riskreport.report.render import created_date
 from riskreport.report.sections import summary
 
@@ -393,6 +394,18 @@ def notes(a: Assessment) -> tuple[tuple[str, str], ...]:
     return tuple(lines)
 
 
+def _as_text(ws: Worksheet) -> None:
+    """Every text cell stored as a string, never a formula (openpyxl makes one of text that
+    begins with ``=``), and text a spreadsheet would read as a formula marked with the
+    quote prefix so that editing it keeps it text (:mod:`riskreport.report.cells`)."""
+    for row in ws.iter_rows():
+        for cell in row:
+            if isinstance(cell.value, str):
+                cell.data_type = "s"
+                if cells.formula_like(cell.value):
+                    cell.quotePrefix = True
+
+
 def _write(ws: Worksheet, t: Table) -> None:
     ws.append(list(t.columns))
     for cell in ws[1]:
@@ -405,6 +418,7 @@ def _write(ws: Worksheet, t: Table) -> None:
         for (cell,) in ws.iter_rows(min_row=2, min_col=j, max_col=j):
             if isinstance(cell.value, (int, float)):
                 cell.number_format = fmt
+    _as_text(ws)
     ws.freeze_panes = "A2"
 
 
@@ -440,6 +454,7 @@ def workbook(a: Assessment) -> bytes:
     ws.column_dimensions["B"].width = 110
     for (cell,) in ws.iter_rows(min_row=2, min_col=2, max_col=2):
         cell.alignment = Alignment(wrap_text=True, vertical="top")
+    _as_text(ws)
     ws.freeze_panes = "A2"
     day = created_date(a)
     stamp = dt.datetime(day.year, day.month, day.day)

@@ -19,7 +19,6 @@ property).
 from __future__ import annotations
 
 import itertools
-import json
 import logging
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -30,6 +29,7 @@ import numpy as np
 from scipy import stats
 
 from riskreport.errors import InputError
+from riskreport.reading import jsonfile
 
 log = logging.getLogger("riskreport")
 
@@ -202,9 +202,10 @@ def find_previous(directory: Path, as_of: str) -> Path | None:
 
 
 def load(path: Path) -> dict[str, Any]:
-    """Read a previous assessment JSON; a broken file is an input error, not a crash."""
+    """Read a previous assessment JSON; a broken file is an input error, not a crash (one
+    beyond the JSON reader's size or nesting limit included: :mod:`riskreport.reading.jsonfile`)."""
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
+        data = jsonfile.load(path)
         data["as_of"], data["horizons"]
     except (OSError, ValueError, KeyError, TypeError) as exc:
         raise InputError(

@@ -6,6 +6,7 @@ the brief's "since the last brief"; here the two rounds need not be consecutive.
 
 from __future__ import annotations
 
+import logging
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -14,6 +15,8 @@ from riskreport.errors import InputError
 from riskreport.reading import periods
 from riskreport.report import formatting as fmt
 from riskreport.rounds import change
+
+log = logging.getLogger("riskreport")
 
 ROW_KEYS = ("period", "p_inside", "centre", "band")
 
@@ -53,9 +56,17 @@ def method_of(data: dict[str, Any]) -> str:
 
 
 def _read(path: Path) -> dict[str, Any]:
-    """An assessment JSON with the horizon fields the split needs; else an input error."""
+    """An assessment JSON with the horizon fields the split needs; else an input error.
+    A file of a round whose files do not match its manifest (a run killed mid-switch, an
+    edited file) is compared as it is, with a warning."""
+    from riskreport import folder
+
     if not path.is_file():
         raise InputError("file not found; expected an assessment JSON", file=path)
+    try:
+        folder.check_listed(path.resolve())
+    except InputError as exc:
+        log.warning("%s; compared as it is", exc.one_line())
     data = change.load(path)
     rows = data["horizons"]
     if not isinstance(rows, list) or not rows:

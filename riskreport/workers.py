@@ -1,0 +1,126 @@
+"""``batch --jobs N``: tasks run in worker processes that never outlive the run.
+
+Each task (one config's briefs) runs in its own forked worker, at most ``jobs`` at a time,
+so a worker's memory (weasyprint's above all) goes with it. The guarantees:
+
+- A worker asks Linux to stop it when its parent dies (``prctl(PR_SET_PDEATHSIG)``, as the
+  single build's child does: :func:`riskreport.parallel.die_with_parent`), so not even a
+  SIGKILL of the parent leaves one running.
+- A stop of the parent (SIGTERM or SIGINT, turned into exceptions by
+  :func:`riskreport.stopping.handled`) sends SIGTERM to every running worker and waits for
+  each. A worker stops between two steps, never inside a round's switch
+  (:func:`riskreport.stopping.critical`), so every round in the folder is whole.
+- Workers talk to the parent through pipes only: no semaphore, so no resource tracker and
+  no "leaked semaphore" warning, however the run ends.
+
+Where fork is unavailable the tasks run one after another in this process.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import multiprocessing
+import os
+import pickle
+import sys
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from multiprocessing.connection import Connection, wait
+from typing import Any
+
+from riskreport import parallel, stopping
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """What one task gave: its value, or (``ok`` false) why there is none."""
+
+    ok: bool
+    value: Any
+    error: str = ""
+
+
+def _worker(task: Callable[[], Any], pipe: Connection, parent: int) -> None:
+    """Run ``task`` in the worker and send its outcome; a stop ends it quietly (a second
+    stop too: Ctrl-C reaches the worker, then the parent's SIGTERM)."""
+    parallel.die_with_parent(parent)
+    try:
+        try:
+            outcome = Outcome(True, task())
+        except KeyboardInterrupt as exc:  # SIGTERM (stopping.Stopped) or SIGINT
+            outcome = Outcome(False, None, str(exc) or "interrupted")
+        except BaseException as exc:
+            outcome = Outcome(False, None, f"{type(exc).__name__}: {exc}")
+        stopping.ignore_stops()  # the task is over: a late stop changes nothing
+        with contextlib.suppress(OSError):  # the parent may have stopped reading
+            pipe.send_bytes(pickle.dumps(outcome, protocol=pickle.HIGHEST_PROTOCOL))
+        pipe.close()
+    except KeyboardInterrupt:  # a second stop while the first was handled: just end
+        pass
+
+
+def _collect(process: multiprocessing.process.BaseProcess, pipe: Connection) -> Outcome:
+    try:
+        outcome = pickle.loads(pipe.recv_bytes())
+    except (EOFError, OSError, pickle.UnpicklingError):
+        process.join()
+        return Outcome(False, None, f"the worker ended without a result (exit {process.exitcode})")
+    finally:
+        pipe.close()
+    process.join()
+    assert isinstance(outcome, Outcome)
+    return outcome
+
+
+def run_each(tasks: Sequence[Callable[[], Any]], jobs: int) -> list[Outcome]:
+    """Run every task, at most ``jobs`` at once, each in its own worker process.
+
+    Returns the outcomes in the order of ``tasks``. A task that raises gives an outcome
+    with ``ok`` false; the others go on. ``KeyboardInterrupt`` (and so
+    :class:`riskreport.stopping.Stopped`) in this process stops and waits for every
+    running worker, then propagates.
+    """
+    if "fork" not in multiprocessing.get_all_start_methods() or jobs < 2:
+        return [_here(task) for task in tasks]
+    context = multiprocessing.get_context("fork")
+    waiting = list(enumerate(tasks))
+    running: dict[int, tuple[multiprocessing.process.BaseProcess, Connection]] = {}
+    outcomes: dict[int, Outcome] = {}
+    try:
+        while waiting or running:
+            while waiting and len(running) < jobs:
+                i, task = waiting.pop(0)
+                receiver, sender = context.Pipe(duplex=False)
+                for stream in (sys.stdout, sys.stderr):  # not repeated by the child
+                    stream.flush()
+                process: multiprocessing.process.BaseProcess = context.Process(
+                    target=_worker, args=(task, sender, os.getpid()), daemon=True
+                )
+                process.start()
+                sender.close()
+                running[i] = (process, receiver)
+            ready = wait([pipe for _, pipe in running.values()])
+            for i, (process, pipe) in list(running.items()):
+                if pipe in ready:
+                    outcomes[i] = _collect(process, pipe)
+                    del running[i]
+    finally:
+        _stop_all(list(running.values()))
+    return [outcomes[i] for i in range(len(tasks))]
+
+
+def _stop_all(running: list[tuple[multiprocessing.process.BaseProcess, Connection]]) -> None:
+    """SIGTERM to every worker still running, then wait for each. Their pipes are closed
+    first, so a worker never blocks sending a result nobody reads."""
+    for process, pipe in running:
+        pipe.close()
+        process.terminate()
+    for process, _ in running:
+        process.join()
+
+
+def _here(task: Callable[[], Any]) -> Outcome:
+    try:
+        return Outcome(True, task())
+    except Exception as exc:
+        return Outcome(False, None, f"{type(exc).__name__}: {exc}")
