@@ -13,9 +13,9 @@ from scipy import stats
 
 import riskreport
 from riskreport.assessment import FamilyScore, Quantiles, ScheduledBand, SelectionRecord
+from riskreport.files.serialise import plain
 from riskreport.forecasts import combination
 from riskreport.laws.probabilities import QUANTILE_LEVELS
-from riskreport.serialise import plain
 from tests.conftest import Case, Result, constant_forecast_world
 
 
