@@ -57,9 +57,8 @@ from riskreport.errors import (
     LinkRefused,
     OverwriteRefused,
 )
-from riskreport.files import round_files
+from riskreport.files import jsonfile, round_files
 from riskreport.processes import stopping
-from riskreport.files import jsonfile
 
 log = logging.getLogger("riskreport")
 
