@@ -13,15 +13,14 @@ def backtest(
 ) -> dict[str, Any]:
     from riskreport import pipeline
     from riskreport.files import folder
-    from riskreport.reading import config as config_module
-    from riskreport.reading import periods
+    from riskreport.reading import config_reader, periods
     from riskreport.report import outputs, tables
 
     out_dir = out.resolve() if out is not None else None
     run = run_record("backtest", as_of)
     record = run.fields
     try:
-        cfg = config_module.load_config(config, as_of)
+        cfg = config_reader.load_config(config, as_of)
         out_dir = out_dir or cfg.output.directory.resolve()
         record["as_of"] = periods.label(cfg.brief.as_of, cfg.brief.frequency)
         record["config_sha256"] = sha256(cfg.path)

@@ -37,13 +37,12 @@ def periods_between(text: str) -> list[str]:
 def months_mismatch(config: Path, months: list[str] | None) -> str | None:
     """Why ``--months`` cannot apply to this config (another frequency), or None. A config
     that cannot be read is left to the rounds, which report it."""
-    from riskreport.reading import config as config_module
-    from riskreport.reading import periods
+    from riskreport.reading import config_reader, periods
 
     if not months:
         return None
     try:
-        frequency = config_module.load(config).brief.frequency
+        frequency = config_reader.load(config).brief.frequency
     except InputError:
         return None
     first = periods.parse(months[0])

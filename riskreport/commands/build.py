@@ -46,8 +46,7 @@ def build(
 ) -> dict[str, Any]:
     from riskreport import pipeline
     from riskreport.files import folder
-    from riskreport.reading import config as config_module
-    from riskreport.reading import periods
+    from riskreport.reading import config_reader, periods
     from riskreport.replay import cache as replay_cache
     from riskreport.report import outputs
     from riskreport.rounds import change
@@ -58,7 +57,7 @@ def build(
     steps = progress.Steps.start(3)
     try:
         steps.step("assessing (replay, fits, simulation)")
-        cfg = config_module.load_config(config, as_of)
+        cfg = config_reader.load_config(config, as_of)
         if out_dir is None:
             out_dir = cfg.output.directory.resolve()
         record["as_of"] = periods.label(cfg.brief.as_of, cfg.brief.frequency)

@@ -8,10 +8,9 @@ from typing import Any
 
 def check(config: Path, as_of: str | None) -> dict[str, Any]:
     # Validation only: nothing is fitted, so there are no probabilities ("headline": null).
-    from riskreport.reading import config as config_module
-    from riskreport.reading import screening
+    from riskreport.reading import config_reader, screening
 
-    cfg = config_module.load_config(config, as_of)
+    cfg = config_reader.load_config(config, as_of)
     found = screening.screen(cfg)
     n = [k for k in found.n_errors if k > 0] or [0]
     lines = [
