@@ -23,6 +23,7 @@ from riskreport.report.charts import (
     _svg,
     _units,
     _year_ticks,
+    short_label,
     spread_labels,
 )
 
@@ -50,7 +51,7 @@ def model_paths(a: Assessment, width_mm: float = 170, height_mm: float = 62) -> 
                 color=colour,
                 linestyle=MODEL_STYLES[k % len(MODEL_STYLES)],
             )
-            ends.append((name, rows[-1].h, rows[-1].value, colour))
+            ends.append((short_label(name), rows[-1].h, rows[-1].value, colour))
         combined = OUTCOME_STYLE["inside"]
         ax.plot(
             [r.h for r in a.horizons],
