@@ -13,7 +13,7 @@ $(BIN)/activate:
 
 $(VENV)/.installed: pyproject.toml | $(BIN)/activate
 	$(BIN)/python -m pip install --quiet -e '.[dev]'
-	$(BIN)/python -m riskreport._system
+	$(BIN)/python -m riskreport.report.system_check
 	@touch $@
 	@echo "riskreport is installed as $(BIN)/riskreport (or: source $(BIN)/activate, then riskreport); first brief on your own data: docs/quickstart.md"
 

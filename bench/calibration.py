@@ -47,7 +47,7 @@ import numpy as np
 from scipy import stats
 
 from riskreport import pipeline
-from riskreport.reading import config
+from riskreport.reading import config_reader
 
 BEFORE = {
     "distribution": "auto",
@@ -246,7 +246,7 @@ def true_law_floor(
 
 
 def _assess(path: Path, **options: object) -> tuple[pipeline.Assessment, float]:
-    cfg = config.load(path)
+    cfg = config_reader.load(path)
     if options:
         cfg = cfg.replaced("uncertainty", **options)
     start = time.perf_counter()

@@ -70,10 +70,9 @@ def _replay_inputs(copies: int) -> tuple[object, np.ndarray, np.ndarray]:
     """The demo's panel and combined-forecast errors, the history repeated ``copies`` times."""
     from riskreport.forecasts import combination
     from riskreport.forecasts.track_record import error_matrix
-    from riskreport.reading import config as config_module
-    from riskreport.reading import inputs, panel
+    from riskreport.reading import config_reader, inputs, panel
 
-    cfg = config_module.load(CONFIG)
+    cfg = config_reader.load(CONFIG)
     fc = inputs.read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
     act = inputs.read_actuals(cfg.inputs.actuals, cfg.brief.frequency)
     base = panel.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)

@@ -12,8 +12,8 @@ if TYPE_CHECKING:
     from riskreport import combination, distributions, stats
     from riskreport.assessment import Assessment
     from riskreport.errors import InputError
-    from riskreport.outputs import render
     from riskreport.pipeline import assess
+    from riskreport.report.outputs import render
 
 __all__ = ["Assessment", "InputError", "assess", "combination", "distributions", "render", "stats"]
 __version__ = "0.1.0"
@@ -24,7 +24,7 @@ _LAZY = {
     "Assessment": ("riskreport.assessment", "Assessment"),
     "InputError": ("riskreport.errors", "InputError"),
     "assess": ("riskreport.pipeline", "assess"),
-    "render": ("riskreport.outputs", "render"),
+    "render": ("riskreport.report.outputs", "render"),
     "combination": ("riskreport.combination", None),
     "distributions": ("riskreport.distributions", None),
     "stats": ("riskreport.stats", None),

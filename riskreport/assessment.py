@@ -12,8 +12,8 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
+from riskreport.files.serialise import Layout, json_key, plain
 from riskreport.forecasts.track_record import OwnNames
-from riskreport.serialise import Layout, json_key, plain
 
 if TYPE_CHECKING:  # annotations only: the records live with the steps that make them
     from riskreport.forecasts.stats import TestResult

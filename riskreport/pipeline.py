@@ -31,9 +31,8 @@ from riskreport.laws import density as density_module
 from riskreport.laws import judgement, probabilities, sensitivity, uncertainty
 from riskreport.laws import thresholds as thresholds_module
 from riskreport.laws.distributions import FAMILIES, GIVEN_FAMILY, Distribution
-from riskreport.reading import config as config_module
+from riskreport.reading import config_reader, periods, screening
 from riskreport.reading import panel as panel_module
-from riskreport.reading import periods, screening
 from riskreport.reading.config import Config
 from riskreport.reading.inputs import read_actuals, read_error_quantiles, read_forecasts
 from riskreport.reading.panel import window_mask
@@ -415,7 +414,7 @@ def assess(
     InputError
         On any bad input or configuration.
     """
-    cfg = config_module.load_config(config_path, as_of)
+    cfg = config_reader.load_config(config_path, as_of)
     return assess_config(
         cfg, previous=Path(previous) if previous is not None else None, cache=cache
     )

@@ -20,7 +20,7 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import folder
+from riskreport.files import folder
 from tests.conftest import DEMO
 
 pytestmark = pytest.mark.skipif(

@@ -18,7 +18,7 @@ import pytest
 from pypdf import PdfReader
 
 import riskreport
-from riskreport import folder
+from riskreport.files import folder
 from tests import quarterly_world as qw
 from tests.conftest import Case, Result
 

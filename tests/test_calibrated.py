@@ -16,14 +16,14 @@ from riskreport.forecasts import combination
 from riskreport.forecasts.track_record import error_matrix
 from riskreport.laws import dynamics
 from riskreport.pipeline import assess_config
-from riskreport.reading import config, panel
+from riskreport.reading import config, config_reader, panel
 from riskreport.reading.inputs import read_actuals, read_forecasts
 from riskreport.replay import adjustments, calibration, prequential, recalibration
 from tests.conftest import constant_forecast_world
 
 
 def _setup(path: Path, **options: object) -> tuple[config.Config, adjustments.Replays, np.ndarray]:
-    cfg = config.load(path).replaced("uncertainty", **options)
+    cfg = config_reader.load(path).replaced("uncertainty", **options)
     fc = read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
     act = read_actuals(cfg.inputs.actuals, cfg.brief.frequency)
     built = panel.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
@@ -117,7 +117,7 @@ def test_ewma_pits_are_uniform_when_the_volatility_model_is_true(tmp_path: Path)
     # checked with scipy's Kolmogorov-Smirnov test. The constant law, wrong here, scores
     # clearly worse on the same errors.
     errors = _garch_errors(500, 0.9, 2)
-    cfg = config.load(constant_forecast_world(tmp_path, errors, window=120)).replaced(
+    cfg = config_reader.load(constant_forecast_world(tmp_path, errors, window=120)).replaced(
         "brief", horizons=0
     )
     fc = read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
@@ -145,8 +145,8 @@ def test_ewma_pits_are_uniform_when_the_volatility_model_is_true(tmp_path: Path)
 def test_constant_error_law_is_left_essentially_unchanged(tmp_path: Path) -> None:
     errors = np.random.default_rng(8).normal(0.0, 0.8, 400)
     path = constant_forecast_world(tmp_path, errors, horizons=1, window=120)
-    base = assess_config(config.load(path), search=tmp_path / "none")
-    cfg = config.load(path).replaced("uncertainty", distribution="auto", spread="auto")
+    base = assess_config(config_reader.load(path), search=tmp_path / "none")
+    cfg = config_reader.load(path).replaced("uncertainty", distribution="auto", spread="auto")
     # The rule: auto keeps the constant method (the normal law, constant spread,
     # the configured window) or matches its probabilities within 0.02. Keeping only the
     # constant spread with another family or window is not keeping the method, so the
@@ -173,7 +173,7 @@ def test_constant_error_law_is_left_essentially_unchanged(tmp_path: Path) -> Non
 def test_raw_and_recalibrated_probabilities_are_both_reported(tmp_path: Path) -> None:
     errors = _garch_errors(200, 0.9, 4)
     path = constant_forecast_world(tmp_path, errors, horizons=1, window=120)
-    cfg = config.load(path).replaced("uncertainty", spread="auto", recalibrate=True)
+    cfg = config_reader.load(path).replaced("uncertainty", spread="auto", recalibrate=True)
     result = assess_config(cfg, search=tmp_path / "none")
     adj = result.adjustments
     assert adj is not None
@@ -195,7 +195,7 @@ def test_unknown_spread_option_is_refused_with_the_key_named(tmp_path: Path) -> 
         path.read_text().replace("[uncertainty]\n", '[uncertainty]\nspread = "garch"\n')
     )
     with pytest.raises(InputError, match="spread"):
-        config.load(path)
+        config_reader.load(path)
 
 
 def test_future_outcome_changes_no_past_window(tmp_path: Path) -> None:
@@ -256,7 +256,7 @@ def test_window_and_joint_spread_reach_the_json_and_the_words(tmp_path: Path) ->
 
     errors = _garch_errors(200, 0.9, 4)
     path = constant_forecast_world(tmp_path, errors, horizons=2, window=60)
-    cfg = config.load(path).replaced(
+    cfg = config_reader.load(path).replaced(
         "uncertainty", distribution="normal", spread="joint", window_choice="auto"
     )
     result = assess_config(cfg, search=tmp_path / "none")
@@ -281,11 +281,11 @@ def test_joint_spread_option_and_window_choice_are_validated(tmp_path: Path) -> 
     path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1)
     text = path.read_text()
     path.write_text(text.replace("[uncertainty]\n", '[uncertainty]\nspread = "joint"\n'))
-    assert config.load(path).uncertainty.spread == "joint"
+    assert config_reader.load(path).uncertainty.spread == "joint"
     path.write_text(text.replace("[uncertainty]\n", '[uncertainty]\nwindow_choice = "best"\n'))
     with pytest.raises(InputError, match="window_choice"):
-        config.load(path)
+        config_reader.load(path)
     skew = text.replace('distribution = "normal"', 'distribution = "skew-normal"')
     path.write_text(skew.replace("[uncertainty]\n", '[uncertainty]\nspread = "joint"\n'))
     with pytest.raises(InputError, match="joint"):
-        config.load(path)
+        config_reader.load(path)

@@ -13,7 +13,7 @@ import statsmodels.api as sm
 import riskreport
 from riskreport.errors import InputError
 from riskreport.forecasts import combination
-from riskreport.reading import config
+from riskreport.reading import config_reader
 from riskreport.reading.panel import Panel
 
 
@@ -142,7 +142,7 @@ def test_flags_for_negative_weights_and_leaving_the_range(rng: np.random.Generat
 
 def test_the_shrinkage_constant_is_a_config_key(tmp_path: Path) -> None:
     path = macrodata_world(tmp_path, "shrink", horizons=1, extra="shrinkage = 2.0\n")
-    assert config.load(path).combination.shrinkage == 2.0
+    assert config_reader.load(path).combination.shrinkage == 2.0
     shrunk = riskreport.assess(path)
     assert shrunk.combination.shrinkage == 2.0
     base = riskreport.assess(macrodata_world(tmp_path, "ols-sum-to-one", horizons=1))
@@ -152,14 +152,14 @@ def test_the_shrinkage_constant_is_a_config_key(tmp_path: Path) -> None:
         ols = np.array([w.weight for w in base.combination.weights if w.h == h])
         ours = np.array([w.weight for w in shrunk.combination.weights if w.h == h])
         assert ours == pytest.approx(lam * ols + (1 - lam) / 4, abs=1e-12)
-    assert config.load(macrodata_world(tmp_path, "shrink")).combination.shrinkage == 0.25
+    assert config_reader.load(macrodata_world(tmp_path, "shrink")).combination.shrinkage == 0.25
 
 
 @pytest.mark.parametrize("value", ["-0.1", "10.5", '"a lot"'])
 def test_the_shrinkage_constant_is_checked(tmp_path: Path, value: str) -> None:
     path = macrodata_world(tmp_path, "shrink", horizons=0, extra=f"shrinkage = {value}\n")
     with pytest.raises(InputError, match=r"\[combination\] shrinkage"):
-        config.load(path)
+        config_reader.load(path)
 
 
 def test_real_history_ols_leaves_the_models_range_and_says_so(tmp_path: Path) -> None:

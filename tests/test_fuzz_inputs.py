@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 
 from riskreport import cli
 from riskreport.errors import InputError
-from riskreport.reading import config
+from riskreport.reading import config_reader
 from riskreport.reading.inputs import read_actuals, read_error_quantiles, read_forecasts
 
 # Random headers name columns no table uses: each read warns about them, as it should.
@@ -278,7 +278,7 @@ def test_toml_reader_fuzz(data: bytes) -> None:
         path = Path(folder) / "config.toml"
         path.write_bytes(data)
         try:
-            config.load(path)
+            config_reader.load(path)
         except InputError as exc:
             message = exc.one_line()
         else:

@@ -13,7 +13,7 @@ from scipy import stats
 from riskreport.forecasts.overlap import effective_sample_size
 from riskreport.laws import predictive
 from riskreport.pipeline import assess_config
-from riskreport.reading import config
+from riskreport.reading import config_reader
 
 PHI, SIGMA, MU = 0.9, 0.25, 2.0  # a persistent monthly inflation rate (AR(1))
 HORIZONS, YEARS = 12, 24
@@ -68,7 +68,7 @@ def test_today_is_near_the_truth_and_no_score_is_lost(
     world: tuple[Path, np.ndarray, np.ndarray],
 ) -> None:
     path, point, sd = world
-    a = assess_config(config.load(path), search=path.parent / "none")
+    a = assess_config(config_reader.load(path), search=path.parent / "none")
     truth = stats.norm.cdf(BAND[1], point, sd) - stats.norm.cdf(BAND[0], point, sd)
     below = stats.norm.cdf(BAND[0], point, sd)
     ours = np.array([r.p_inside for r in a.horizons])
@@ -87,7 +87,7 @@ def test_replay_is_as_calibrated_as_the_true_law(
     world: tuple[Path, np.ndarray, np.ndarray],
 ) -> None:
     path, _, sd = world
-    a = assess_config(config.load(path), search=path.parent / "none")
+    a = assess_config(config_reader.load(path), search=path.parent / "none")
     y = np.array(
         [float(line.split(",")[1]) for line in (path.parent / "a.csv").read_text().split()[1:]]
     )
@@ -169,7 +169,7 @@ def test_an_estimated_centre_that_moves_far_is_said(tmp_path: Path) -> None:
     rng = np.random.default_rng(4)
     errors = 0.6 + 0.3 * rng.standard_normal(80)  # a mean error of 0.6 against a band of 2
     path = constant_forecast_world(tmp_path, errors)
-    cfg = config.load(path)
+    cfg = config_reader.load(path)
     moved = assess_config(cfg.replaced("uncertainty", centre="estimated"), search=tmp_path / "none")
     assert any("tenth of the band's width" in w for w in moved.warnings)
     kept = assess_config(cfg.replaced("uncertainty", centre="forecast"), search=tmp_path / "none")
@@ -224,7 +224,7 @@ def test_a_config_without_uncertainty_gets_the_default_method(
         f'[brief]\ntitle = "t"\ninstitution = "i"\nas_of = "{as_of}"\nfrequency = "{frequency}"\n'
         '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n[target]\nlower = 1.0\nupper = 3.0\n'
     )
-    u = config.load(path).uncertainty
+    u = config_reader.load(path).uncertainty
     assert (u.distribution, u.centre, u.predictive, u.spread, u.recalibrate) == (
         "normal",
         "forecast",
@@ -236,7 +236,7 @@ def test_a_config_without_uncertainty_gets_the_default_method(
     assert u.configured == ()
     pinned = path.read_text() + '[uncertainty]\npredictive = "plug-in"\ncentre = "estimated"\n'
     path.write_text(pinned)
-    u = config.load(path).uncertainty
+    u = config_reader.load(path).uncertainty
     assert (u.predictive, u.centre, u.configured) == (
         "plug-in",
         "estimated",

@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import folder
+from riskreport.files import folder
 from tests.conftest import Case, Result
 
 DEEP = b"[" * 100_000 + b"]" * 100_000
@@ -65,7 +65,7 @@ def test_previous_refuses_a_deeply_nested_file(
 def test_compare_refuses_a_file_beyond_the_size_limit(
     two_rounds: tuple[Path, Path], run: Callable[..., Result], monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    from riskreport.reading import jsonfile
+    from riskreport.files import jsonfile
 
     _, out = two_rounds
     manifest = (out / "manifest-2024-11.json").stat().st_size
@@ -121,7 +121,7 @@ def test_deep_manifests_journals_and_caches_are_not_trusted(tmp_path: Path) -> N
 
 
 def test_the_nesting_count_ignores_brackets_inside_strings() -> None:
-    from riskreport.reading import jsonfile
+    from riskreport.files import jsonfile
 
     text = json.dumps({"a": ["[" * 200, {"b": "{" * 200}]}).encode()
     assert jsonfile.depth(text) == 3

@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import folder
+from riskreport.files import folder
 from riskreport.replay import cache as replay_cache
 from tests.conftest import REPO, Case, Result
 

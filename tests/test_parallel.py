@@ -1,4 +1,4 @@
-"""The second core (riskreport.parallel): a forked child gives exactly the serial results.
+"""The second core (riskreport.processes.parallel): a forked child gives exactly the serial results.
 
 The oracle throughout is the serial path (``RISKREPORT_WORKERS=1``): the same functions
 run one after the other in one process.
@@ -18,8 +18,8 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import parallel
 from riskreport.errors import InputError, RiskReportWarning
+from riskreport.processes import parallel
 from tests.conftest import Case, Result
 
 FORKS = "fork" in multiprocessing.get_all_start_methods()
@@ -174,7 +174,7 @@ def test_a_killed_run_leaves_no_child(tmp_path: Path) -> None:
     pid_file = tmp_path / "child.pid"
     script = (
         "import os, time\n"
-        "from riskreport import parallel\n"
+        "from riskreport.processes import parallel\n"
         "def there():\n"
         f"    open({str(pid_file)!r}, 'w').write(str(os.getpid()))\n"
         "    time.sleep(60)\n"

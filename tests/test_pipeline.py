@@ -13,9 +13,9 @@ from scipy import stats
 
 import riskreport
 from riskreport.assessment import FamilyScore, Quantiles, ScheduledBand, SelectionRecord
+from riskreport.files.serialise import plain
 from riskreport.forecasts import combination
 from riskreport.laws.probabilities import QUANTILE_LEVELS
-from riskreport.serialise import plain
 from tests.conftest import Case, Result, constant_forecast_world
 
 
@@ -160,12 +160,11 @@ def test_weights_use_no_future_outcome(tmp_path: Path) -> None:
     """Perturb outcomes after a past origin: the weights at and before it must not move."""
     import shutil
 
-    from riskreport.reading import config as config_module
-    from riskreport.reading import inputs, panel
+    from riskreport.reading import config_reader, inputs, panel
 
     demo = Path(__file__).resolve().parents[1] / "example_inputs"
     shutil.copytree(demo, tmp_path / "d", ignore=shutil.ignore_patterns("*.py", "__pycache__"))
-    cfg = config_module.load(tmp_path / "d" / "config.toml")
+    cfg = config_reader.load(tmp_path / "d" / "config.toml")
     fc = inputs.read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
     act = inputs.read_actuals(cfg.inputs.actuals, cfg.brief.frequency)
     base = panel.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)

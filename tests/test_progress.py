@@ -8,8 +8,9 @@ import sys
 
 import pytest
 
-from riskreport import cli, progress
+from riskreport import cli
 from riskreport.cli import demo_config
+from riskreport.processes import progress
 
 
 class Terminal(io.StringIO):

@@ -21,7 +21,7 @@ from typing import Any
 import pytest
 
 from riskreport import cli
-from riskreport.reading import config as config_module
+from riskreport.reading import config_reader
 
 ROOT = Path(__file__).resolve().parents[1]
 README = ROOT / "README.md"
@@ -149,7 +149,7 @@ def test_toml_examples_parse_and_whole_configs_load(block: Block, tmp_path: Path
         for name in ("forecasts.csv", "actuals.csv"):
             shutil.copy(DEMO / name, tmp_path / name)
         (tmp_path / "config.toml").write_text(block.text, "utf-8")
-        cfg = config_module.load_config(tmp_path / "config.toml")
+        cfg = config_reader.load_config(tmp_path / "config.toml")
         assert cfg.brief.title == data["brief"]["title"]
 
 
@@ -187,13 +187,13 @@ def _rows(section: str) -> dict[str, str]:
 
 def test_every_config_key_is_documented() -> None:
     sections = _sections()
-    for table, keys in config_module._KNOWN_KEYS.items():
+    for table, keys in config_reader.KNOWN_KEYS.items():
         where = "target" if table == "schedule" else table  # schedule entries: under [target]
         assert where in sections, f"docs/configuration.md has no section for [{table}]"
         for key in keys:
             assert f"`{key}`" in sections[where], f"docs/configuration.md: [{table}] {key}"
     for table, text in sections.items():
-        unknown = set(_rows(text)) - config_module._KNOWN_KEYS[table]
+        unknown = set(_rows(text)) - config_reader.KNOWN_KEYS[table]
         assert not unknown, f"docs/configuration.md documents [{table}] {unknown}: not read"
 
 
@@ -227,7 +227,7 @@ def test_the_documented_defaults_are_the_readers(tmp_path: Path) -> None:
     for name in ("forecasts.csv", "actuals.csv"):
         shutil.copy(DEMO / name, tmp_path / name)
     (tmp_path / "config.toml").write_text(MINIMAL, "utf-8")
-    cfg = config_module.load_config(tmp_path / "config.toml")
+    cfg = config_reader.load_config(tmp_path / "config.toml")
     objects = {
         "brief": cfg.brief,
         "inputs": cfg.inputs,

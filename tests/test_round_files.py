@@ -1,4 +1,4 @@
-"""Nothing outside the round is ever removed (riskreport.round_files, riskreport.folder).
+"""Nothing outside the round is ever removed (riskreport.files.round_files, riskreport.files.folder).
 
 A file goes only when its name is one of the round's own and its content still has the
 digest recorded when the tool wrote it. Manifests and journals are hints: an edited
@@ -21,7 +21,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from riskreport import folder
+from riskreport.files import folder
 from tests.conftest import Case, Result
 
 AS_OF = "2024-12"
@@ -32,7 +32,7 @@ def _sha(content: bytes) -> str:
 
 
 def _is_round_file(name: str, as_of: str) -> bool:
-    from riskreport.round_files import is_round_file  # here: the tests run on older code too
+    from riskreport.files.round_files import is_round_file  # here: the tests run on older code too
 
     return is_round_file(name, as_of)
 

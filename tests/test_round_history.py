@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from riskreport import folder
+from riskreport.files import folder
 from riskreport.rounds import history
 from tests.conftest import Case, Result
 

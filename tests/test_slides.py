@@ -57,11 +57,11 @@ def test_png_bytes_are_reproducible(case: Case) -> None:
         assert "Software" not in image.info
 
 
-def test_the_slide_size_is_the_one_the_readme_states() -> None:
-    # The README promised 2667 x 1500 pixels while the slides were 2666 wide.
+def test_the_slide_size_is_the_one_the_docs_state() -> None:
+    # The documentation promised 2667 x 1500 pixels while the slides were 2666 wide.
     from tests.conftest import REPO
 
-    readme = (REPO / "README.md").read_text("utf-8")
-    stated = re.search(r"slide size \([^)]*?(\d+) x (\d+)\s+pixels", readme)
+    docs = (REPO / "docs" / "outputs.md").read_text("utf-8")
+    stated = re.search(r"slide size \([^)]*?(\d+) x (\d+)\s+pixels", docs)
     assert stated is not None
     assert (int(stated[1]), int(stated[2])) == slides.SLIDE_PIXELS == (2667, 1500)

@@ -6,15 +6,15 @@ import ctypes.util
 
 import pytest
 
-from riskreport import _system
+from riskreport.report import system_check
 
 
 def test_missing_harfbuzz_subset_is_a_note(
     monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    monkeypatch.setattr(_system, "check", lambda: [])
+    monkeypatch.setattr(system_check, "check", lambda: [])
     monkeypatch.setattr(ctypes.util, "find_library", lambda name: None)
-    assert _system.main() == 0
+    assert system_check.main() == 0
     assert "libharfbuzz-subset0" in capsys.readouterr().err
     monkeypatch.setattr(ctypes.util, "find_library", lambda name: f"lib{name}.so.0")
-    assert _system.notes() == []
+    assert system_check.notes() == []

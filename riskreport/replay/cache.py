@@ -46,7 +46,7 @@ from typing import Any
 import numpy as np
 
 from riskreport._typing import Family
-from riskreport.reading import jsonfile
+from riskreport.files import jsonfile
 from riskreport.replay import calibration
 from riskreport.replay.calibration import HorizonData, HorizonReplay
 
@@ -111,7 +111,7 @@ def _read(path: Path) -> bytes | None:
 
 def _write(out_dir: Path, name: str, content: bytes) -> None:
     """Replace ``<out_dir>/.riskreport.cache/<name>`` atomically; a failure is logged only."""
-    from riskreport import folder
+    from riskreport.files import folder
 
     path = folder_of(out_dir)
     if path is None:
@@ -413,7 +413,7 @@ def _builds(out_dir: Path) -> list[dict[str, Any]]:
 def unchanged(out_dir: Path, key: str, as_of: str) -> dict[str, Any] | None:
     """The record of an earlier build with this ``key`` whose round in ``out_dir`` still holds
     exactly the files it wrote (else None). Call under the folder's lock."""
-    from riskreport import folder
+    from riskreport.files import folder
 
     for record in _builds(out_dir):
         if record.get("key") != key or record.get("as_of") != as_of:
@@ -427,7 +427,7 @@ def unchanged(out_dir: Path, key: str, as_of: str) -> dict[str, Any] | None:
 def remember(out_dir: Path, key: str, as_of: str, summary: Mapping[str, Any]) -> None:
     """Record a successful build (its manifest and summary) for later identical re-runs.
     Call under the folder's lock, after the round is written."""
-    from riskreport import folder
+    from riskreport.files import folder
 
     entries = folder.verified(out_dir, as_of)
     if entries is None:

@@ -19,13 +19,13 @@ import numpy as np
 from scipy import stats as st
 
 from riskreport._typing import Family, Frequency
+from riskreport.files.serialise import Layout, json_key
 from riskreport.forecasts import pit_tests, stats
 from riskreport.laws.distributions import FAMILIES, fit_batch
 from riskreport.laws.predictive import student
 from riskreport.reading.config import Band
 from riskreport.reading.panel import Panel, steps_ahead
 from riskreport.replay import scores
-from riskreport.serialise import Layout, json_key
 
 MIN_TRAINING = 20  # fewest past errors a replayed fit may rest on (common practice, no source)
 NOMINAL = (0.5, 0.9)

@@ -24,10 +24,10 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from riskreport import parallel
 from riskreport._typing import Family
 from riskreport.laws import dynamics, joint
 from riskreport.laws.dynamics import SpreadOption
+from riskreport.processes import parallel
 from riskreport.reading.config import Band
 from riskreport.reading.panel import Panel
 from riskreport.replay import calibration
@@ -229,7 +229,7 @@ def replay(
         return replay_some(second, pending), pending
 
     # The horizons in two halves, one in a forked child when a second core is free
-    # (riskreport.parallel); every horizon's replay is the same either way.
+    # (riskreport.processes.parallel); every horizon's replay is the same either way.
     first, second = parallel.split(list(range(horizons + 1)))
     mine, (theirs, pending) = parallel.both(lambda: replay_some(first, None), there)
     if cache is not None:

@@ -85,12 +85,12 @@ def _annex_charts(a: Assessment) -> list[Drawn]:
         made.append((charts_annex.past_errors(a), annex.errors_alt(a), annex.ERRORS_CAPTION))
     if a.calibration.pit:
         made.append(
-            (charts_module.pit_histograms(a), calibration.pit_alt(a), calibration.PIT_CAPTION)
+            (charts_annex.pit_histograms(a), calibration.pit_alt(a), calibration.PIT_CAPTION)
         )
     if a.calibration.brier.reliability:
         made.append(
             (
-                charts_module.reliability(a),
+                charts_annex.reliability(a),
                 calibration.reliability_alt(a),
                 calibration.RELIABILITY_CAPTION,
             )

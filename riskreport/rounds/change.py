@@ -29,7 +29,7 @@ import numpy as np
 from scipy import stats
 
 from riskreport.errors import InputError
-from riskreport.reading import jsonfile
+from riskreport.files import jsonfile
 
 log = logging.getLogger("riskreport")
 
@@ -171,7 +171,7 @@ def decompose(before: Side, now: Side) -> tuple[float, float, float]:
 def find_previous(directory: Path, as_of: str) -> Path | None:
     """The latest ``assessment-<as_of>.json`` in ``directory`` earlier than ``as_of`` that
     belongs to a complete round (listed in a manifest that matches its files)."""
-    from riskreport import folder
+    from riskreport.files import folder
 
     for earlier in reversed(folder.rounds(directory)):
         # Labels of one frequency sort in time order; a round of the other frequency
@@ -203,7 +203,7 @@ def find_previous(directory: Path, as_of: str) -> Path | None:
 
 def load(path: Path) -> dict[str, Any]:
     """Read a previous assessment JSON; a broken file is an input error, not a crash (one
-    beyond the JSON reader's size or nesting limit included: :mod:`riskreport.reading.jsonfile`)."""
+    beyond the JSON reader's size or nesting limit included: :mod:`riskreport.files.jsonfile`)."""
     try:
         data = jsonfile.load(path)
         data["as_of"], data["horizons"]

@@ -59,7 +59,7 @@ def _read(path: Path) -> dict[str, Any]:
     """An assessment JSON with the horizon fields the split needs; else an input error.
     A file of a round whose files do not match its manifest (a run killed mid-switch, an
     edited file) is compared as it is, with a warning."""
-    from riskreport import folder
+    from riskreport.files import folder
 
     if not path.is_file():
         raise InputError("file not found; expected an assessment JSON", file=path)

@@ -4,12 +4,12 @@ Each task (one config's briefs) runs in its own forked worker, at most ``jobs`` 
 so a worker's memory (weasyprint's above all) goes with it. The guarantees:
 
 - A worker asks Linux to stop it when its parent dies (``prctl(PR_SET_PDEATHSIG)``, as the
-  single build's child does: :func:`riskreport.parallel.die_with_parent`), so not even a
+  single build's child does: :func:`riskreport.processes.parallel.die_with_parent`), so not even a
   SIGKILL of the parent leaves one running.
 - A stop of the parent (SIGTERM or SIGINT, turned into exceptions by
-  :func:`riskreport.stopping.handled`) sends SIGTERM to every running worker and waits for
+  :func:`riskreport.processes.stopping.handled`) sends SIGTERM to every running worker and waits for
   each. A worker stops between two steps, never inside a round's switch
-  (:func:`riskreport.stopping.critical`), so every round in the folder is whole.
+  (:func:`riskreport.processes.stopping.critical`), so every round in the folder is whole.
 - Workers talk to the parent through pipes only: no semaphore, so no resource tracker and
   no "leaked semaphore" warning, however the run ends.
 
@@ -28,7 +28,7 @@ from dataclasses import dataclass
 from multiprocessing.connection import Connection, wait
 from typing import Any
 
-from riskreport import parallel, stopping
+from riskreport.processes import parallel, stopping
 
 
 @dataclass(frozen=True)
@@ -77,7 +77,7 @@ def run_each(tasks: Sequence[Callable[[], Any]], jobs: int) -> list[Outcome]:
 
     Returns the outcomes in the order of ``tasks``. A task that raises gives an outcome
     with ``ok`` false; the others go on. ``KeyboardInterrupt`` (and so
-    :class:`riskreport.stopping.Stopped`) in this process stops and waits for every
+    :class:`riskreport.processes.stopping.Stopped`) in this process stops and waits for every
     running worker, then propagates.
     """
     if "fork" not in multiprocessing.get_all_start_methods() or jobs < 2:

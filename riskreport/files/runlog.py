@@ -22,10 +22,10 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from riskreport.errors import EnvironmentFailure, InputError
-from riskreport.stopping import Stopped
+from riskreport.processes.stopping import Stopped
 
 if TYPE_CHECKING:
-    from riskreport.folder import Round
+    from riskreport.files.folder import Round
 
 log = logging.getLogger("riskreport")
 
@@ -65,7 +65,7 @@ class RunRecord:
 
     def failed(self, out_dir: Path, exc: BaseException) -> None:
         """Append the failure line (exit status and message), unless already written."""
-        from riskreport import folder
+        from riskreport.files import folder
 
         if self.written:
             return
@@ -86,7 +86,7 @@ class RunRecord:
 
     def append(self, out_dir: Path, more: dict[str, Any]) -> None:
         """Append the line of a successful run, with ``more`` fields (e.g. its outputs)."""
-        from riskreport import folder
+        from riskreport.files import folder
 
         folder.append_record(out_dir, {**self.fields, **more, "exit_status": EXIT_OK})
         self.written = True
@@ -95,7 +95,7 @@ class RunRecord:
     def locked(self, out_dir: Path) -> Iterator[None]:
         """Hold the folder's lock for the block; a failure inside it is recorded before the
         lock is released."""
-        from riskreport import folder
+        from riskreport.files import folder
 
         with folder.locked(out_dir):
             try:

@@ -23,7 +23,7 @@ def configure(*, enabled: bool) -> None:
 
 def _tqdm() -> Any:
     """tqdm's bar class, without its monitor thread (a thread must not be running when
-    :mod:`riskreport.parallel` forks; the monitor only tunes how often a bar redraws)."""
+    :mod:`riskreport.processes.parallel` forks; the monitor only tunes how often a bar redraws)."""
     from tqdm import tqdm
 
     tqdm.monitor_interval = 0

@@ -1,6 +1,6 @@
 """Writing a brief's files: all or nothing, never replacing a different file silently.
 
-Every file is rendered in memory; :mod:`riskreport.folder` then writes the round under the
+Every file is rendered in memory; :mod:`riskreport.files.folder` then writes the round under the
 folder's lock, through a staging folder and a manifest written last, so a crash or a
 concurrent run never leaves a mix of two briefs. An existing output that differs is
 replaced only with ``force``; an identical one is left as it is.
@@ -16,11 +16,12 @@ import logging
 from collections.abc import Iterable
 from pathlib import Path
 
-from riskreport import folder, parallel
 from riskreport._typing import OUTPUT_FORMATS, OutputFormat
 from riskreport.assessment import ACCURACY_TEST_KEYS, Assessment, HorizonResult
+from riskreport.files import folder
+from riskreport.files.serialise import plain
+from riskreport.processes import parallel
 from riskreport.report import cells
-from riskreport.serialise import plain
 
 log = logging.getLogger("riskreport")
 
@@ -129,7 +130,7 @@ def files_for(assessment: Assessment, formats: Iterable[OutputFormat]) -> dict[s
     from riskreport.report import render as render_module
 
     # The two documents are independent: the brief's charts and PDF here, the annex's in a
-    # forked child when a second core is free (riskreport.parallel), each with its share of
+    # forked child when a second core is free (riskreport.processes.parallel), each with its share of
     # the other files; then the HTML page, which holds both, from the charts of both. The
     # files are the same either way.
     a, as_of, rid = assessment, assessment.as_of, run_id(text)
@@ -167,7 +168,7 @@ def _pdf(page: str, created: dt.date, name: str) -> bytes:
     data, notes = render_module.pdf(page, created, name=name)
     for note in notes:
         # The missing HarfBuzz subset library is said once, by `make install`
-        # (riskreport._system); repeated on every brief it is noise.
+        # (riskreport.report.system_check); repeated on every brief it is noise.
         level = logging.DEBUG if "HarfBuzz" in note else logging.WARNING
         log.log(level, "weasyprint: %s", note)
     return data
@@ -246,7 +247,7 @@ def _other_files(chosen: set[OutputFormat], assessment: Assessment, text: str) -
 def write_all(
     out_dir: Path, files: dict[str, bytes], *, as_of: str, force: bool = False
 ) -> list[Path]:
-    """Add files to round ``as_of`` in ``out_dir``, all or nothing (see :mod:`riskreport.folder`).
+    """Add files to round ``as_of`` in ``out_dir``, all or nothing (see :mod:`riskreport.files.folder`).
 
     Raises
     ------

@@ -2,10 +2,10 @@
 
 The command line turns SIGTERM into :class:`Stopped`, a ``KeyboardInterrupt`` as Ctrl-C's
 SIGINT is, so a stop unwinds like Ctrl-C: the run's failure line is recorded, the workers of
-``batch`` are stopped and waited for (:mod:`riskreport.workers`), nothing prints a traceback.
+``batch`` are stopped and waited for (:mod:`riskreport.processes.workers`), nothing prints a traceback.
 
 The few steps that must not be cut in half (a round's staging and switch, and recovery's
-completion of an interrupted one: :mod:`riskreport.folder`) run inside :func:`critical`. A
+completion of an interrupted one: :mod:`riskreport.files.folder`) run inside :func:`critical`. A
 stop that arrives meanwhile waits until the block ends, then takes effect. Two mechanisms
 serve two kinds of process: the handler installed by :func:`handled` notes a stop that
 comes inside the block instead of raising it; and the block holds SIGTERM and SIGINT

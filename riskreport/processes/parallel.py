@@ -35,7 +35,7 @@ from dataclasses import dataclass
 from multiprocessing.connection import Connection
 from typing import Any, TypeVar
 
-from riskreport import stopping
+from riskreport.processes import stopping
 
 T = TypeVar("T")
 
@@ -109,7 +109,7 @@ def die_with_parent(parent: int) -> None:
 def _child(task: Callable[[], Any], pipe: Connection, parent: int) -> None:
     """Run ``task`` in the forked child and send its outcome (any failure only as a flag)."""
     # The child writes nothing, so SIGTERM may end it at once, as before the command
-    # line's handler (riskreport.stopping) was inherited through the fork.
+    # line's handler (riskreport.processes.stopping) was inherited through the fork.
     stopping.restore_default_term()
     die_with_parent(parent)
     try:

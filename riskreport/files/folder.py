@@ -19,14 +19,14 @@ seconds) and then fails with :class:`~riskreport.errors.FolderBusy`. The switch:
 A run killed before step 2 leaves the old round untouched; one killed after it leaves a
 round without a manifest (trusted by no reader). The next run, under the lock, removes
 staging folders without a journal and completes those with one (roll forward). A stop
-(SIGTERM, SIGINT) waits until steps 1 to 4 are over (:func:`riskreport.stopping.critical`),
+(SIGTERM, SIGINT) waits until steps 1 to 4 are over (:func:`riskreport.processes.stopping.critical`),
 so only SIGKILL or a crash leaves such a round for the next run to complete.
 
-What is removed or replaced follows one rule, :mod:`riskreport.round_files`: only a file
+What is removed or replaced follows one rule, :mod:`riskreport.files.round_files`: only a file
 named as one of the round's own, and only while its content still has the digest the tool
 recorded; anything else of the round's is moved aside under a new name, and no other file
 (``runs.jsonl``, the lock, the cache, a user's file) is ever touched, whatever a manifest or
-a journal lists. Manifests and journals are read through :mod:`riskreport.reading.jsonfile`.
+a journal lists. Manifests and journals are read through :mod:`riskreport.files.jsonfile`.
 
 Nothing is written through a symbolic link: a link among the folder's children that a
 write would use is refused (:class:`~riskreport.errors.LinkRefused`), and files are opened
@@ -50,7 +50,6 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from riskreport import round_files, stopping
 from riskreport.errors import (
     EnvironmentFailure,
     FolderBusy,
@@ -58,7 +57,8 @@ from riskreport.errors import (
     LinkRefused,
     OverwriteRefused,
 )
-from riskreport.reading import jsonfile
+from riskreport.files import jsonfile, round_files
+from riskreport.processes import stopping
 
 log = logging.getLogger("riskreport")
 
@@ -80,7 +80,7 @@ _held: dict[Path, tuple[int, int]] = {}
 class Round:
     """The files of one round as written: paths in the output folder and their SHA-256,
     and the files of the round that were moved aside rather than replaced (old name, new
-    name; see :mod:`riskreport.round_files`)."""
+    name; see :mod:`riskreport.files.round_files`)."""
 
     paths: tuple[Path, ...]
     sha256: tuple[str, ...]
@@ -274,7 +274,7 @@ def verified(out_dir: Path, as_of: str) -> dict[str, str] | None:
     """The files of round ``as_of`` (name to SHA-256) if its manifest is complete, else None.
 
     Complete means: the manifest is present and readable, it lists only files of the
-    round (:func:`riskreport.round_files.is_round_file`), and every file it lists is a
+    round (:func:`riskreport.files.round_files.is_round_file`), and every file it lists is a
     regular file (not a link) whose SHA-256 matches.
     """
     entries = _listed(_read(out_dir / manifest_name(as_of)))
@@ -323,7 +323,7 @@ def check_listed(path: Path) -> None:
 def recover(out_dir: Path) -> None:
     """Complete or remove interrupted rounds' staging folders (call under the lock).
 
-    A journal is followed only as far as :mod:`riskreport.round_files` allows: it names
+    A journal is followed only as far as :mod:`riskreport.files.round_files` allows: it names
     files of one round, and a file it would replace or remove goes only if its content has
     the digest the journal recorded (else it is moved aside).
     """
@@ -343,7 +343,7 @@ def recover(out_dir: Path) -> None:
 def _parse_journal(content: bytes | None) -> dict[str, Any] | None:
     """The plan in a staging folder's journal; None when absent or not one this module
     wrote: unreadable, or naming as a file to move or remove anything but a file of its
-    round (``runs.jsonl``, ``../x``, a user's file: see :mod:`riskreport.round_files`)."""
+    round (``runs.jsonl``, ``../x``, a user's file: see :mod:`riskreport.files.round_files`)."""
     if content is None:
         return None
     try:
@@ -471,12 +471,12 @@ def write_round(
         The output folder (created if needed).
     files
         Content by path relative to ``out_dir``; every name one of the round's
-        (:func:`riskreport.round_files.is_round_file`).
+        (:func:`riskreport.files.round_files.is_round_file`).
     as_of
         The round; its manifest is ``manifest-<as_of>.json``.
     force
         Replace files that exist with other content (a file whose content is not what
-        the tool recorded is moved aside instead: :mod:`riskreport.round_files`).
+        the tool recorded is moved aside instead: :mod:`riskreport.files.round_files`).
     replace
         The files are the whole round: with ``force``, files of the earlier round that
         this one does not have are removed. False adds to the round (e.g. tables only).
