@@ -77,7 +77,7 @@ def digest(content: bytes) -> str:
     return hashlib.sha256(content).hexdigest()
 
 
-def _content(path: Path) -> bytes | None:
+def content_no_follow(path: Path) -> bytes | None:
     """The bytes of the regular file ``path``, not following a link; None if absent."""
     try:
         fd = os.open(path, os.O_RDONLY | os.O_NOFOLLOW)
@@ -133,7 +133,7 @@ def clear(out_dir: Path, name: str, recorded: str | None, as_of: str) -> str | N
     """
     if not is_round_file(name, as_of):
         raise ValueError(f"{name!r} is not a file of the round {as_of!r}")
-    content = _content(out_dir / name)
+    content = content_no_follow(out_dir / name)
     if content is None:
         return None
     if recorded is not None and digest(content) == recorded:

@@ -173,6 +173,38 @@ def hln_factor(t: int, h: int) -> float:
     return float(np.sqrt((t + 1 - 2 * h + h * (h - 1) / t) / t))
 
 
+def _fixed_smoothing_result(
+    d: np.ndarray,
+    h: int,
+    null: str,
+    alternative: str,
+    name: str,
+    *,
+    two_sided: bool,
+    suffix: str = "",
+) -> TestResult:
+    """The fixed-smoothing t test of mean zero of ``d`` (Coroneo & Iacone 2020), two-sided
+    or one-sided (greater), as a TestResult; NaN with its note when it declines."""
+    fixed = _fixed_smoothing_t(d, h)
+    if not np.isfinite(fixed.statistic):
+        pvalue = float("nan")
+    elif two_sided:
+        pvalue = float(2 * stats.t.sf(abs(fixed.statistic), fixed.df[0]))
+    else:
+        pvalue = float(stats.t.sf(fixed.statistic, fixed.df[0]))
+    return TestResult(
+        statistic=fixed.statistic,
+        pvalue=pvalue,
+        null=null,
+        alternative=alternative,
+        method=f"{name}, {fixed.reference}{suffix}",
+        nobs=d.size,
+        h=h,
+        df=fixed.df,
+        notes=fixed.notes,
+    )
+
+
 def diebold_mariano(
     errors_a: ArrayLike,
     errors_b: ArrayLike,
@@ -228,19 +260,8 @@ def diebold_mariano(
     t = d.size
     null, alternative = "equal expected loss", "different expected loss (two-sided)"
     if version == "fixed-smoothing" and h > 1:
-        fixed = _fixed_smoothing_t(d, h)
-        return TestResult(
-            statistic=fixed.statistic,
-            pvalue=float(2 * stats.t.sf(abs(fixed.statistic), fixed.df[0]))
-            if np.isfinite(fixed.statistic)
-            else float("nan"),
-            null=null,
-            alternative=alternative,
-            method=f"Diebold-Mariano, {loss} loss, {fixed.reference}",
-            nobs=t,
-            h=h,
-            df=fixed.df,
-            notes=fixed.notes,
+        return _fixed_smoothing_result(
+            d, h, null, alternative, f"Diebold-Mariano, {loss} loss", two_sided=True
         )
     method = f"Diebold-Mariano with HLN correction, {loss} loss, t(T-1)"
     variance, notes = long_run_variance(d, h - 1)
@@ -483,19 +504,14 @@ def encompassing(
     null = "forecast a encompasses forecast b (b adds nothing to a combination)"
     alternative = "b adds information (one-sided)"
     if version == "fixed-smoothing" and h > 1:
-        fixed = _fixed_smoothing_t(d, h)
-        return TestResult(
-            statistic=fixed.statistic,
-            pvalue=float(stats.t.sf(fixed.statistic, fixed.df[0]))
-            if np.isfinite(fixed.statistic)
-            else float("nan"),
-            null=null,
-            alternative=alternative,
-            method=f"Harvey-Leybourne-Newbold encompassing test, {fixed.reference}, one-sided",
-            nobs=t,
-            h=h,
-            df=fixed.df,
-            notes=fixed.notes,
+        return _fixed_smoothing_result(
+            d,
+            h,
+            null,
+            alternative,
+            "Harvey-Leybourne-Newbold encompassing test",
+            two_sided=False,
+            suffix=", one-sided",
         )
     variance, notes = long_run_variance(d, h - 1)
     # No variance: the test is undefined (NaN), not "no evidence" (statistic 0, p = 0.5).

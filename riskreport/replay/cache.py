@@ -35,7 +35,6 @@ import hashlib
 import io
 import json
 import logging
-import os
 import platform
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -46,7 +45,7 @@ from typing import Any
 import numpy as np
 
 from riskreport._typing import Family
-from riskreport.files import jsonfile
+from riskreport.files import jsonfile, round_files
 from riskreport.replay import calibration
 from riskreport.replay.calibration import HorizonData, HorizonReplay
 
@@ -101,12 +100,7 @@ def folder_of(out_dir: Path) -> Path | None:
 
 def _read(path: Path) -> bytes | None:
     """The bytes of a cache file opened without following a link; None when absent."""
-    try:
-        fd = os.open(path, os.O_RDONLY | os.O_NOFOLLOW)
-    except FileNotFoundError:
-        return None
-    with os.fdopen(fd, "rb") as handle:
-        return handle.read()
+    return round_files.content_no_follow(path)
 
 
 def _write(out_dir: Path, name: str, content: bytes) -> None:

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.report import formatting as fmt
+from riskreport.report.sections import questions
 from riskreport.report.sections.calibration import coverage_lines
 from riskreport.report.sections.common import summary_horizons
 from riskreport.report.sections.summary import (
@@ -80,6 +81,8 @@ def context(a: Assessment) -> HowSureContext:
             misses_sentence(a),
             coverage_sentence(a) + " " + ranges,
             reliability_sentence(a),
+            # in situations like today's (where the latest outcome stood, wide disagreement)
+            *((line,) if (line := questions.situation_text(a)) else ()),
             *((line.strip(),) if (line := against_baseline(a)) else ()),
         ),
         cautions_heading="Cautions in full",
