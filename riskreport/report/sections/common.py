@@ -20,12 +20,20 @@ SUMMARY_HORIZONS = {
 }
 
 
+# A brief with this many reported periods or fewer shows every one of them in its compact
+# tables (a row skipped there reads as a period left out).
+ALL_ROWS_UP_TO = 9
+
+
 def summary_horizons(a: Assessment) -> tuple[int, ...]:
-    """The horizons the brief's compact tables show: the standard ones of the brief's
-    frequency that are reported, and the policy horizon."""
+    """The horizons the brief's compact tables show: every reported one when there are
+    few, else the standard ones of the brief's frequency that are reported, the policy
+    horizon and the last reported horizon (where the centre path ends)."""
     reported = {r.h for r in a.horizons}
+    if len(reported) <= ALL_ROWS_UP_TO:
+        return tuple(sorted(reported))
     standard = SUMMARY_HORIZONS.get(a.frequency, SUMMARY_HORIZONS["monthly"])
-    return tuple(sorted({h for h in standard if h in reported} | {a.policy_horizon}))
+    return tuple(sorted({h for h in standard if h in reported} | {a.policy_horizon, max(reported)}))
 
 
 @dataclass(frozen=True)

@@ -8,8 +8,9 @@ from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
 from riskreport.reading import periods
-from riskreport.replay.adjustments import NEAR, Adjustments, SensitivityRow
+from riskreport.replay.adjustments import Adjustments, SensitivityRow
 from riskreport.report import formatting as fmt
+from riskreport.report.sections.calibration import COVERAGE_TOO_NARROW, COVERAGE_TOO_WIDE
 from riskreport.report.sections.common import (
     FAMILY_NAMES,
     Facts,
@@ -505,22 +506,22 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
                 "plain constant normal law in the replay: the choice of method shows no gain on "
                 "this record."
             )
-    if v.short_horizons:
+    # The same thresholds as the board's pages (calibration.COVERAGE_TOO_*), with the
+    # direction said: ranges that held too rarely and ranges that held too often differ.
+    held = {r.h: r.observed for r in a.calibration.coverage if r.nominal == 0.9 and r.n > 0}
+    narrow = sorted(h for h, x in held.items() if x < COVERAGE_TOO_NARROW)
+    wide = sorted(h for h, x in held.items() if x > COVERAGE_TOO_WIDE)
+    if narrow:
+        least = min(narrow, key=lambda h: held[h])
         lines.append(
-            f"The 90% ranges missed by more than {100 * NEAR:.0f} points at "
-            f"{periods.ranges(list(v.short_horizons))} {units(a)} ahead (furthest: held "
-            f"{fmt.single_percent(v.worst_coverage_90)} of the time at {v.worst_h} "
-            f"{units(a)} ahead)"
-            + (
-                "."
-                if not v.near
-                else ": read the probabilities there as less certain than they look."
-            )
+            f"The 90% ranges held less often than stated at {periods.ranges(narrow)} "
+            f"{units(a)} ahead (least: {fmt.single_percent(held[least])} at {least} "
+            f"{units(a)} ahead): read the probabilities there as less certain than they look."
         )
-    if not v.near:
+    if wide:
         lines.append(
-            "Even so, coverage is not near nominal: the stated probabilities should be read "
-            "as less certain than they look."
+            f"The 90% ranges held more often than stated at {periods.ranges(wide)} "
+            f"{units(a)} ahead: the ranges there were wider than the record needed."
         )
     return tuple(lines)
 

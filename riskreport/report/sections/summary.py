@@ -172,7 +172,7 @@ def centre_label(a: Assessment) -> str:
             f"the models' forecast moved by staff judgement "
             f"({fmt.number(moved, signed=True)} percentage points, pp)"
         )
-    return "the models' forecast, taken as the most likely value"
+    return "the models' forecast"
 
 
 def _inside_now(a: Assessment) -> tuple[str, bool] | None:
@@ -222,7 +222,8 @@ def messages(a: Assessment) -> tuple[str, ...]:
     # rounded on its own, which could print 29% here beside the headline's 30%.
     below, _, above = fmt.outcome_texts(head.p_below, head.p_inside, head.p_above)
     lines = [
-        f"Risks {subject} lean {tilt} the band: above {above}, below {below}. "
+        f"Risks {subject} lean {tilt} the band: the chance of inflation above the band is "
+        f"{above}, below it {below}. "
         f"The centre (most likely value) is {fmt.number(policy.centre)}% in {policy.period}: {centre_label(a)}.",
         _path_message(a),
     ]
