@@ -76,6 +76,13 @@ def track_record_text(a: Assessment, horizons: Sequence[int] | None = None) -> l
         for h in shown
     ]
     lines += _table(["h", *tested], rows) if tested else ["(no test could be run)"]
+    if any(declined(t.notes) for t in tests.values()):
+        lines += [
+            "",
+            "too few: the rounds scored there overlap (an h-step outcome shares shocks with "
+            "its neighbours'), so they hold too few independent outcomes for the test to hold "
+            "its size; it declines rather than give a verdict.",
+        ]
     return lines
 
 
