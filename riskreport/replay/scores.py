@@ -12,8 +12,11 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy import special
 
-from riskreport.laws._families import EmpiricalFit, NormalFit, SkewNormalFit, TwoPieceNormalFit
+from riskreport.laws.empirical import EmpiricalFit
+from riskreport.laws.normal import NormalFit
 from riskreport.laws.predictive import StudentPredictive, crps_student
+from riskreport.laws.skew_normal import SkewNormalFit
+from riskreport.laws.two_piece_normal import TwoPieceNormalFit
 
 _SQRT_PI = np.sqrt(np.pi)
 

@@ -17,15 +17,9 @@ import pytest
 from scipy import optimize, stats
 
 from riskreport.laws import distributions
-from riskreport.laws._families import (
-    CONSTANT_NOTE,
-    MIN_SCALE,
-    PENALTY_C1,
-    PENALTY_C2,
-    _mode0_exact,
-    fit_two_piece_normal_batch,
-    skewnormal_mode0,
-)
+from riskreport.laws._batch import CONSTANT_NOTE, MIN_SCALE
+from riskreport.laws.skew_normal import PENALTY_C1, PENALTY_C2, _mode0_exact, skewnormal_mode0
+from riskreport.laws.two_piece_normal import fit_two_piece_normal_batch
 
 SAMPLE_A = np.array([-0.59, -0.32, -0.11, -0.07, 0.42, 0.56, 0.78, 1.09, 1.44, 1.48, 1.6, 1.92])
 SAMPLE_B = np.array(
