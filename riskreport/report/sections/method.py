@@ -75,7 +75,7 @@ def distribution_text(a: Assessment) -> str:
         "normal": "maximum likelihood",
         "two-piece normal": "maximum likelihood (mode profiled)",
         "skew-normal": "maximum penalised likelihood",
-        "kernel-smoothed empirical": "Gaussian kernel, Silverman bandwidth",
+        "kernel-smoothed empirical": "Gaussian kernel, Silverman bandwidth, normal tails",
         "given error quantiles": "as given",
     }
     text = "; ".join(f"{name} ({how[name]})" for name in used) + ", per horizon"
