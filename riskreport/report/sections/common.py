@@ -270,7 +270,9 @@ def method_was_chosen(a: Assessment) -> bool:
     if adj is None:
         return False
     return (
-        a.uncertainty.distribution == "auto" or adj.spread_option != "constant" or adj.recalibrate
+        a.uncertainty.distribution in ("auto", "best-past-score")
+        or adj.spread_option != "constant"
+        or adj.recalibrate
     )
 
 

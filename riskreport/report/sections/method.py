@@ -490,7 +490,9 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         "is better)."
     )
     chose = (
-        a.uncertainty.distribution == "auto" or adj.spread_option != "constant" or adj.recalibrate
+        a.uncertainty.distribution in ("auto", "best-past-score")
+        or adj.spread_option != "constant"
+        or adj.recalibrate
     )
     if chose and v.against_baseline != "better":
         if todays_law_is_baseline(a):
