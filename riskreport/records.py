@@ -307,7 +307,7 @@ def adjustments(
         spread_option=cfg.uncertainty.spread,
         spread=chosen.current.spread.label,
         volatility=dynamics.current(errors[:, : cfg.brief.horizons + 1], chosen.current.spread),
-        method=chosen.current.label,
+        method=chosen.current.label if replayed.pool is None else pool_law.POOL_FAMILY,
         runner_up=chosen.runner_up.label if chosen.runner_up else None,
         graded=replayed.graded,
         choices=tuple(

@@ -195,6 +195,7 @@ FAMILY_NAMES = {
     "skew-normal": "skew-normal",
     "empirical": "kernel-smoothed empirical",
     "given-quantiles": "given error quantiles",
+    "pool": "optimal prediction pool",
 }
 
 
