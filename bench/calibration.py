@@ -63,6 +63,8 @@ STEPS: tuple[tuple[str, dict[str, object]], ...] = (  # each step's gain and cos
     ("  + spread ewma (option)", {"spread": "ewma"}),
     ("  + spread auto (option)", {"spread": "auto"}),
     ("  + recalibrate (option)", {"recalibrate": True}),
+    ("  distribution auto (pool)", {"distribution": "auto"}),
+    ("  best-past-score (hard choice)", {"distribution": "best-past-score"}),
 )
 SIMULATED_RECORDS = 200
 RELIABILITY_MIN_N = 100

@@ -16,7 +16,9 @@ SpreadChoice = Literal["constant", "ewma", "joint", "auto"]
 WindowChoice = Literal["fixed", "auto"]
 RecalibrationMethod = Literal["tracking", "beta"]
 Predictive = Literal["student-t", "plug-in"]
-DistributionChoice = Literal["normal", "two-piece-normal", "skew-normal", "empirical", "auto"]
+DistributionChoice = Literal[
+    "normal", "two-piece-normal", "skew-normal", "empirical", "auto", "best-past-score"
+]
 CombinationMethod = Literal[
     "equal",
     "median",

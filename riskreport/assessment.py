@@ -83,6 +83,30 @@ class FamilySource:
 
 
 @dataclass(frozen=True)
+class PoolWeight:
+    """One candidate's weight in the optimal prediction pool."""
+
+    candidate: str
+    weight: float
+
+
+@dataclass(frozen=True)
+class PoolRecord:
+    """The optimal prediction pool of ``distribution = "auto"`` as used today.
+
+    ``weights`` are today's (shrunk toward the normal law), ``optimal`` the weights that
+    maximise the past log score, ``prior_share`` the normal law's prior share in today's
+    weights and ``effective_outcomes`` the record's effective number of scored outcomes
+    (the JSON writes each weight list as one object, candidate -> weight).
+    """
+
+    weights: tuple[PoolWeight, ...] = field(metadata=json_key(keyed=("candidate", "weight")))
+    optimal: tuple[PoolWeight, ...] = field(metadata=json_key(keyed=("candidate", "weight")))
+    prior_share: float
+    effective_outcomes: float
+
+
+@dataclass(frozen=True)
 class FamilyScore:
     """One family's total of per-horizon mean log scores in the replay."""
 
@@ -125,6 +149,7 @@ class UncertaintyRecord:
     seed: int
     verbal_scale: str
     selection: SelectionRecord | None = field(metadata=json_key(omit_none=True))
+    pool: PoolRecord | None = field(default=None, metadata=json_key(omit_none=True))
 
 
 @dataclass(frozen=True)

@@ -29,6 +29,7 @@ from riskreport.forecasts.track_record import error_matrix, evaluate
 from riskreport.laws import annual as annual_module
 from riskreport.laws import density as density_module
 from riskreport.laws import judgement, probabilities, sensitivity, uncertainty
+from riskreport.laws import pool as pool_law
 from riskreport.laws import thresholds as thresholds_module
 from riskreport.laws.distributions import FAMILIES, GIVEN_FAMILY, Distribution
 from riskreport.reading import config_reader, periods, screening
@@ -265,20 +266,23 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     )
     choice = (
         selection.Selection(today.family, others[0] if others else None, totals)
-        if cfg.uncertainty.distribution == "auto"
+        if cfg.uncertainty.distribution == "best-past-score"
         else None
     )
     family = today.family
     window = replayed.window
-    margins = uncertainty.build(
-        cfg if window is None else cfg.replaced("uncertainty", window=window),
-        errors,
-        point,
-        given,
-        family=family,
-        choice=choice,
-        spread=today.spread,
-    )
+    if replayed.pool is not None:  # distribution = "auto": the optimal prediction pool
+        margins = pool_law.build(cfg, errors, point, given, replayed.members())
+    else:
+        margins = uncertainty.build(
+            cfg if window is None else cfg.replaced("uncertainty", window=window),
+            errors,
+            point,
+            given,
+            family=family,
+            choice=choice,
+            spread=today.spread,
+        )
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
     if cfg.uncertainty.recalibrate:
         outcome, recalibrated = adjustments_module.recalibrate(
@@ -337,7 +341,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
         tests=record.tests,
         own_names=record.names,
         calibration=calibration.summarise(runs, replayed.graded, cfg.brief.frequency),
-        uncertainty=records.uncertainty(cfg, margins),
+        uncertainty=records.uncertainty(cfg, margins, replayed.pool),
         history=records.observations(act, cfg),
         change=None,
         inputs=records.inputs(cfg, fc, act, given),

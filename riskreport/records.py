@@ -25,6 +25,8 @@ from riskreport.assessment import (
     Observation,
     PastError,
     PathResult,
+    PoolRecord,
+    PoolWeight,
     Quantiles,
     RowCount,
     ScenarioHorizon,
@@ -38,6 +40,7 @@ from riskreport.assessment import (
 )
 from riskreport.forecasts import combination as combination_module
 from riskreport.laws import distributions, dynamics, probabilities
+from riskreport.laws import pool as pool_law
 from riskreport.laws.distributions import GIVEN_FAMILY, Distribution
 from riskreport.laws.uncertainty import Margins
 from riskreport.reading import periods
@@ -45,6 +48,7 @@ from riskreport.reading.config import Config
 from riskreport.reading.inputs import Actuals, ErrorQuantiles, Forecasts
 from riskreport.reading.panel import Panel
 from riskreport.replay import adjustments as adjustments_module
+from riskreport.replay.pool import PoolWeights
 from riskreport.rounds import change as change_module
 
 HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
@@ -117,6 +121,16 @@ def horizons(
         family = margins.families[h]
         if family == GIVEN_FAMILY:
             interval = (probs.p_inside, probs.p_inside)
+        elif family == pool_law.POOL_FAMILY:
+            interval = pool_law.bootstrap_p_inside(
+                dist,
+                band.lower,
+                band.upper,
+                h=h,
+                mode=margins.mode,
+                replicates=cfg.uncertainty.bootstrap_replicates,
+                rng=np.random.default_rng([cfg.uncertainty.seed, h]),
+            )
         else:
             interval = probabilities.bootstrap_p_inside(
                 margins.samples[h],
@@ -229,7 +243,21 @@ def target(cfg: Config) -> TargetRecord:
     )
 
 
-def uncertainty(cfg: Config, margins: Margins) -> UncertaintyRecord:
+def pool_record(weights: PoolWeights | None) -> PoolRecord | None:
+    """The pool's weights as the assessment records them (None without a pool)."""
+    if weights is None:
+        return None
+    return PoolRecord(
+        tuple(PoolWeight(c, w) for c, w in zip(weights.labels, weights.current, strict=True)),
+        tuple(PoolWeight(c, w) for c, w in zip(weights.labels, weights.optimal, strict=True)),
+        weights.prior_share,
+        weights.effective_outcomes,
+    )
+
+
+def uncertainty(
+    cfg: Config, margins: Margins, weights: PoolWeights | None = None
+) -> UncertaintyRecord:
     choice = margins.choice
     return UncertaintyRecord(
         distribution=cfg.uncertainty.distribution,
@@ -253,6 +281,7 @@ def uncertainty(cfg: Config, margins: Margins) -> UncertaintyRecord:
             choice.runner_up,
             tuple(FamilyScore(family, total) for family, total in choice.total.items()),
         ),
+        pool=pool_record(weights),
     )
 
 
@@ -278,7 +307,7 @@ def adjustments(
         spread_option=cfg.uncertainty.spread,
         spread=chosen.current.spread.label,
         volatility=dynamics.current(errors[:, : cfg.brief.horizons + 1], chosen.current.spread),
-        method=chosen.current.label,
+        method=chosen.current.label if replayed.pool is None else pool_law.POOL_FAMILY,
         runner_up=chosen.runner_up.label if chosen.runner_up else None,
         graded=replayed.graded,
         choices=tuple(

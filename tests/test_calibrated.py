@@ -102,8 +102,9 @@ def test_future_outcome_changes_no_past_choice_or_map(tmp_path: Path) -> None:
 
 def test_selected_sequence_takes_each_origins_choice(tmp_path: Path) -> None:
     errors = _garch_errors(140, 0.8, 5)
+    # The hard choice (distribution = "best-past-score"; "auto" pools, tests/test_pool.py).
     _, result, _ = _setup(
-        constant_forecast_world(tmp_path, errors), distribution="auto", spread="auto"
+        constant_forecast_world(tmp_path, errors), distribution="best-past-score", spread="auto"
     )
     labels = [c.label for c in result.selection.candidates]
     run = result.runs[("auto", 0)]

@@ -113,7 +113,7 @@ def test_student_predictive_matches_the_t_law() -> None:
     rng = np.random.default_rng(1)
     samples = rng.standard_normal((20000, 8))
     fits = predictive.student(
-        __import__("riskreport.laws._families", fromlist=["x"]).fit_normal_batch(samples, 0.0),
+        __import__("riskreport.laws.normal", fromlist=["x"]).fit_normal_batch(samples, 0.0),
         1,
         mode_fixed=True,
     )
@@ -146,7 +146,7 @@ def test_two_piece_scales_stay_within_the_bounded_ratio() -> None:
     # Communications in Statistics A 11(8)); the bounded fit keeps the ratio at most 4 and
     # its log-likelihood is the two-piece normal's own density summed (Wallis 2014,
     # Statistical Science 29(1), eq. 1: f = sqrt(2/pi) / (s1 + s2) exp(-(x - m)^2 / 2 s^2)).
-    from riskreport.laws._families import TPN_MAX_RATIO, fit_two_piece_normal_batch
+    from riskreport.laws.two_piece_normal import TPN_MAX_RATIO, fit_two_piece_normal_batch
 
     x = np.array([[0.1, 0.2, 0.05, 3.0, 2.5, -0.1, 0.15, 0.12] * 5])
     fit = fit_two_piece_normal_batch(x, 0.0)

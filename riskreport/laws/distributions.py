@@ -19,17 +19,10 @@ from scipy import optimize, stats
 
 from riskreport import _typing
 from riskreport._typing import Family
-from riskreport.laws._families import (
-    EmpiricalFit,
-    NormalFit,
-    SkewNormalFit,
-    TwoPieceNormalFit,
-    fit_empirical_batch,
-    fit_normal_batch,
-    fit_skew_normal,
-    fit_skew_normal_batch,
-    fit_two_piece_normal_batch,
-)
+from riskreport.laws.empirical import EmpiricalFit, fit_empirical_batch
+from riskreport.laws.normal import NormalFit, fit_normal_batch
+from riskreport.laws.skew_normal import SkewNormalFit, fit_skew_normal, fit_skew_normal_batch
+from riskreport.laws.two_piece_normal import TwoPieceNormalFit, fit_two_piece_normal_batch
 
 _GRID = (np.arange(4000) + 0.5) / 4000  # mid-point probabilities for expectations by quantiles
 

@@ -393,7 +393,11 @@ def load(path: str | Path) -> Config:
     spread = cast(
         SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, DEFAULT_METHOD["spread"])
     )
-    if spread in ("ewma", "joint") and distribution not in ("auto", *EWMA_FAMILIES):
+    if spread in ("ewma", "joint") and distribution not in (
+        "auto",
+        "best-past-score",
+        *EWMA_FAMILIES,
+    ):
         # The replay offers these spreads only with these laws: no candidate would be
         # left to choose from (was an IndexError, exit 1).
         raise uncertainty.error(
@@ -402,7 +406,7 @@ def load(path: str | Path) -> Config:
             f"(or auto), not {distribution}; use spread = 'auto' or 'constant'",
         )
     window_choice = cast(WindowChoice, uncertainty.choice("window_choice", WINDOW_CHOICES, "fixed"))
-    if window_choice == "auto" and distribution not in ("auto", "normal"):
+    if window_choice == "auto" and distribution not in ("auto", "best-past-score", "normal"):
         # The window is chosen for the normal law only (the others keep the configured
         # one): with another fixed law the choice could not reach today's probabilities.
         raise uncertainty.error(

@@ -20,11 +20,13 @@ import numpy as np
 from riskreport._typing import FAMILIES
 from riskreport.laws import dynamics, probabilities
 from riskreport.laws.distributions import Distribution
+from riskreport.laws.pool import Member
 from riskreport.reading.config import Config
 from riskreport.reading.inputs import ErrorQuantiles
 from riskreport.reading.panel import Panel
-from riskreport.replay import calibration, prequential, recalibration
+from riskreport.replay import calibration, pool, prequential, recalibration
 from riskreport.replay.calibration import HorizonReplay
+from riskreport.replay.pool import PoolWeights
 from riskreport.replay.prequential import Candidate, PrequentialSelection
 
 if TYPE_CHECKING:
@@ -55,6 +57,9 @@ class Replays:
     baseline
         The label of the constant normal law over the configured window (the verdict's
         benchmark).
+    pool
+        With ``distribution = "auto"``: the optimal prediction pool's weights (the ``auto``
+        replay is then the pool, :mod:`riskreport.replay.pool`).
     """
 
     runs: dict[tuple[str, int], HorizonReplay]
@@ -65,6 +70,22 @@ class Replays:
         default_factory=dict
     )
     baseline: str = "normal"
+    pool: PoolWeights | None = None
+
+    def members(self) -> list[Member]:
+        """The pool's candidates with today's weights and windows (empty without a pool)."""
+        if self.pool is None:
+            return []
+        out = []
+        for c, w in zip(self.candidates, self.pool.current, strict=True):
+            chosen = self.windows.get(c.spread)
+            window = (
+                chosen.current
+                if chosen is not None and c.family in prequential.WINDOW_FAMILIES
+                else None
+            )
+            out.append(Member(c.label, c.family, c.spread, window, w))
+        return out
 
     @property
     def window(self) -> int | None:
@@ -96,9 +117,8 @@ def replays(
         for f in FAMILIES
         if s.kind == "constant" or f in dynamics.FAMILIES
     )
-    allowed = (
-        FAMILIES if cfg.uncertainty.distribution == "auto" else (cfg.uncertainty.distribution,)
-    )
+    choosing = cfg.uncertainty.distribution in ("auto", "best-past-score")
+    allowed = FAMILIES if choosing else (cfg.uncertainty.distribution,)
     candidates = tuple(c for c in replayed if c.family in allowed and c.spread in spreads)
     mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
     predictive = cfg.uncertainty.predictive == "student-t"
@@ -155,8 +175,14 @@ def replays(
         baseline = BASELINE
     chosen = prequential.select(runs, candidates, panel.origins.size)
     graded = candidates[0].label
+    weights = None
     if len(candidates) > 1:
-        for h, run in prequential.selected_sequence(runs, chosen).items():
+        if cfg.uncertainty.distribution == "auto":
+            weights = pool.learn(runs, [c.label for c in candidates], panel.origins.size)
+            sequence = pool.pooled_sequence(runs, weights)
+        else:
+            sequence = prequential.selected_sequence(runs, chosen)
+        for h, run in sequence.items():
             runs[(prequential.SELECTED, h)] = run
         graded = prequential.SELECTED
     if cfg.uncertainty.recalibrate:
@@ -169,7 +195,7 @@ def replays(
             )
             runs[(recalibration.LABEL, run.h)] = mapped
         graded = recalibration.LABEL
-    return Replays(runs, candidates, chosen, graded, windows, baseline)
+    return Replays(runs, candidates, chosen, graded, windows, baseline, weights)
 
 
 @dataclass(frozen=True)

@@ -12,8 +12,11 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy import special
 
-from riskreport.laws._families import EmpiricalFit, NormalFit, SkewNormalFit, TwoPieceNormalFit
+from riskreport.laws.empirical import TAIL_WEIGHT, EmpiricalFit
+from riskreport.laws.normal import NormalFit
 from riskreport.laws.predictive import StudentPredictive, crps_student
+from riskreport.laws.skew_normal import SkewNormalFit
+from riskreport.laws.two_piece_normal import TwoPieceNormalFit
 
 _SQRT_PI = np.sqrt(np.pi)
 
@@ -161,6 +164,32 @@ def crps_kernel_mixture(y: ArrayLike, sample: np.ndarray, bandwidth: ArrayLike) 
     return np.asarray(first - 0.5 * kernel_mixture_spread(x, b.reshape(-1)))
 
 
+def crps_empirical(y: ArrayLike, fit: EmpiricalFit) -> np.ndarray:
+    """CRPS of the empirical law (1 - w) K + w N (kernel part K, normal part N).
+
+    CRPS = E|X - y| - E|X - X'|/2 (Gneiting & Raftery 2007, JASA 102:359-378) with, for the
+    two-part mixture, E|X - y| = (1 - w) E_K|X - y| + w E_N|X - y| and E|X - X'| =
+    (1 - w)^2 E_KK + w^2 E_NN + 2 w (1 - w) E_KN; every term between two normals is
+    E|N(d, v)| (Grimit, Gneiting, Berrocal & Johnson 2006, QJRMS 132:2925-2942), E_KK by
+    :func:`kernel_mixture_spread`.
+    """
+    w = TAIL_WEIGHT
+    x = np.atleast_2d(np.asarray(fit.sample, dtype=float))
+    b = np.asarray(fit.bandwidth, dtype=float).reshape(-1, 1)
+    m = np.asarray(fit.tail_loc, dtype=float).reshape(-1, 1)
+    var = np.asarray(fit.tail_scale, dtype=float).reshape(-1, 1) ** 2
+    y = np.asarray(y, dtype=float).reshape(-1, 1)
+    ok = np.isfinite(x)
+    n = ok.sum(axis=1)
+    kernel_y = np.where(ok, _a(y - x, b**2), 0.0).sum(axis=1) / n
+    normal_y = _a(y - m, var)[:, 0]
+    kernel_kernel = kernel_mixture_spread(x, b.reshape(-1))
+    normal_normal = _a(np.zeros_like(m), 2 * var)[:, 0]
+    kernel_normal = np.where(ok, _a(np.nan_to_num(x - m), b**2 + var), 0.0).sum(axis=1) / n
+    pair = (1 - w) ** 2 * kernel_kernel + w**2 * normal_normal + 2 * w * (1 - w) * kernel_normal
+    return np.asarray((1 - w) * kernel_y + w * normal_y - 0.5 * pair)
+
+
 def skewnormal_spread(alpha: ArrayLike) -> np.ndarray:
     """E|Z - Z'| of two independent standard skew-normals SN(0, 1, alpha), in closed form.
 
@@ -222,7 +251,7 @@ def crps(fit: object, y: ArrayLike) -> np.ndarray:
     if isinstance(fit, TwoPieceNormalFit):
         return crps_two_piece_normal(y, fit.mode, fit.sigma1, fit.sigma2)
     if isinstance(fit, EmpiricalFit):
-        return crps_kernel_mixture(y, fit.sample, fit.bandwidth)
+        return crps_empirical(y, fit)
     if isinstance(fit, SkewNormalFit):
         return crps_skew_normal(y, fit.xi, fit.omega, fit.alpha)
     raise TypeError(f"no CRPS for {type(fit).__name__}")

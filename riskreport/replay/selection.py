@@ -1,4 +1,5 @@
-"""Choosing the error distribution family by out-of-sample log score (``distribution = "auto"``).
+"""Choosing the error distribution family by out-of-sample log score
+(``distribution = "best-past-score"``).
 
 The scores come from the calibration replay (:mod:`riskreport.replay.calibration`): at each past
 origin every family was fitted to the errors known then and scored on the error that

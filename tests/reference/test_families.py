@@ -17,15 +17,10 @@ import pytest
 from scipy import optimize, stats
 
 from riskreport.laws import distributions
-from riskreport.laws._families import (
-    CONSTANT_NOTE,
-    MIN_SCALE,
-    PENALTY_C1,
-    PENALTY_C2,
-    _mode0_exact,
-    fit_two_piece_normal_batch,
-    skewnormal_mode0,
-)
+from riskreport.laws._batch import CONSTANT_NOTE, MIN_SCALE
+from riskreport.laws.empirical import TAIL_WEIGHT
+from riskreport.laws.skew_normal import PENALTY_C1, PENALTY_C2, _mode0_exact, skewnormal_mode0
+from riskreport.laws.two_piece_normal import fit_two_piece_normal_batch
 
 SAMPLE_A = np.array([-0.59, -0.32, -0.11, -0.07, 0.42, 0.56, 0.78, 1.09, 1.44, 1.48, 1.6, 1.92])
 SAMPLE_B = np.array(
@@ -191,9 +186,18 @@ def test_empirical_cdf_matches_scipy_gaussian_kde(rng: np.random.Generator) -> N
     x = rng.gamma(2.0, 0.5, 150) - 1.0
     f = distributions.fit("empirical", x)
     kde = stats.gaussian_kde(x, bw_method=f.bandwidth / x.std(ddof=1))
+    # The kernel part is scipy's Gaussian KDE; the law mixes it with the fitted normal at
+    # weight TAIL_WEIGHT (tests/reference/test_laws_that_hold.py).
+    normal = stats.norm(x.mean(), x.std())
     for point in (-1.5, -0.5, 0.0, 0.7, 2.5):
-        assert float(f.cdf(point)) == pytest.approx(kde.integrate_box_1d(-np.inf, point), abs=1e-9)
-        assert float(np.exp(f.logpdf(point))) == pytest.approx(float(kde(point)[0]), rel=1e-9)
+        assert float(f.kernel_cdf(point)) == pytest.approx(
+            kde.integrate_box_1d(-np.inf, point), abs=1e-9
+        )
+        assert float(np.exp(f.kernel_logpdf(point))) == pytest.approx(
+            float(kde(point)[0]), rel=1e-9
+        )
+        mixture = (1 - TAIL_WEIGHT) * kde(point)[0] + TAIL_WEIGHT * normal.pdf(point)
+        assert float(np.exp(f.logpdf(point))) == pytest.approx(float(mixture), rel=1e-9)
     # Silverman's rule of thumb (Silverman 1986, eq. 3.31).
     iqr = np.subtract(*np.percentile(x, [75, 25]))
     assert f.bandwidth == pytest.approx(0.9 * min(x.std(), iqr / 1.349) * 150 ** (-0.2))

@@ -17,7 +17,7 @@ from scipy import integrate, stats
 
 from riskreport.forecasts import pit_tests as rstats
 from riskreport.forecasts import stats as accuracy_stats
-from riskreport.laws._families import SkewNormalFit
+from riskreport.laws.skew_normal import SkewNormalFit
 from riskreport.replay import scores
 
 PIT = [

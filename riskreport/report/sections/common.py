@@ -203,6 +203,7 @@ FAMILY_NAMES = {
     "skew-normal": "skew-normal",
     "empirical": "kernel-smoothed empirical",
     "given-quantiles": "given error quantiles",
+    "pool": "optimal prediction pool",
 }
 
 
@@ -278,7 +279,9 @@ def method_was_chosen(a: Assessment) -> bool:
     if adj is None:
         return False
     return (
-        a.uncertainty.distribution == "auto" or adj.spread_option != "constant" or adj.recalibrate
+        a.uncertainty.distribution in ("auto", "best-past-score")
+        or adj.spread_option != "constant"
+        or adj.recalibrate
     )
 
 

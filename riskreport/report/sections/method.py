@@ -68,6 +68,20 @@ def basis_text(a: Assessment) -> str:
     return f"year end: the rate of {last}, from the joint paths; {known}"
 
 
+def pool_text(a: Assessment) -> str:
+    """The pool's weights in words (empty without a pool)."""
+    pool = a.uncertainty.pool
+    if pool is None:
+        return ""
+    weights = ", ".join(
+        f"{FAMILY_NAMES.get(w.candidate, w.candidate)} {w.weight:.2f}" for w in pool.weights
+    )
+    return (
+        f"weights {weights}: those that maximise the past log score, shrunk toward the normal "
+        f"law by {pool.prior_share:.2f} on {pool.effective_outcomes:.0f} effective scored outcomes"
+    )
+
+
 def distribution_text(a: Assessment) -> str:
     """How the error distribution was chosen and fitted, in words."""
     u = a.uncertainty
@@ -76,8 +90,9 @@ def distribution_text(a: Assessment) -> str:
         "normal": "maximum likelihood",
         "two-piece normal": "maximum likelihood (mode profiled)",
         "skew-normal": "maximum penalised likelihood",
-        "kernel-smoothed empirical": "Gaussian kernel, Silverman bandwidth",
+        "kernel-smoothed empirical": "Gaussian kernel, Silverman bandwidth, normal tails",
         "given error quantiles": "as given",
+        "optimal prediction pool": pool_text(a),
     }
     text = "; ".join(f"{name} ({how[name]})" for name in used) + ", per horizon"
     if u.selection is not None:
@@ -300,6 +315,7 @@ NAMES = {
     "two-piece-normal": "two-piece normal",
     "skew-normal": "skew-normal",
     "empirical": "kernel-smoothed empirical",
+    "pool": "optimal prediction pool",
 }
 
 
@@ -317,9 +333,9 @@ def _window_words(window: int) -> str:
 
 def _method_name(label: str) -> str:
     if label == "auto":
-        return "as chosen at each past round"
+        return "as learned at each past round (chosen or pooled)"
     if label == "auto, recalibrated":
-        return "as chosen at each past round, then recalibrated"
+        return "as learned at each past round, then recalibrated"
     family, _, spread = label.partition(", ")
     return f"{NAMES.get(family, family)}, {_spread_words(spread or 'constant')}"
 
@@ -491,7 +507,9 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         "is better)."
     )
     chose = (
-        a.uncertainty.distribution == "auto" or adj.spread_option != "constant" or adj.recalibrate
+        a.uncertainty.distribution in ("auto", "best-past-score")
+        or adj.spread_option != "constant"
+        or adj.recalibrate
     )
     if chose and v.against_baseline != "better":
         if todays_law_is_baseline(a):
