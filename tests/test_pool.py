@@ -15,7 +15,7 @@ from scipy import optimize, stats
 from riskreport.laws.normal import NormalFit
 from riskreport.laws.pool import Pool
 from riskreport.pipeline import assess_config
-from riskreport.reading import config
+from riskreport.reading import config_reader
 from riskreport.replay import pool
 from riskreport.replay.calibration import HorizonReplay
 from tests.test_honest_defaults import efficient_world
@@ -118,7 +118,7 @@ def _assess(path: Path, distribution: str):  # type: ignore[no-untyped-def]
     path.write_text(base + f'distribution = "{distribution}"\n')
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        return assess_config(config.load(path), search=path.parent / "none")
+        return assess_config(config_reader.load(path), search=path.parent / "none")
 
 
 def test_the_pool_pays_little_for_learning_where_nothing_changes(null_world: Path) -> None:
