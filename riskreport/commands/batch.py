@@ -12,7 +12,7 @@ from typing import Any
 from riskreport.commands.build import build
 from riskreport.errors import InputError
 from riskreport.files.runlog import EXIT_INPUT, EXIT_INTERNAL, EXIT_OK, exit_code, one_line
-from riskreport.processes import parallel, progress
+from riskreport.processes import parallel, progress, workers
 
 
 def periods_between(text: str) -> list[str]:
@@ -61,9 +61,17 @@ def one_config(
     force: bool,
     verbose: bool,
     cache: bool = True,
+    *,
+    jobs: int = 1,
+    in_memory: bool = True,
 ) -> list[dict[str, Any]]:
-    """Every brief of one config, in period order; each failure is recorded, not raised."""
-    results = []
+    """Every brief of one config, in period order; each failure is recorded, not raised.
+
+    Over several periods each round hands its assessment to the next in memory
+    (``in_memory``; false builds each round on its own, reading the previous one's file:
+    the files are the same), and with ``jobs`` above 1 a worker renders each round while
+    this process assesses the next (:func:`pipelined`).
+    """
     mismatch = months_mismatch(config, months)
     if mismatch is not None:
         # Said once for the config, not once per round (each round's --as-of would fail).
@@ -82,28 +90,144 @@ def one_config(
         # Each round renders its workbook and PNG charts in a forked child; imported here
         # once, the child of every round inherits them instead of importing them again.
         from riskreport.report import slides, workbook  # noqa: F401
+    if months and len(months) > 1 and in_memory:
+        return pipelined(config, months, out, force, verbose, cache, jobs)
+    results = []
     for as_of in progress.bar(rounds, config.name) if len(rounds) > 1 else rounds:
         try:
             summary = build(config, out, as_of, force, cache=cache)
-            code = EXIT_OK
         except Exception as exc:  # one brief failing must not stop the others
-            code = exit_code(exc)
-            detail = traceback.format_exc() if verbose and code == EXIT_INTERNAL else one_line(exc)
-            summary = {"status": "error", "error": " ".join(detail.split())}
-        if code != EXIT_OK:
-            print(
-                f"riskreport: {config.name} {as_of or ''}: error: {summary['error']}",
-                file=sys.stderr,
-            )
-        results.append(
-            {
-                "config": str(config),
-                "as_of": as_of or summary.get("as_of"),
-                "exit_code": code,
-                **summary,
-            }
-        )
+            results.append(failure(config, as_of, exc, verbose))
+            continue
+        results.append(success(config, as_of, summary))
     return results
+
+
+def success(config: Path, as_of: str | None, summary: dict[str, Any]) -> dict[str, Any]:
+    """The result of one brief that was written (or was up to date)."""
+    return {
+        "config": str(config),
+        "as_of": as_of or summary.get("as_of"),
+        "exit_code": EXIT_OK,
+        **summary,
+    }
+
+
+def failure(config: Path, as_of: str | None, exc: BaseException, verbose: bool) -> dict[str, Any]:
+    """The result of one brief that failed, said on stderr."""
+    code = exit_code(exc)
+    detail = traceback.format_exc() if verbose and code == EXIT_INTERNAL else one_line(exc)
+    summary = {"status": "error", "error": " ".join(detail.split())}
+    print(f"riskreport: {config.name} {as_of or ''}: error: {summary['error']}", file=sys.stderr)
+    return {"config": str(config), "as_of": as_of, "exit_code": code, **summary}
+
+
+def pipelined(
+    config: Path,
+    months: list[str],
+    out: Path | None,
+    force: bool,
+    verbose: bool,
+    cache: bool,
+    jobs: int,
+) -> list[dict[str, Any]]:
+    """One config's rounds in period order, each handed to the next in memory (change,
+    attribution and history from the previous assessment's JSON as it would be read from
+    its file), one replay cache for all; with ``jobs`` above 1 a worker renders round t
+    while this process assesses round t + 1, and this process switches each round into the
+    folder under its lock, in order. A round that fails fails alone: the next one is then
+    assessed from the folder, as a build of its own would be."""
+    from riskreport.commands import build as build_module
+
+    results: list[dict[str, Any]] = []
+    handed: build_module.HandOver | None = None
+    replays: Any = None
+    pending: tuple[str, build_module.Round, workers.Started | None] | None = None
+
+    def assess(as_of: str, given: build_module.HandOver | None) -> build_module.Round | None:
+        run = build_module.run_record("build", as_of)
+        try:
+            return build_module.assess_round(
+                config, out, as_of, run, cache=cache, replays=replays, handed=given, in_batch=True
+            )
+        except Exception as exc:  # one brief failing must not stop the others
+            results.append(failure(config, as_of, exc, verbose))
+            return None
+
+    try:
+        for as_of in progress.bar(months, config.name):
+            if pending is not None and handed is None:  # this round reads the folder
+                finish(pending, force, verbose, config, results)
+                pending = None
+            current = assess(as_of, handed)
+            if pending is not None:
+                written = finish(pending, force, verbose, config, results)
+                pending = None
+                if not written and current is not None and current.handed:
+                    current = assess(as_of, None)  # what it was handed is not in the folder
+            if current is None:
+                handed = None
+                continue
+            replays = current.replays
+            if current.done is not None:  # an identical re-run: nothing to render
+                results.append(success(config, as_of, current.done))
+                handed = None
+                continue
+            started = None
+            if jobs > 1:
+                assert current.assessment is not None
+                started = workers.start(
+                    functools.partial(render, current.assessment, tuple(current.cfg.output.formats))
+                )
+            pending = (as_of, current, started)
+            handed = current.hand_over()
+        if pending is not None:
+            finish(pending, force, verbose, config, results)
+            pending = None
+    finally:
+        if pending is not None and pending[2] is not None:
+            pending[2].stop()
+    return results
+
+
+def render(assessment: Any, formats: Any) -> dict[str, bytes]:
+    """Every file of a round (in a worker: :func:`riskreport.report.outputs.files_for`)."""
+    from riskreport.report import outputs
+
+    return outputs.files_for(assessment, formats)
+
+
+def finish(
+    pending: tuple[str, Any, workers.Started | None],
+    force: bool,
+    verbose: bool,
+    config: Path,
+    results: list[dict[str, Any]],
+) -> bool:
+    """Switch a rendered round into its folder; whether it was written. A worker that
+    gave no files leaves the round to be rendered here (so its failure, if any, is told
+    as a build of its own would tell it)."""
+    from riskreport.commands import build as build_module
+
+    as_of, current, started = pending
+    outcome = started.outcome() if started is not None else None
+    made = outcome.value if outcome is not None and outcome.ok else None
+    formats = tuple(current.cfg.output.formats)
+
+    def files_of(assessment: Any) -> dict[str, bytes]:
+        if made is not None and assessment is current.assessment:
+            return made
+        return render(assessment, formats)
+
+    try:
+        summary = build_module.write(current, files_of, force)
+    except Exception as exc:  # one brief failing must not stop the others
+        if current.out_dir.is_dir():
+            current.run.failed(current.out_dir, exc)  # unless recorded under the lock
+        results.append(failure(config, as_of, exc, verbose))
+        return False
+    results.append(success(config, as_of, summary))
+    return True
 
 
 def batch(args: argparse.Namespace) -> dict[str, Any]:
@@ -111,8 +235,6 @@ def batch(args: argparse.Namespace) -> dict[str, Any]:
     configs = list(args.configs)
     results: list[dict[str, Any]] = []
     if args.jobs > 1 and len(configs) > 1:
-        from riskreport.processes import workers
-
         # Each config in its own short-lived worker (weasyprint's memory goes with it) that
         # stops with this process, after the round it is switching (riskreport.processes.workers).
         tasks = [
@@ -124,7 +246,9 @@ def batch(args: argparse.Namespace) -> dict[str, Any]:
     else:
         for config in configs:
             results.extend(
-                one_config(config, months, args.out, args.force, args.verbose, args.cache)
+                one_config(
+                    config, months, args.out, args.force, args.verbose, args.cache, jobs=args.jobs
+                )
             )
     worst = max(r["exit_code"] for r in results)
     return {

@@ -124,3 +124,47 @@ def _here(task: Callable[[], Any]) -> Outcome:
         return Outcome(True, task())
     except Exception as exc:
         return Outcome(False, None, f"{type(exc).__name__}: {exc}")
+
+
+@dataclass
+class Started:
+    """One task running in a worker started by :func:`start`."""
+
+    process: multiprocessing.process.BaseProcess | None
+    pipe: Connection | None
+    here: Outcome | None = None  # the outcome, when the task ran in this process
+
+    def outcome(self) -> Outcome:
+        """Wait for the task's outcome (the worker then ends)."""
+        if self.here is not None:
+            return self.here
+        assert self.process is not None
+        assert self.pipe is not None
+        try:
+            return _collect(self.process, self.pipe)
+        finally:
+            self.process = None
+
+    def stop(self) -> None:
+        """SIGTERM to the worker if it still runs, and wait for it."""
+        if self.process is not None and self.pipe is not None:
+            _stop_all([(self.process, self.pipe)])
+            self.process = None
+
+
+def start(task: Callable[[], Any]) -> Started:
+    """Run ``task`` in one worker (with the guarantees of :func:`run_each`) while this
+    process goes on; where fork is unavailable it runs here, now. The caller calls
+    :meth:`Started.outcome`, or :meth:`Started.stop` when it stops first (in a
+    ``finally``). Never start one while holding the output folder's lock: the worker
+    would hold it too."""
+    if "fork" not in multiprocessing.get_all_start_methods():
+        return Started(None, None, _here(task))
+    context = multiprocessing.get_context("fork")
+    receiver, sender = context.Pipe(duplex=False)
+    for stream in (sys.stdout, sys.stderr):  # not repeated by the child
+        stream.flush()
+    process = context.Process(target=_worker, args=(task, sender, os.getpid()), daemon=True)
+    process.start()
+    sender.close()
+    return Started(process, receiver)
