@@ -7,8 +7,13 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 import re
 import shutil
+import signal
+import subprocess
+import sys
+import time
 from pathlib import Path
 
 import pytest
@@ -16,6 +21,7 @@ import pytest
 from riskreport.commands import batch
 from riskreport.files import folder
 from riskreport.report import outputs
+from tests import test_batch_stop as stop_test
 from tests.conftest import DEMO
 
 MONTHS = ["2026-09", "2026-10", "2026-11"]
@@ -103,3 +109,47 @@ def test_a_failing_round_in_the_middle_fails_alone(
     last = json.loads((out / "assessment-2026-11.json").read_text("utf-8"))
     assert last["change"]["previous_as_of"] == "2026-09"
     assert files == separate
+
+
+@pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="needs the Linux process table")
+def test_a_stopped_pipelined_batch_leaves_no_worker_and_whole_rounds(tmp_path: Path) -> None:
+    config = _config(tmp_path / "demo")
+    out = config.parent / "out"
+    process = subprocess.Popen(
+        [
+            sys.executable,
+            "-m",
+            "riskreport",
+            "batch",
+            str(config),
+            "--months",
+            "2026-07..2026-11",
+            "--jobs",
+            "2",
+        ],
+        cwd=tmp_path,
+        env={**os.environ, "MPLBACKEND": "Agg"},
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+        start_new_session=True,
+    )
+    seen: set[int] = set()
+    try:
+        deadline = time.monotonic() + 600
+        while not folder.rounds(out):  # stop it once a round is written
+            assert process.poll() is None, process.communicate()
+            assert time.monotonic() < deadline, "the batch never wrote a round"
+            seen |= stop_test._children(process.pid)
+            time.sleep(0.1)
+        seen |= stop_test._children(process.pid)
+        process.send_signal(signal.SIGTERM)
+        _, stderr = process.communicate(timeout=300)
+    finally:
+        if process.poll() is None:
+            process.kill()
+    assert [pid for pid in seen if stop_test._alive(pid)] == []
+    assert process.returncode == 1, stderr
+    assert "stopped by SIGTERM" in stderr
+    assert "Traceback" not in stderr
+    assert 1 <= stop_test._whole(out) < 5  # stopped part-way, every round whole

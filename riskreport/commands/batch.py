@@ -210,7 +210,12 @@ def finish(
     from riskreport.commands import build as build_module
 
     as_of, current, started = pending
-    outcome = started.outcome() if started is not None else None
+    try:
+        outcome = started.outcome() if started is not None else None
+    except BaseException as exc:  # stopped while the worker rendered: said in the record
+        if current.out_dir.is_dir():
+            current.run.failed(current.out_dir, exc)
+        raise
     made = outcome.value if outcome is not None and outcome.ok else None
     formats = tuple(current.cfg.output.formats)
 

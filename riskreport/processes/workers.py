@@ -140,10 +140,9 @@ class Started:
             return self.here
         assert self.process is not None
         assert self.pipe is not None
-        try:
-            return _collect(self.process, self.pipe)
-        finally:
-            self.process = None
+        outcome = _collect(self.process, self.pipe)  # interrupted: stop() still stops it
+        self.process = None
+        return outcome
 
     def stop(self) -> None:
         """SIGTERM to the worker if it still runs, and wait for it."""
