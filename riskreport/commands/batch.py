@@ -6,6 +6,7 @@ import argparse
 import functools
 import sys
 import traceback
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -122,6 +123,16 @@ def failure(config: Path, as_of: str | None, exc: BaseException, verbose: bool) 
     return {"config": str(config), "as_of": as_of, "exit_code": code, **summary}
 
 
+@dataclass(frozen=True)
+class Pending:
+    """A round assessed and being rendered (by ``started``, or here when it is None)."""
+
+    index: int
+    as_of: str
+    current: Any  # riskreport.commands.build.Round
+    started: workers.Started | None
+
+
 def pipelined(
     config: Path,
     months: list[str],
@@ -133,61 +144,80 @@ def pipelined(
 ) -> list[dict[str, Any]]:
     """One config's rounds in period order, each handed to the next in memory (change,
     attribution and history from the previous assessment's JSON as it would be read from
-    its file), one replay cache for all; with ``jobs`` above 1 a worker renders round t
-    while this process assesses round t + 1, and this process switches each round into the
-    folder under its lock, in order. A round that fails fails alone: the next one is then
-    assessed from the folder, as a build of its own would be."""
+    its file), one replay cache for all.
+
+    With ``jobs`` above 1, up to ``jobs`` workers render the latest rounds while this
+    process assesses the next (an assessment that reuses the replay costs a fraction of a
+    render); this process switches each round into the folder under its lock, in order.
+    A round that fails fails alone: the rounds after it are assessed again from the folder
+    (what they were handed is not there), as builds of their own would be.
+    """
     from riskreport.commands import build as build_module
 
-    results: list[dict[str, Any]] = []
+    done: dict[int, dict[str, Any]] = {}
     handed: build_module.HandOver | None = None
     replays: Any = None
-    pending: tuple[str, build_module.Round, workers.Started | None] | None = None
+    pending: list[Pending] = []
+    bar = progress.Steps.start(len(months))
+    i = 0
 
-    def assess(as_of: str, given: build_module.HandOver | None) -> build_module.Round | None:
-        run = build_module.run_record("build", as_of)
-        try:
-            return build_module.assess_round(
-                config, out, as_of, run, cache=cache, replays=replays, handed=given, in_batch=True
-            )
-        except Exception as exc:  # one brief failing must not stop the others
-            results.append(failure(config, as_of, exc, verbose))
-            return None
+    def settle(keep: int) -> bool:
+        """Switch in the oldest rounds until ``keep`` are left; False when one failed and
+        the later ones were dropped to be assessed again."""
+        nonlocal i, handed
+        while len(pending) > keep:
+            ok, done[pending[0].index] = finish(pending[0], force, verbose, config)
+            pending.pop(0)  # only once finished: a stop meanwhile stops its worker too
+            if ok:
+                continue
+            handed = None  # the next round reads the folder
+            if pending:  # assessed from what the failed round handed over: again
+                workers.stop([p.started for p in pending if p.started is not None])
+                i = pending[0].index
+                pending.clear()
+                return False
+        return True
 
     try:
-        for as_of in progress.bar(months, config.name):
-            if pending is not None and handed is None:  # this round reads the folder
-                finish(pending, force, verbose, config, results)
-                pending = None
-            current = assess(as_of, handed)
-            if pending is not None:
-                written = finish(pending, force, verbose, config, results)
-                pending = None
-                if not written and current is not None and current.handed:
-                    current = assess(as_of, None)  # what it was handed is not in the folder
-            if current is None:
-                handed = None
+        while i < len(months):
+            as_of = months[i]
+            if pending and handed is None and not settle(0):  # this round reads the folder
+                continue
+            bar.step(f"{config.name} {as_of}")
+            run = build_module.run_record("build", as_of)
+            try:
+                current = build_module.assess_round(
+                    config,
+                    out,
+                    as_of,
+                    run,
+                    cache=cache,
+                    replays=replays,
+                    handed=handed,
+                    in_batch=True,
+                )
+            except Exception as exc:  # one brief failing must not stop the others
+                done[i] = failure(config, as_of, exc, verbose)
+                handed, i = None, i + 1
                 continue
             replays = current.replays
             if current.done is not None:  # an identical re-run: nothing to render
-                results.append(success(config, as_of, current.done))
-                handed = None
+                done[i] = success(config, as_of, current.done)
+                handed, i = None, i + 1
                 continue
             started = None
             if jobs > 1:
-                assert current.assessment is not None
                 started = workers.start(
-                    functools.partial(render, current.assessment, tuple(current.cfg.output.formats))
+                    functools.partial(render, current.assessment, current.cfg.output.formats)
                 )
-            pending = (as_of, current, started)
-            handed = current.hand_over()
-        if pending is not None:
-            finish(pending, force, verbose, config, results)
-            pending = None
+            pending.append(Pending(i, as_of, current, started))
+            handed, i = current.hand_over(), i + 1
+            settle(max(jobs - 1, 0))
+        settle(0)
     finally:
-        if pending is not None and pending[2] is not None:
-            pending[2].stop()
-    return results
+        workers.stop([p.started for p in pending if p.started is not None])
+        bar.close()
+    return [done[k] for k in sorted(done)]
 
 
 def render(assessment: Any, formats: Any) -> dict[str, bytes]:
@@ -198,18 +228,14 @@ def render(assessment: Any, formats: Any) -> dict[str, bytes]:
 
 
 def finish(
-    pending: tuple[str, Any, workers.Started | None],
-    force: bool,
-    verbose: bool,
-    config: Path,
-    results: list[dict[str, Any]],
-) -> bool:
-    """Switch a rendered round into its folder; whether it was written. A worker that
-    gave no files leaves the round to be rendered here (so its failure, if any, is told
-    as a build of its own would tell it)."""
+    pending: Pending, force: bool, verbose: bool, config: Path
+) -> tuple[bool, dict[str, Any]]:
+    """Switch a rendered round into its folder: whether it was written, and its result. A
+    worker that gave no files leaves the round to be rendered here (so its failure, if
+    any, is told as a build of its own would tell it)."""
     from riskreport.commands import build as build_module
 
-    as_of, current, started = pending
+    as_of, current, started = pending.as_of, pending.current, pending.started
     try:
         outcome = started.outcome() if started is not None else None
     except BaseException as exc:  # stopped while the worker rendered: said in the record
@@ -217,7 +243,7 @@ def finish(
             current.run.failed(current.out_dir, exc)
         raise
     made = outcome.value if outcome is not None and outcome.ok else None
-    formats = tuple(current.cfg.output.formats)
+    formats = current.cfg.output.formats
 
     def files_of(assessment: Any) -> dict[str, bytes]:
         if made is not None and assessment is current.assessment:
@@ -229,10 +255,8 @@ def finish(
     except Exception as exc:  # one brief failing must not stop the others
         if current.out_dir.is_dir():
             current.run.failed(current.out_dir, exc)  # unless recorded under the lock
-        results.append(failure(config, as_of, exc, verbose))
-        return False
-    results.append(success(config, as_of, summary))
-    return True
+        return False, failure(config, as_of, exc, verbose)
+    return True, success(config, as_of, summary)
 
 
 def batch(args: argparse.Namespace) -> dict[str, Any]:
