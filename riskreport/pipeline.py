@@ -83,9 +83,9 @@ def assess_config(
     notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]
     last: dict[str, Any] | None
     if previous is not None:
-        before = history_module.read_earlier(previous.parent, assessment.as_of)
         last = change_module.load(previous)  # named on the command line: bad input raises
         _check_earlier(previous, last["as_of"], cfg)
+        before = history_module.read_earlier(previous.parent, assessment.as_of)
     else:
         if earlier is None:
             earlier = history_module.read_earlier(search or cfg.output.directory, assessment.as_of)
