@@ -118,7 +118,8 @@ def _parser() -> argparse.ArgumentParser:
         "--jobs",
         type=_at_least_one,
         default=1,
-        help="configs built in parallel (periods of one config run in order)",
+        help="configs built in parallel; one config over --months: rounds rendered in parallel "
+        "while the next is assessed (written in order)",
     )
     batch.add_argument(
         "--out", type=Path, help="output folder (default: each config's [output] directory)"

@@ -10,6 +10,7 @@ import dataclasses
 import logging
 import threading
 import warnings
+from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -65,12 +66,15 @@ def assess_config(
     previous: Path | None = None,
     search: Path | None = None,
     cache: ReplayCache | None = None,
+    earlier: Sequence[history_module.Earlier] | None = None,
 ) -> Assessment:
     """Run the whole method on a validated configuration (see :func:`assess`).
 
     The change since the previous brief compares with ``previous`` (an assessment JSON) or
-    else with the latest earlier ``assessment-*.json`` in ``search`` (default: the config's
-    output directory). ``cache`` reuses past origins of the replay computed before.
+    else with the latest earlier round: ``earlier`` (the earlier rounds, latest first, as
+    ``batch`` hands them over in memory) or else the complete rounds in ``search`` (default:
+    the config's output directory). ``cache`` reuses past origins of the replay computed
+    before.
     """
     # warnings.catch_warnings swaps process-wide state: two assessments in two threads at
     # once would take each other's warnings, so one assessment runs at a time.
@@ -78,37 +82,33 @@ def assess_config(
         warnings.simplefilter("always", RiskReportWarning)
         assessment = _assess(cfg, cache)
     notes = [str(w.message) for w in caught if issubclass(w.category, RiskReportWarning)]
-    source = previous or change_module.find_previous(
-        search or cfg.output.directory, assessment.as_of
-    )
-    change = None
-    moved: tuple[attribution_module.AttributionRow, ...] = ()
-    if source is not None:
-        try:
-            earlier = change_module.load(source)
-        except InputError as exc:
-            if previous is not None:
-                raise  # named on the command line: bad input
+    last: dict[str, Any] | None
+    if previous is not None:
+        last = change_module.load(previous)  # named on the command line: bad input raises
+        _check_earlier(previous, last["as_of"], cfg)
+        before = history_module.read_earlier(previous.parent, assessment.as_of)
+    else:
+        if earlier is None:
+            earlier = history_module.read_earlier(search or cfg.output.directory, assessment.as_of)
+        before = tuple(earlier)
+        last = before[0].data if before else None
+        if before and last is None:
             # Found in the folder (e.g. beyond the JSON reader's limits, its manifest
             # fixed): skipped, as an incomplete round is.
-            label = source.stem.removeprefix("assessment-")
-            log.warning("the round %s cannot be read; not compared: %s", label, exc)
-            earlier = None
-        if earlier is not None and previous is not None:
-            _check_earlier(source, earlier["as_of"], cfg)
-        if earlier is not None:
-            change = change_module.compare(
-                earlier, [(r.period, change_module.side_of(r)) for r in assessment.horizons]
+            log.warning(
+                "the round %s cannot be read; not compared: %s", before[0].as_of, before[0].problem
             )
-            moved, note = _attribution(cfg, assessment, earlier)
-            notes.extend([note] if note else [])
+    change = None
+    moved: tuple[attribution_module.AttributionRow, ...] = ()
+    if last is not None:
+        change = change_module.compare(
+            last, [(r.period, change_module.side_of(r)) for r in assessment.horizons]
+        )
+        moved, note = _attribution(cfg, assessment, last)
+        notes.extend([note] if note else [])
     policy = assessment.policy
-    rounds = history_module.points(
-        previous.parent if previous is not None else search or cfg.output.directory,
-        assessment.as_of,
-        policy.period,
-        policy.h,
-        policy.p_inside,
+    rounds = history_module.points_in(
+        before, assessment.as_of, policy.period, policy.h, policy.p_inside
     )
     return dataclasses.replace(
         assessment,
@@ -116,9 +116,7 @@ def assess_config(
         change=change,
         attribution=moved,
         round_history=rounds,
-        year_history=_year_history(
-            cfg, assessment, previous.parent if previous is not None else search
-        ),
+        year_history=_year_history(cfg, assessment, before),
     )
 
 
@@ -155,18 +153,16 @@ def _attribution(
 
 
 def _year_history(
-    cfg: Config, assessment: Assessment, directory: Path | None
+    cfg: Config, assessment: Assessment, earlier: Sequence[history_module.Earlier]
 ) -> tuple[history_module.YearPoint, ...]:
     """P(inside) for the current calendar year (on the target's annual measure; the average
-    when the target is per period) across the rounds in the output folder."""
+    when the target is per period) across the earlier rounds."""
     year = periods.year_of(cfg.brief.as_of, cfg.brief.frequency)
     basis = "year-end" if cfg.target.basis == "year-end" else "calendar-year-average"
     now = next((r for r in assessment.annual if r.year == year and r.basis == basis), None)
     if now is None:
         return ()
-    return history_module.year_points(
-        directory or cfg.output.directory, assessment.as_of, year, basis, now.p_inside
-    )
+    return history_module.year_points(earlier, assessment.as_of, year, basis, now.p_inside)
 
 
 def _check_earlier(path: Path, text: str, cfg: Config) -> None:

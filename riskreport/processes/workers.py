@@ -40,9 +40,15 @@ class Outcome:
     error: str = ""
 
 
-def _worker(task: Callable[[], Any], pipe: Connection, parent: int) -> None:
+def _worker(
+    task: Callable[[], Any], pipe: Connection, parent: int, receiver: Connection | None = None
+) -> None:
     """Run ``task`` in the worker and send its outcome; a stop ends it quietly (a second
-    stop too: Ctrl-C reaches the worker, then the parent's SIGTERM)."""
+    stop too: Ctrl-C reaches the worker, then the parent's SIGTERM). The pipe's reading
+    end, inherited, is closed first: once the parent closes its own, a send fails at once
+    instead of waiting for ever for a reader."""
+    if receiver is not None:
+        receiver.close()
     parallel.die_with_parent(parent)
     try:
         try:
@@ -94,7 +100,7 @@ def run_each(tasks: Sequence[Callable[[], Any]], jobs: int) -> list[Outcome]:
                 for stream in (sys.stdout, sys.stderr):  # not repeated by the child
                     stream.flush()
                 process: multiprocessing.process.BaseProcess = context.Process(
-                    target=_worker, args=(task, sender, os.getpid()), daemon=True
+                    target=_worker, args=(task, sender, os.getpid(), receiver), daemon=True
                 )
                 process.start()
                 sender.close()
@@ -124,3 +130,51 @@ def _here(task: Callable[[], Any]) -> Outcome:
         return Outcome(True, task())
     except Exception as exc:
         return Outcome(False, None, f"{type(exc).__name__}: {exc}")
+
+
+@dataclass
+class Started:
+    """One task running in a worker started by :func:`start`."""
+
+    process: multiprocessing.process.BaseProcess | None
+    pipe: Connection | None
+    here: Outcome | None = None  # the outcome, when the task ran in this process
+
+    def outcome(self) -> Outcome:
+        """Wait for the task's outcome (the worker then ends)."""
+        if self.here is not None:
+            return self.here
+        assert self.process is not None
+        assert self.pipe is not None
+        outcome = _collect(self.process, self.pipe)  # interrupted: stop() still stops it
+        self.process = None
+        return outcome
+
+
+def stop(started: Sequence[Started]) -> None:
+    """SIGTERM to every one of these workers still running, then wait for each (all at
+    once: a worker may hold the pipe of one started before it, so waiting for that one
+    alone could wait for ever)."""
+    running = [s for s in started if s.process is not None and s.pipe is not None]
+    _stop_all([(s.process, s.pipe) for s in running])  # type: ignore[misc]
+    for s in running:
+        s.process = None
+
+
+def start(task: Callable[[], Any]) -> Started:
+    """Run ``task`` in one worker (with the guarantees of :func:`run_each`) while this
+    process goes on; where fork is unavailable it runs here, now. The caller calls
+    :meth:`Started.outcome`, or :func:`stop` when it stops first (in a ``finally``). Never start one while holding the output folder's lock: the worker
+    would hold it too."""
+    if "fork" not in multiprocessing.get_all_start_methods():
+        return Started(None, None, _here(task))
+    context = multiprocessing.get_context("fork")
+    receiver, sender = context.Pipe(duplex=False)
+    for stream in (sys.stdout, sys.stderr):  # not repeated by the child
+        stream.flush()
+    process = context.Process(
+        target=_worker, args=(task, sender, os.getpid(), receiver), daemon=True
+    )
+    process.start()
+    sender.close()
+    return Started(process, receiver)

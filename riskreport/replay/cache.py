@@ -262,6 +262,7 @@ class ReplayCache:
         if self.out_dir is None:
             return
         _write(self.out_dir, REPLAY_NAME, self._content())
+        self._generation += 1  # as if loaded again: ``batch`` keeps one cache for its rounds
 
     def replay_horizon(
         self,
@@ -369,17 +370,26 @@ class Pending:
 
 
 def build_key(
-    config: Path, as_of: str, inputs: Mapping[str, Path], previous: Path | None, formats: object
+    config: Path,
+    as_of: str,
+    inputs: Mapping[str, Path],
+    previous: Path | None,
+    formats: object,
+    previous_content: bytes | None = None,
 ) -> str:
     """A digest of everything a build's files are made from: the software, the config and
-    input files' contents, the round, the earlier brief compared with and the formats."""
+    input files' contents, the round, the earlier brief compared with and the formats.
+    ``previous_content`` is the earlier brief's content when it is known before its file
+    is written (``batch`` hands a round to the next in memory)."""
     digest = hashlib.sha256(fingerprint().encode())
     parts: list[tuple[str, Path | None]] = [("config", config), *inputs.items()]
     parts.append(("previous", previous))
     for role, path in parts:
         digest.update(f"\0{role}\0{path}\0".encode())
         if path is not None:
-            digest.update(hashlib.sha256(path.read_bytes()).digest())
+            known = previous_content if role == "previous" else None
+            content = known if known is not None else path.read_bytes()
+            digest.update(hashlib.sha256(content).digest())
     digest.update(f"\0as_of\0{as_of}\0formats\0{formats!r}".encode())
     return digest.hexdigest()
 

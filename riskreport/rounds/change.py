@@ -205,9 +205,23 @@ def load(path: Path) -> dict[str, Any]:
     """Read a previous assessment JSON; a broken file is an input error, not a crash (one
     beyond the JSON reader's size or nesting limit included: :mod:`riskreport.files.jsonfile`)."""
     try:
-        data = jsonfile.load(path)
+        with path.open("rb") as handle:  # the size is checked before the file is read whole
+            content = handle.read(jsonfile.MAX_BYTES + 1)
+    except OSError as exc:
+        raise InputError(
+            f"cannot read the previous brief's assessment ({exc})", file=path
+        ) from None
+    return parse(content, path)
+
+
+def parse(content: bytes, path: Path) -> dict[str, Any]:
+    """:func:`load` of a file's ``content``: how ``batch`` hands a round's assessment JSON to
+    the next round in memory, read exactly as its file would be (``path`` names it in
+    messages)."""
+    try:
+        data = jsonfile.parse(content)
         data["as_of"], data["horizons"]
-    except (OSError, ValueError, KeyError, TypeError) as exc:
+    except (ValueError, KeyError, TypeError) as exc:
         raise InputError(
             f"cannot read the previous brief's assessment ({exc})", file=path
         ) from None
