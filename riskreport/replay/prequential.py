@@ -194,17 +194,12 @@ def replay(
                     if c.spread != spread:
                         continue
                     shared = chosen if c.family in WINDOW_FAMILIES else fixed
-                    if cache is None:
-                        out[(c.label, h)] = calibration.replay_horizon(
-                            c.family,
-                            shared,
-                            mode=mode,
-                            scale=at,
-                            label=c.label,
-                            predictive=predictive,
+                    if cache is None or pending is None:
+                        # the same replay, through the cache when there is one
+                        replay = (
+                            calibration.replay_horizon if cache is None else cache.replay_horizon
                         )
-                    elif pending is None:
-                        out[(c.label, h)] = cache.replay_horizon(
+                        out[(c.label, h)] = replay(
                             c.family,
                             shared,
                             mode=mode,
