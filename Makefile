@@ -3,6 +3,8 @@ PYTHON ?= python3
 VENV ?= .venv
 BIN := $(VENV)/bin
 DEMO_OUT ?= out/demo
+# pytest-xdist workers: on 2 cores the suite takes about 4 minutes (6 on one worker)
+TEST_WORKERS ?= 2
 
 .PHONY: demo test lint bench install clean
 
@@ -30,7 +32,7 @@ lint: install
 	$(BIN)/mypy
 
 test: lint
-	$(BIN)/python -m pytest -q
+	$(BIN)/python -m pytest -q -n $(TEST_WORKERS)
 
 bench: install
 	$(BIN)/python bench/run.py

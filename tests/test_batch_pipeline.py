@@ -28,12 +28,17 @@ MONTHS = ["2026-09", "2026-10", "2026-11"]
 
 
 def _config(where: Path) -> Path:
-    """A copy of the demo's inputs writing JSON and CSV (quick) into ``where/out``."""
+    """A lighter copy of the demo writing JSON and CSV (quick) into ``where/out``."""
     shutil.copytree(DEMO, where, ignore=shutil.ignore_patterns("__pycache__", "*.py"))
     config = where / "config.toml"
     text = config.read_text("utf-8")
     text = re.sub(r"(?m)^directory = .*$", 'directory = "out"', text)
     text = re.sub(r"(?m)^formats = .*$", 'formats = ["json", "csv"]', text)
+    # Fewer horizons and draws than the demo: the rounds' handing-over is what is tested.
+    text = re.sub(r"(?m)^horizons = .*$", "horizons = 14", text)
+    text = re.sub(r"(?m)^policy_horizon = .*$", "policy_horizon = 12", text)
+    text = re.sub(r"(?m)^density_horizons = .*$", "density_horizons = [6, 12]", text)
+    text += "\n[uncertainty]\nbootstrap_replicates = 50\nsimulations = 1000\n"
     config.write_text(text, "utf-8")
     return config
 
