@@ -58,10 +58,10 @@ BEFORE = {
     "window": 120,
 }
 STEPS: tuple[tuple[str, dict[str, object]], ...] = (  # each step's gain and cost
-    ("constant normal law", {"predictive": "plug-in"}),
-    ("+ student-t predictive (= after)", {}),
-    ("  + spread ewma (option)", {"spread": "ewma"}),
-    ("  + spread auto (option)", {"spread": "auto"}),
+    ("constant normal law", {"predictive": "plug-in", "spread": "constant"}),
+    ("+ student-t predictive", {"spread": "constant"}),
+    ("  + spread pooled (= after)", {}),
+    ("  spread ewma alone (option)", {"spread": "ewma"}),
     ("  + recalibrate (option)", {"recalibrate": True}),
     ("  distribution auto (pool)", {"distribution": "auto"}),
     ("  best-past-score (hard choice)", {"distribution": "best-past-score"}),

@@ -92,10 +92,12 @@ class PoolWeight:
 
 @dataclass(frozen=True)
 class PoolRecord:
-    """The optimal prediction pool of ``distribution = "auto"`` as used today.
+    """The optimal prediction pool (``distribution = "auto"`` and/or ``spread = "auto"``) as
+    used today.
 
-    ``weights`` are today's (shrunk toward the normal law), ``optimal`` the weights that
-    maximise the past log score, ``prior_share`` the normal law's prior share in today's
+    ``weights`` are today's (shrunk toward the first candidate: the configured family, or
+    the normal law, under a constant spread), ``optimal`` the weights that maximise the past
+    log score, ``prior_share`` the first candidate's prior share in today's
     weights and ``effective_outcomes`` the record's effective number of scored outcomes
     (the JSON writes each weight list as one object, candidate -> weight).
     """

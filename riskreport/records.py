@@ -300,15 +300,17 @@ def adjustments(
         margins.outcome[cfg.brief.policy_horizon], band.lower, band.upper
     ).p_inside
     label = periods.label
+    shown = replayed.spread_shown()
     windows = replayed.windows.get(chosen.current.spread)
     window = cfg.uncertainty.window if replayed.window is None else replayed.window
     source, reason = adjustments_module.method_reason(cfg)
     return adjustments_module.Adjustments(
         spread_option=cfg.uncertainty.spread,
-        spread=chosen.current.spread.label,
-        volatility=dynamics.current(errors[:, : cfg.brief.horizons + 1], chosen.current.spread),
-        method=chosen.current.label if replayed.pool is None else pool_law.POOL_FAMILY,
-        runner_up=chosen.runner_up.label if chosen.runner_up else None,
+        spread=replayed.spread,
+        volatility=dynamics.current(errors[:, : cfg.brief.horizons + 1], shown),
+        method=replayed.method,
+        # A pool has no runner-up and no past choices: its weights are in the pool record.
+        runner_up=chosen.runner_up.label if chosen.runner_up and replayed.pool is None else None,
         graded=replayed.graded,
         choices=tuple(
             adjustments_module.MethodSpell(
@@ -317,6 +319,7 @@ def adjustments(
                 s.candidate,
             )
             for s in chosen.spells
+            if replayed.pool is None
         ),
         recalibrate=cfg.uncertainty.recalibrate,
         recalibration=recalibrated,
@@ -336,10 +339,7 @@ def adjustments(
             for s in windows.spells
         ),
         factors=tuple(
-            float(v)
-            for v in dynamics.factors(
-                errors[:, : cfg.brief.horizons + 1], chosen.current.spread, window
-            )
+            float(v) for v in dynamics.factors(errors[:, : cfg.brief.horizons + 1], shown, window)
         ),
         method_source=source,
         method_reason=reason,

@@ -144,12 +144,13 @@ def constant_forecast_world(
     policy_horizon: int = 0,
     centre: str = "estimated",
     predictive: str = "plug-in",
+    spread: str = "constant",
 ) -> Path:
     """A monthly world where every forecast is 2.0 and the outcome of period t is
     2.0 + errors[t]; the last len(errors) - 1 origins have a known outcome for h = 0 and the
     current round (origin len(errors) - 1) has none. Returns the config path. The method is
     pinned to the plain estimators the tests compare with references (the centre estimated,
-    the plug-in predictive), not the defaults."""
+    the plug-in predictive, the constant spread), not the defaults."""
     n = errors.size
     forecasts = ["origin,period,value"] + [
         f"{_label(24000 + o)},{_label(24000 + o + h)},2.0"
@@ -168,7 +169,7 @@ def constant_forecast_world(
         '[inputs]\nforecasts = "f.csv"\nactuals = "a.csv"\n'
         f"[target]\nlower = {band[0]}\nupper = {band[1]}\n"
         f'[uncertainty]\ndistribution = "{distribution}"\nwindow = {window}\n'
-        f'centre = "{centre}"\npredictive = "{predictive}"\n'
+        f'centre = "{centre}"\npredictive = "{predictive}"\nspread = "{spread}"\n'
         "bootstrap_replicates = 100\nsimulations = 1000\n"
     )
     return config

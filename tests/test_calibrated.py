@@ -278,6 +278,44 @@ def test_window_and_joint_spread_reach_the_json_and_the_words(tmp_path: Path) ->
     assert any("every past error" in n for n in names)
 
 
+def test_a_pooled_spread_is_named_a_pool_in_the_json_and_the_words(tmp_path: Path) -> None:
+    from riskreport.report.sections import method
+
+    errors = _garch_errors(200, 0.9, 4)
+    path = constant_forecast_world(tmp_path, errors, horizons=2, window=60, spread="auto")
+    result = assess_config(
+        config_reader.load(path).replaced("uncertainty", distribution="normal"),
+        search=tmp_path / "none",
+    )
+    adj = result.adjustments
+    pool = result.uncertainty.pool
+    assert adj is not None
+    assert pool is not None
+    # Today's law is the pool, not one of its members: no runner-up, no past choices.
+    assert (adj.method, adj.spread, adj.verdict.method, adj.verdict.spread) == ("pool",) * 4
+    assert adj.runner_up is None
+    assert adj.choices == ()
+    labels = [w.candidate for w in pool.weights]
+    assert labels == [
+        "normal",
+        "normal, ewma 0.8",
+        "normal, ewma 0.9",
+        "normal, ewma 0.95",
+        "normal, joint",
+    ]
+    assert sum(w.weight for w in pool.weights) == pytest.approx(1.0)
+    record = json.loads(result.to_json())["adjustments"]
+    assert record["spread"] == "pool"
+    # On errors whose size follows a RiskMetrics EWMA, the moving spreads earn weight.
+    constant = pool.weights[0].weight
+    assert constant < 0.9
+    words = " ".join(method.adjustment_text(result))
+    assert "its spread pooled" in words
+    assert f"a constant spread (weight {constant:.2f} today)" in words
+    assert f"({1 - constant:.2f} together)" in words
+    assert "were tried, but the constant" not in words
+
+
 def test_joint_spread_option_and_window_choice_are_validated(tmp_path: Path) -> None:
     path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1)
     text = path.read_text()

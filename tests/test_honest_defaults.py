@@ -216,7 +216,7 @@ def test_a_config_without_uncertainty_gets_the_default_method(
     tmp_path: Path, frequency: str, as_of: str, window: int
 ) -> None:
     # Ten years' worth of rounds at either frequency (common practice, no source), the
-    # normal law centred on the forecast with its Student t predictive.
+    # normal law centred on the forecast with its Student t predictive, its spread pooled.
     (tmp_path / "f.csv").write_text("origin,period,value\n")
     (tmp_path / "a.csv").write_text("period,value\n")
     path = tmp_path / "c.toml"
@@ -229,7 +229,7 @@ def test_a_config_without_uncertainty_gets_the_default_method(
         "normal",
         "forecast",
         "student-t",
-        "constant",
+        "auto",
         False,
     )
     assert u.window == window

@@ -115,7 +115,8 @@ def null_world(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 def _assess(path: Path, distribution: str):  # type: ignore[no-untyped-def]
     base = path.read_text().split("distribution")[0]
-    path.write_text(base + f'distribution = "{distribution}"\n')
+    # The families pooled under one constant spread (the default pools spreads too).
+    path.write_text(base + f'distribution = "{distribution}"\nspread = "constant"\n')
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         return assess_config(config_reader.load(path), search=path.parent / "none")

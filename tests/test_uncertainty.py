@@ -126,7 +126,11 @@ def test_annual_results_in_the_assessment(case: Case) -> None:
 
 @pytest.mark.parametrize("family", ["two-piece-normal", "skew-normal", "empirical"])
 def test_families_through_the_whole_pipeline(case: Case, family: str) -> None:
-    case.config = case.config.replace('distribution = "normal"', f'distribution = "{family}"')
+    # The spread pinned constant: by default a family with a time-varying spread option
+    # (the two-piece normal) is pooled over its spreads, and the horizon's law is the pool.
+    case.config = case.config.replace(
+        'distribution = "normal"', f'distribution = "{family}"\nspread = "constant"'
+    )
     a = riskreport.assess(case.write())
     for r in a.horizons:
         assert r.distribution == family

@@ -20,7 +20,7 @@ import numpy as np
 from riskreport._typing import FAMILIES
 from riskreport.laws import dynamics, probabilities
 from riskreport.laws.distributions import Distribution
-from riskreport.laws.pool import Member
+from riskreport.laws.pool import POOL_FAMILY, Member
 from riskreport.reading.config import Config
 from riskreport.reading.inputs import ErrorQuantiles
 from riskreport.reading.panel import Panel
@@ -58,8 +58,9 @@ class Replays:
         The label of the constant normal law over the configured window (the verdict's
         benchmark).
     pool
-        With ``distribution = "auto"``: the optimal prediction pool's weights (the ``auto``
-        replay is then the pool, :mod:`riskreport.replay.pool`).
+        With ``distribution = "auto"`` or ``spread = "auto"`` (more than one candidate, not
+        ``best-past-score``): the optimal prediction pool's weights (the ``auto`` replay is
+        then the pool, :mod:`riskreport.replay.pool`).
     """
 
     runs: dict[tuple[str, int], HorizonReplay]
@@ -86,6 +87,35 @@ class Replays:
             )
             out.append(Member(c.label, c.family, c.spread, window, w))
         return out
+
+    @property
+    def pools_spreads(self) -> bool:
+        """Whether today's law pools several spread options (``spread = "auto"``)."""
+        return self.pool is not None and len({c.spread for c in self.candidates}) > 1
+
+    def spread_shown(self) -> dynamics.SpreadOption:
+        """The spread option whose volatility and factors the record shows: today's choice,
+        or with a pooled spread the time-varying member with the most weight today (the
+        pool's other members are in its weights)."""
+        current = self.selection.current
+        if not self.pools_spreads or self.pool is None:
+            return current.spread
+        moving = [
+            (w, k)
+            for k, (c, w) in enumerate(zip(self.candidates, self.pool.current, strict=True))
+            if c.spread.kind != "constant"
+        ]
+        return self.candidates[max(moving)[1]].spread if moving else current.spread
+
+    @property
+    def method(self) -> str:
+        """Today's method: the chosen candidate's label, or ``pool``."""
+        return self.selection.current.label if self.pool is None else POOL_FAMILY
+
+    @property
+    def spread(self) -> str:
+        """Today's spread: the chosen candidate's, or ``pool`` when spreads are pooled."""
+        return POOL_FAMILY if self.pools_spreads else self.selection.current.spread.label
 
     @property
     def window(self) -> int | None:
@@ -177,7 +207,9 @@ def replays(
     graded = candidates[0].label
     weights = None
     if len(candidates) > 1:
-        if cfg.uncertainty.distribution == "auto":
+        # Combine, don't switch: several families (``auto``) or spread options
+        # (``spread = "auto"``) are pooled; ``best-past-score`` is the old hard choice.
+        if cfg.uncertainty.distribution != "best-past-score":
             weights = pool.learn(runs, [c.label for c in candidates], panel.origins.size)
             sequence = pool.pooled_sequence(runs, weights)
         else:
@@ -447,7 +479,6 @@ def verdict(result: Replays) -> Verdict:
     """The graded method's coverage gaps and log score beside the constant normal law's."""
     gap_50, gap_90, log_score = _gaps(result, result.graded)
     base_50, base_90, base_log = _gaps(result, result.baseline)
-    current = result.selection.current
     cover = {
         h: float(np.mean(np.abs(r.pit - 0.5) <= 0.45))
         for (lab, h), r in result.runs.items()
@@ -455,8 +486,8 @@ def verdict(result: Replays) -> Verdict:
     }
     worst = max(sorted(cover), key=lambda h: abs(cover[h] - 0.9), default=-1)
     return Verdict(
-        current.label,
-        current.spread.label,
+        result.method,
+        result.spread,
         result.graded == recalibration.LABEL,
         gap_50,
         gap_90,

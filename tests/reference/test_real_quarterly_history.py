@@ -112,7 +112,10 @@ def _config(
     forecasts: str = "forecasts.csv",
     centre: str = "estimated",
     predictive: str = "plug-in",
+    spread: str = "constant",
 ) -> Path:
+    # The spread is pinned constant (the default pools it with spreads that follow recent
+    # errors), so that the checks below can recompute the law from the window by hand.
     path = history.folder / f"{name}.toml"
     path.write_text(
         f"""[brief]
@@ -137,6 +140,7 @@ distribution = "{family}"
 window = {WINDOW}
 centre = "{centre}"
 predictive = "{predictive}"
+spread = "{spread}"
 monotone = false
 bootstrap_replicates = 50
 simulations = 4000

@@ -7,6 +7,7 @@ import math
 from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
+from riskreport.laws.pool import POOL_FAMILY
 from riskreport.reading import periods
 from riskreport.replay.adjustments import Adjustments, SensitivityRow
 from riskreport.report import formatting as fmt
@@ -16,6 +17,7 @@ from riskreport.report.sections.common import (
     Facts,
     KeyValue,
     Table,
+    method_was_chosen,
     scale_of,
     span,
     todays_law_is_baseline,
@@ -68,17 +70,24 @@ def basis_text(a: Assessment) -> str:
     return f"year end: the rate of {last}, from the joint paths; {known}"
 
 
+# Pool weights below this are summed up rather than listed (they round to 0.00).
+LISTED_WEIGHT = 0.005
+
+
 def pool_text(a: Assessment) -> str:
     """The pool's weights in words (empty without a pool)."""
     pool = a.uncertainty.pool
     if pool is None:
         return ""
-    weights = ", ".join(
-        f"{FAMILY_NAMES.get(w.candidate, w.candidate)} {w.weight:.2f}" for w in pool.weights
-    )
+    listed = [w for w in pool.weights if w.weight >= LISTED_WEIGHT]
+    rest = len(pool.weights) - len(listed)
+    weights = "; ".join(f"{_method_name(w.candidate)} {w.weight:.2f}" for w in listed)
+    if rest:
+        weights += f"; {rest} other{'s' if rest > 1 else ''} 0.00"
     return (
-        f"weights {weights}: those that maximise the past log score, shrunk toward the normal "
-        f"law by {pool.prior_share:.2f} on {pool.effective_outcomes:.0f} effective scored outcomes"
+        f"weights {weights}: those that maximise the past log score, shrunk toward "
+        f"{_method_name(pool.weights[0].candidate)} by {pool.prior_share:.2f} on "
+        f"{pool.effective_outcomes:.0f} effective scored outcomes"
     )
 
 
@@ -398,7 +407,25 @@ def sensitivity_caption(a: Assessment) -> str:
     )
 
 
-def _spread_sentence(adj: Adjustments) -> str:
+def _pooled_spread_sentence(a: Assessment) -> str:
+    """The pooled spread in words: the constant spread's weight against the others'."""
+    pool = a.uncertainty.pool
+    constant = (
+        sum(w.weight for w in pool.weights if ", " not in w.candidate) if pool is not None else 1.0
+    )
+    return (
+        "The spread is pooled: a constant spread (weight "
+        f"{constant:.2f} today) with spreads that follow the size of recent errors and one "
+        f"estimated jointly across horizons ({1 - constant:.2f} together), each weighted by "
+        "the log score it earned on the rounds already scored at each past round and shrunk "
+        "toward the constant spread while the record is short; a spread that moves gains "
+        "weight only where the record shows the size of errors changing."
+    )
+
+
+def _spread_sentence(a: Assessment, adj: Adjustments) -> str:
+    if adj.spread == POOL_FAMILY:
+        return _pooled_spread_sentence(a)
     if adj.spread == "constant":
         if adj.spread_option == "constant":
             return "The spread of errors is taken as constant over the error window."
@@ -439,6 +466,20 @@ def _window_sentence(adj: Adjustments) -> str | None:
     )
 
 
+def _todays_method(a: Assessment, adj: Adjustments) -> str:
+    """Today's law in words: the chosen method, or what the pool combines."""
+    pool = a.uncertainty.pool
+    if adj.method != POOL_FAMILY or pool is None:
+        return _method_name(adj.method)
+    families = {w.candidate.partition(", ")[0] for w in pool.weights}
+    if len(families) == 1:
+        family = NAMES.get(next(iter(families)), next(iter(families)))
+        return f"the {family} law, its spread pooled over a constant spread and spreads that move over time"
+    if adj.spread == POOL_FAMILY:
+        return "an optimal prediction pool of the laws under each spread option"
+    return f"an optimal prediction pool of the laws, {_spread_words(adj.spread)}"
+
+
 def _source_sentence(a: Assessment, adj: Adjustments) -> str:
     """Which method ran and why: the default, or what the config set."""
     t = (
@@ -451,7 +492,7 @@ def _source_sentence(a: Assessment, adj: Adjustments) -> str:
         if a.uncertainty.centre == "forecast"
         else "centred on the forecast plus the window's mean error"
     )
-    what = f"{_method_name(adj.method)}, {centre}{t}"
+    what = f"{_todays_method(a, adj)}, {centre}{t}"
     if adj.method_source == "defaults":
         return (
             f"Method: the default ({what}); of the methods offered it is the one whose "
@@ -467,7 +508,7 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
     if adj is None:
         return ()
     v = adj.verdict
-    lines = [_source_sentence(a, adj), _spread_sentence(adj)]
+    lines = [_source_sentence(a, adj), _spread_sentence(a, adj)]
     window = _window_sentence(adj)
     if window is not None:
         lines.append(window)
@@ -506,12 +547,7 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         f"against {fmt.number(v.baseline_log_score, 2)} for the constant normal law (higher "
         "is better)."
     )
-    chose = (
-        a.uncertainty.distribution in ("auto", "best-past-score")
-        or adj.spread_option != "constant"
-        or adj.recalibrate
-    )
-    if chose and v.against_baseline != "better":
+    if method_was_chosen(a) and v.against_baseline != "better":
         if todays_law_is_baseline(a):
             lines.append(
                 f"By that score, choosing the method afresh at each past round did "
