@@ -39,7 +39,7 @@ from riskreport.reading.config import Config
 from riskreport.reading.inputs import read_actuals, read_error_quantiles, read_forecasts
 from riskreport.reading.panel import window_mask
 from riskreport.replay import adjustments as adjustments_module
-from riskreport.replay import calibration, selection, situations
+from riskreport.replay import calibration, replays, selection, situations
 from riskreport.replay.cache import ReplayCache
 from riskreport.rounds import attribution as attribution_module
 from riskreport.rounds import change as change_module
@@ -251,7 +251,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     point = combo.combined[-1, : cfg.brief.horizons + 1]
     screening.require_current(cfg, point, act)
     errors = error_matrix(combo.combined, panel.outcomes)
-    replayed = adjustments_module.replays(cfg, panel, combo.combined, errors, cache=cache)
+    replayed = replays.replays(cfg, panel, combo.combined, errors, cache=cache)
     runs = replayed.runs
     today = replayed.selection.current
     totals = adjustments_module.family_totals(replayed)

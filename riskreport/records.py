@@ -49,6 +49,7 @@ from riskreport.reading.inputs import Actuals, ErrorQuantiles, Forecasts
 from riskreport.reading.panel import Panel
 from riskreport.replay import adjustments as adjustments_module
 from riskreport.replay.pool import PoolWeights
+from riskreport.replay.replays import Replays
 from riskreport.rounds import change as change_module
 
 HISTORY_YEARS = 6  # years of outcomes shown before the forecast in the outlook chart
@@ -287,7 +288,7 @@ def uncertainty(
 
 def adjustments(
     cfg: Config,
-    replayed: adjustments_module.Replays,
+    replayed: Replays,
     errors: np.ndarray,
     margins: Margins,
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...],

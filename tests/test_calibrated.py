@@ -18,18 +18,18 @@ from riskreport.laws import dynamics
 from riskreport.pipeline import assess_config
 from riskreport.reading import config, config_reader, panel
 from riskreport.reading.inputs import read_actuals, read_forecasts
-from riskreport.replay import adjustments, calibration, prequential, recalibration
+from riskreport.replay import calibration, prequential, recalibration, replays
 from tests.conftest import constant_forecast_world
 
 
-def _setup(path: Path, **options: object) -> tuple[config.Config, adjustments.Replays, np.ndarray]:
+def _setup(path: Path, **options: object) -> tuple[config.Config, replays.Replays, np.ndarray]:
     cfg = config_reader.load(path).replaced("uncertainty", **options)
     fc = read_forecasts(cfg.inputs.forecasts, cfg.brief.frequency, cfg.brief.as_of)
     act = read_actuals(cfg.inputs.actuals, cfg.brief.frequency)
     built = panel.build(fc, act, as_of=cfg.brief.as_of, max_h=cfg.brief.horizons)
     combo = combination.combine("given", built, window=0)
     errors = error_matrix(combo.combined, built.outcomes)
-    return cfg, adjustments.replays(cfg, built, combo.combined, errors), errors
+    return cfg, replays.replays(cfg, built, combo.combined, errors), errors
 
 
 def _garch_errors(n: int, smoothing: float, seed: int) -> np.ndarray:
@@ -191,10 +191,7 @@ def test_raw_and_recalibrated_probabilities_are_both_reported(tmp_path: Path) ->
 
 
 def test_unknown_spread_option_is_refused_with_the_key_named(tmp_path: Path) -> None:
-    path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1)
-    path.write_text(
-        path.read_text().replace("[uncertainty]\n", '[uncertainty]\nspread = "garch"\n')
-    )
+    path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1, spread="garch")
     with pytest.raises(InputError, match="spread"):
         config_reader.load(path)
 
@@ -253,7 +250,7 @@ def test_windowed_training_matches_the_fixed_window_samples(rng: np.random.Gener
 
 
 def test_window_and_joint_spread_reach_the_json_and_the_words(tmp_path: Path) -> None:
-    from riskreport.report.sections import method
+    from riskreport.report.sections import method_choice
 
     errors = _garch_errors(200, 0.9, 4)
     path = constant_forecast_world(tmp_path, errors, horizons=2, window=60)
@@ -271,15 +268,15 @@ def test_window_and_joint_spread_reach_the_json_and_the_words(tmp_path: Path) ->
     assert record["window"] == adj.window
     assert len(record["factors"]) == 3
     assert {row["window"] for row in record["sensitivity"]} >= {60, 30, 0}
-    words = " ".join(method.adjustment_text(result))
+    words = " ".join(method_choice.adjustment_text(result))
     assert "estimated jointly" in words
     assert "error window was chosen" in words
-    names = [line.method for line in method.sensitivity_lines(result)]
+    names = [line.method for line in method_choice.sensitivity_lines(result)]
     assert any("every past error" in n for n in names)
 
 
 def test_a_pooled_spread_is_named_a_pool_in_the_json_and_the_words(tmp_path: Path) -> None:
-    from riskreport.report.sections import method
+    from riskreport.report.sections import method_choice
 
     errors = _garch_errors(200, 0.9, 4)
     path = constant_forecast_world(tmp_path, errors, horizons=2, window=60, spread="auto")
@@ -309,7 +306,7 @@ def test_a_pooled_spread_is_named_a_pool_in_the_json_and_the_words(tmp_path: Pat
     # On errors whose size follows a RiskMetrics EWMA, the moving spreads earn weight.
     constant = pool.weights[0].weight
     assert constant < 0.9
-    words = " ".join(method.adjustment_text(result))
+    words = " ".join(method_choice.adjustment_text(result))
     assert "its spread pooled" in words
     assert f"a constant spread (weight {constant:.2f} today)" in words
     assert f"({1 - constant:.2f} together)" in words
@@ -317,14 +314,12 @@ def test_a_pooled_spread_is_named_a_pool_in_the_json_and_the_words(tmp_path: Pat
 
 
 def test_joint_spread_option_and_window_choice_are_validated(tmp_path: Path) -> None:
-    path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1)
+    path = constant_forecast_world(tmp_path, np.zeros(30) + 0.1, spread="joint")
     text = path.read_text()
-    path.write_text(text.replace("[uncertainty]\n", '[uncertainty]\nspread = "joint"\n'))
     assert config_reader.load(path).uncertainty.spread == "joint"
     path.write_text(text.replace("[uncertainty]\n", '[uncertainty]\nwindow_choice = "best"\n'))
     with pytest.raises(InputError, match="window_choice"):
         config_reader.load(path)
-    skew = text.replace('distribution = "normal"', 'distribution = "skew-normal"')
-    path.write_text(skew.replace("[uncertainty]\n", '[uncertainty]\nspread = "joint"\n'))
+    path.write_text(text.replace('distribution = "normal"', 'distribution = "skew-normal"'))
     with pytest.raises(InputError, match="joint"):
         config_reader.load(path)
