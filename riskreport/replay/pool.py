@@ -45,6 +45,7 @@ PRIOR_OUTCOMES = 60.0
 UPDATES = 60
 OPTIMISER_ITERATIONS = 200
 OPTIMISER_TOLERANCE = 1e-12
+NEGLIGIBLE = 1e-9  # weights below this are the optimiser's zeros
 
 
 @dataclass(frozen=True)
@@ -122,6 +123,7 @@ def optimal_weights(
         options={"ftol": OPTIMISER_TOLERANCE, "maxiter": OPTIMISER_ITERATIONS},
     )
     w = np.clip(result.x, 0.0, None)
+    w[w < NEGLIGIBLE] = 0.0  # SLSQP's round-off of a zero weight (1e-18): the member goes
     return np.asarray(w / w.sum())
 
 
