@@ -311,6 +311,10 @@ def test_a_pooled_spread_is_named_a_pool_in_the_json_and_the_words(tmp_path: Pat
     assert f"a constant spread (weight {constant:.2f} today)" in words
     assert f"({1 - constant:.2f} together)" in words
     assert "were tried, but the constant" not in words
+    # The panel marks the pool's row as today's law and no member of it.
+    marks = [line.chosen for line in method_choice.sensitivity_lines(result)]
+    assert marks[-1] == "used, graded"
+    assert all(m == "" for m in marks[:-1])
 
 
 def test_joint_spread_option_and_window_choice_are_validated(tmp_path: Path) -> None:

@@ -205,7 +205,11 @@ def sensitivity(
                 p.p_inside,
                 log_score,
                 coverage,
-                candidate == current and window == today and label == candidate.label,
+                # With a pool no single member is today's law: the pool's row is.
+                result.pool is None
+                and candidate == current
+                and window == today
+                and label == candidate.label,
                 window,
                 fixed,
             )

@@ -72,13 +72,15 @@ def _row_name(row: SensitivityRow, a: Assessment) -> str:
     return name
 
 
-def _today(row: SensitivityRow) -> str:
+def _today(row: SensitivityRow, pooled: bool) -> str:
     """The panel's last column: today's method is "used"; the sequence of past choices,
     whose record the brief reports, is "graded" (two rows marked "used" read as two
-    methods in use)."""
+    methods in use). With a pool, the pool's row is both today's law and the record."""
     if not row.chosen:
         return ""
-    return "graded" if row.family == "as selected" else "used"
+    if row.family == "as selected":
+        return "used, graded" if pooled else "graded"
+    return "used"
 
 
 def _score(value: float) -> str:
@@ -100,7 +102,7 @@ def sensitivity_lines(a: Assessment) -> tuple[SensitivityLine, ...]:
             fmt.single_percent(r.p_inside),
             _score(r.log_score),
             _share(r.coverage_90),
-            _today(r),
+            _today(r, a.uncertainty.pool is not None),
         )
         for r in adj.sensitivity
     )
