@@ -114,7 +114,7 @@ def sensitivity_caption(a: Assessment) -> str:
         f"Chance of being inside the band in {a.policy.period} ({a.policy_horizon} {units(a)} ahead) under "
         "each method, before any judgement, with that method's past record at this horizon "
         "(mean log score: higher is better; how often its 90% range held the outcome). "
-        "Used: today's method; graded: the method of each past round as it was chosen then, "
+        "Used: today's law; graded: the method of each past round as it was chosen or pooled then, "
         "the record this brief reports"
     )
 
