@@ -140,6 +140,11 @@ class OutcomeGapWarning(RiskReportWarning):
     """The outcome series has no value for some periods between its first and last."""
 
 
+class ForecastBiasWarning(RiskReportWarning):
+    """With the centre on the point forecast, the past errors' mean is far from zero: more
+    than a tenth of the target band's width and more than twice its standard error."""
+
+
 class CentreCorrectionWarning(RiskReportWarning):
     """The error law's estimated centre moves the outcome's centre off the point forecast
     by more than a tenth of the target band's width."""

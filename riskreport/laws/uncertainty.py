@@ -19,9 +19,11 @@ from riskreport._typing import Family
 from riskreport.errors import (
     BoundaryFitWarning,
     CentreCorrectionWarning,
+    ForecastBiasWarning,
     InputError,
     SmallSampleWarning,
 )
+from riskreport.forecasts.overlap import effective_sample_size
 from riskreport.laws import distributions, dynamics, predictive
 from riskreport.laws.distributions import GIVEN_FAMILY, Distribution
 from riskreport.reading import periods
@@ -150,6 +152,42 @@ def _warn_centre(cfg: Config, fits: list[Distribution], given: Collection[int]) 
         )
 
 
+# A mean error beyond this many standard errors (on the record's independent outcomes) is
+# read as a bias, not chance (common practice, no source: about a two-sided 5% test).
+BIAS_SE = 2.0
+
+
+def _warn_bias(cfg: Config, columns: list[np.ndarray], given: Collection[int]) -> None:
+    """With ``centre = "forecast"``, warn where the window's mean error is larger than
+    CENTRE_SHARE of the band's width and than BIAS_SE standard errors, the standard error
+    counted on the effective number of independent outcomes among overlapping errors: the
+    published centre then ignores a bias the record shows."""
+    biased: list[int] = []
+    largest = 0.0
+    for h, column in enumerate(columns):
+        if h in given or column.size < 2:
+            continue
+        band = cfg.band_for(cfg.brief.as_of + h)
+        mean = float(np.mean(column))
+        n_eff = effective_sample_size(column.size, steps_ahead(h))
+        se = float(np.std(column, ddof=1)) / np.sqrt(max(n_eff, 1.0))
+        if abs(mean) > CENTRE_SHARE * (band.upper - band.lower) and abs(mean) > BIAS_SE * se:
+            biased.append(h)
+            largest = mean if abs(mean) > abs(largest) else largest
+    if biased:
+        side = "above" if largest > 0 else "below"
+        warnings.warn(
+            f"The past errors at horizons {periods.ranges(biased)} averaged up to "
+            f"{largest:+.2f} pp over the error window (outcomes {side} the forecast): more "
+            "than a tenth of the band's width and more than chance gives on the record's "
+            'independent outcomes. The centre is the point forecast (centre = "forecast"), '
+            "so the probabilities do not correct for this bias; read them with it in mind, "
+            'or set centre = "estimated" to add the window\'s mean error.',
+            ForecastBiasWarning,
+            stacklevel=3,
+        )
+
+
 def build(
     cfg: Config,
     errors: np.ndarray,
@@ -175,6 +213,7 @@ def build(
     """
     mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
     errors = errors[:, : cfg.brief.horizons + 1]
+    raw = errors
     today = dynamics.factors(errors, spread, cfg.uncertainty.window)  # per horizon
     errors, _ = dynamics.standardise(errors, spread)
     mask = window_mask(errors, cfg.uncertainty.window)
@@ -260,6 +299,8 @@ def build(
         )
     if mode is None:
         _warn_centre(cfg, fits, given_h)
+    else:
+        _warn_bias(cfg, [raw[mask[:, h], h] for h in range(raw.shape[1])], given_h)
     if cfg.uncertainty.monotone:
         fits = _monotone(fits, set(given_h) & set(range(cfg.brief.horizons + 1)))
     shown_given = sorted(h for h in given_h if h <= cfg.brief.horizons)
