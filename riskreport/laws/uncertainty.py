@@ -302,8 +302,8 @@ def build(
     else:
         # The raw errors' own window (not the standardised ones'): one bias, whatever the
         # spread option, so a pool's members say it once.
-        known = window_mask(raw, cfg.uncertainty.window)
-        _warn_bias(cfg, [raw[known[:, h], h] for h in range(raw.shape[1])], given_h)
+        in_window = window_mask(raw, cfg.uncertainty.window)
+        _warn_bias(cfg, [raw[in_window[:, h], h] for h in range(raw.shape[1])], given_h)
     if cfg.uncertainty.monotone:
         fits = _monotone(fits, set(given_h) & set(range(cfg.brief.horizons + 1)))
     shown_given = sorted(h for h in given_h if h <= cfg.brief.horizons)
