@@ -9,7 +9,7 @@ from typing import Literal, get_args
 
 Frequency = Literal["monthly", "quarterly"]
 Basis = Literal["period", "calendar-year-average", "year-end"]
-Centre = Literal["estimated", "forecast"]
+Centre = Literal["estimated", "forecast", "auto"]
 Family = Literal["normal", "two-piece-normal", "skew-normal", "empirical"]
 SpreadKind = Literal["constant", "ewma", "joint"]
 SpreadChoice = Literal["constant", "ewma", "joint", "auto"]

@@ -99,13 +99,18 @@ class PoolRecord:
     the normal law, under a constant spread), ``optimal`` the weights that maximise the past
     log score, ``prior_share`` the first candidate's prior share in today's
     weights and ``effective_outcomes`` the record's effective number of scored outcomes
-    (the JSON writes each weight list as one object, candidate -> weight).
+    (the JSON writes each weight list as one object, candidate -> weight). With
+    ``centre = "auto"`` the pool is nested (the uncorrected laws' pool and the corrected
+    laws' pools, pooled): ``prior_share`` is then that of the uncorrected laws' pool and
+    ``correction_prior_share`` the uncorrected pool's share in the pool of pools from
+    shrinkage (None otherwise).
     """
 
     weights: tuple[PoolWeight, ...] = field(metadata=json_key(keyed=("candidate", "weight")))
     optimal: tuple[PoolWeight, ...] = field(metadata=json_key(keyed=("candidate", "weight")))
     prior_share: float
     effective_outcomes: float
+    correction_prior_share: float | None = None
 
 
 @dataclass(frozen=True)

@@ -268,7 +268,9 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     family = today.family
     window = replayed.window
     if replayed.pool is not None:  # distribution = "auto": the optimal prediction pool
-        margins = pool_law.build(cfg, errors, point, given, replayed.members())
+        margins = pool_law.build(
+            cfg, errors, point, given, replayed.members(), replayed.corrections
+        )
     else:
         margins = uncertainty.build(
             cfg if window is None else cfg.replaced("uncertainty", window=window),
@@ -278,6 +280,15 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             family=family,
             choice=choice,
             spread=today.spread,
+            correction=replayed.correction(today),
+        )
+    correction_today = replayed.applied_correction()
+    if correction_today is not None:  # centre = "auto": what the learned correction does today
+        uncertainty.warn_bias(
+            cfg,
+            errors[:, : cfg.brief.horizons + 1],
+            correction_today[: cfg.brief.horizons + 1],
+            {h for h, f in enumerate(margins.families) if f == GIVEN_FAMILY},
         )
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
     if cfg.uncertainty.recalibrate:

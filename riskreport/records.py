@@ -253,6 +253,7 @@ def pool_record(weights: PoolWeights | None) -> PoolRecord | None:
         tuple(PoolWeight(c, w) for c, w in zip(weights.labels, weights.optimal, strict=True)),
         weights.prior_share,
         weights.effective_outcomes,
+        weights.correction_share,
     )
 
 

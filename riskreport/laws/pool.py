@@ -95,16 +95,17 @@ class Pool:
 
     @property
     def mode(self) -> Any:
-        """The mode: the components' common mode when they share one (a pool of unimodal
-        laws with one mode peaks there), else the peak of the density on the table; for a
-        batch of pools (the bootstrap) with different modes, the leading component's."""
+        """The centre: the components' common mode when they share one (a pool of unimodal
+        laws with one mode peaks there), else the components' modes weighted by the pool's
+        weights. (A pool whose members are centred apart, e.g. bias-corrected and not, has
+        its density's peak wherever its narrowest member is, even with little weight: a
+        centre that jumps between members would not be a centre a reader can use.) For a
+        batch of pools (the bootstrap), elementwise."""
         modes = [np.asarray(c.mode, dtype=float) for c in self.components]
         if all(np.allclose(m, modes[0], rtol=0, atol=1e-12) for m in modes):
             return modes[0] if modes[0].ndim else float(modes[0])
-        if modes[0].ndim:
-            return modes[int(np.argmax(self.weights))]
-        grid, _ = self._table
-        return float(grid[int(np.argmax(self.logpdf(grid)))])
+        centre = sum(w * m for w, m in zip(self.weights, modes, strict=True))
+        return np.asarray(centre) if np.ndim(centre) else float(centre)
 
     def rvs(self, n: int, rng: np.random.Generator) -> np.ndarray:
         """``n`` draws by inversion."""
@@ -178,13 +179,15 @@ def bootstrap_p_inside(
 @dataclass(frozen=True)
 class Member:
     """One candidate of the pool as today's law is built: its label, family, spread option
-    and window (None: the configured one), and its weight."""
+    and window (None: the configured one), its weight, and whether its centre is
+    bias-corrected (the half-life of its correction, in years; None: not)."""
 
     label: str
     family: Family
     spread: dynamics.SpreadOption
     window: int | None
     weight: float
+    half_life: float | None = None
 
 
 def build(
@@ -193,11 +196,13 @@ def build(
     point: np.ndarray,
     given: ErrorQuantiles | None,
     members: list[Member],
+    corrections: dict[float, np.ndarray] | None = None,
 ) -> Margins:
     """Today's margins of the pool: each member's margins built as for a single law
     (:func:`riskreport.laws.uncertainty.build`), pooled per learned horizon with the
-    members' weights. Members of weight 0 are left out, except the first (the normal law),
-    whose errors, counts and sources the record shows. Each distinct warning once."""
+    members' weights (a corrected member on the errors less ``corrections[half_life]``).
+    Members of weight 0 are left out, except the first (the normal law), whose errors,
+    counts and sources the record shows. Each distinct warning once."""
     kept = [m for i, m in enumerate(members) if i == 0 or m.weight > 0]
     built: list[Margins] = []
     with warnings.catch_warnings(record=True) as caught:
@@ -205,7 +210,17 @@ def build(
         for m in kept:
             use = cfg if m.window is None else cfg.replaced("uncertainty", window=m.window)
             built.append(
-                uncertainty.build(use, errors, point, given, family=m.family, spread=m.spread)
+                uncertainty.build(
+                    use,
+                    errors,
+                    point,
+                    given,
+                    family=m.family,
+                    spread=m.spread,
+                    correction=None
+                    if m.half_life is None or corrections is None
+                    else corrections[m.half_life],
+                )
             )
     seen: set[tuple[type, str]] = set()
     for w in caught:

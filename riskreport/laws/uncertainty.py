@@ -157,32 +157,66 @@ def _warn_centre(cfg: Config, fits: list[Distribution], given: Collection[int]) 
 BIAS_SE = 2.0
 
 
-def _warn_bias(cfg: Config, columns: list[np.ndarray], given: Collection[int]) -> None:
-    """With ``centre = "forecast"``, warn where the window's mean error is larger than
-    CENTRE_SHARE of the band's width and than BIAS_SE standard errors, the standard error
-    counted on the effective number of independent outcomes among overlapping errors: the
-    published centre then ignores a bias the record shows."""
+def warn_bias(cfg: Config, raw: np.ndarray, applied: np.ndarray, given: Collection[int]) -> None:
+    """Say what the centre does with the record's bias.
+
+    ``raw`` are the errors of the point forecast (origins x horizons), ``applied`` today's
+    correction of the centre per horizon (0 with ``centre = "forecast"``; the pooled
+    correction with ``centre = "auto"``). Where the correction moves the centre by more
+    than CENTRE_SHARE of the band's width, that is said; elsewhere, where the window's mean
+    error is larger than CENTRE_SHARE of the band's width and than BIAS_SE standard errors
+    (counted on the effective number of independent outcomes among overlapping errors),
+    the published centre leaves a bias the record shows, and that is said.
+    """
+    in_window = window_mask(raw, cfg.uncertainty.window)
+    moved: list[int] = []
     biased: list[int] = []
-    largest = 0.0
-    for h, column in enumerate(columns):
-        if h in given or column.size < 2:
+    largest_move = largest_bias = 0.0
+    for h in range(min(raw.shape[1], applied.size)):
+        column = raw[in_window[:, h], h]
+        if h in given:
             continue
         band = cfg.band_for(cfg.brief.as_of + h)
+        share = CENTRE_SHARE * (band.upper - band.lower)
+        if abs(applied[h]) > share:
+            moved.append(h)
+            largest_move = applied[h] if abs(applied[h]) > abs(largest_move) else largest_move
+            continue
+        if column.size < 2:
+            continue
         mean = float(np.mean(column))
         n_eff = effective_sample_size(column.size, steps_ahead(h))
         se = float(np.std(column, ddof=1)) / np.sqrt(max(n_eff, 1.0))
-        if abs(mean) > CENTRE_SHARE * (band.upper - band.lower) and abs(mean) > BIAS_SE * se:
+        if abs(mean) > share and abs(mean) > BIAS_SE * se:
             biased.append(h)
-            largest = mean if abs(mean) > abs(largest) else largest
+            largest_bias = mean if abs(mean) > abs(largest_bias) else largest_bias
+    if moved:
+        warnings.warn(
+            f"The bias correction learned from past errors moves the centre off the point "
+            f"forecast by more than a tenth of the band's width at horizons "
+            f"{periods.ranges(moved)} (by up to {largest_move:+.2f} pp): recent outcomes "
+            f"came out {'above' if largest_move > 0 else 'below'} the forecasts, and the "
+            "corrected laws scored better on past rounds. Whether the bias persists is a "
+            "judgement.",
+            CentreCorrectionWarning,
+            stacklevel=3,
+        )
     if biased:
-        side = "above" if largest > 0 else "below"
+        side = "above" if largest_bias > 0 else "below"
+        ending = (
+            'The centre is the point forecast (centre = "forecast"), so the probabilities do '
+            'not correct for this bias; read them with it in mind, or set centre = "auto" '
+            "to let a correction earn its place on past scores."
+            if cfg.uncertainty.centre == "forecast"
+            else "The correction learned from past scores moves the centre by less than a "
+            "tenth of the band's width there (the corrected laws did not score better "
+            "enough); read the probabilities with the bias in mind."
+        )
         warnings.warn(
             f"The past errors at horizons {periods.ranges(biased)} averaged up to "
-            f"{largest:+.2f} pp over the error window (outcomes {side} the forecast): more "
-            "than a tenth of the band's width and more than chance gives on the record's "
-            'independent outcomes. The centre is the point forecast (centre = "forecast"), '
-            "so the probabilities do not correct for this bias; read them with it in mind, "
-            'or set centre = "estimated" to add the window\'s mean error.',
+            f"{largest_bias:+.2f} pp over the error window (outcomes {side} the forecast): "
+            "more than a tenth of the band's width and more than chance gives on the "
+            f"record's independent outcomes. {ending}",
             ForecastBiasWarning,
             stacklevel=3,
         )
@@ -197,6 +231,7 @@ def build(
     family: Family,
     choice: selection.Selection | None = None,
     spread: dynamics.SpreadOption = dynamics.CONSTANT,
+    correction: np.ndarray | None = None,
 ) -> Margins:
     """Fit every reported horizon's error distribution and form the outcome distributions.
 
@@ -205,20 +240,32 @@ def build(
     standardised errors. With the ``joint`` spread each horizon's law is rescaled by the
     ratio of its joint to its own ML spread (:mod:`riskreport.laws.joint`).
 
+    With a ``correction`` (origins x horizons, :func:`riskreport.laws.bias.corrections`) the
+    law is that of the bias-corrected forecast: fitted to the errors minus the correction,
+    centred on the point forecast plus today's correction (its last row); the error laws
+    returned are still relative to the point forecast (they carry today's correction).
+    Horizons with a given distribution are not corrected.
+
     Raises
     ------
     InputError
         A horizon has neither a track record (two or more known errors) nor a given
         distribution.
     """
-    mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
+    mode = None if cfg.uncertainty.centre == "estimated" else 0.0
     errors = errors[:, : cfg.brief.horizons + 1]
     raw = errors
+    given_h = given.by_horizon if given is not None else {}
+    today_shift = np.zeros(errors.shape[1])
+    if correction is not None:
+        correction = correction[:, : errors.shape[1]].copy()
+        correction[:, [h for h in given_h if h < errors.shape[1]]] = 0.0
+        errors = errors - correction
+        today_shift = correction[-1]
     today = dynamics.factors(errors, spread, cfg.uncertainty.window)  # per horizon
     errors, _ = dynamics.standardise(errors, spread)
     mask = window_mask(errors, cfg.uncertainty.window)
     columns = [errors[mask[:, h], h] for h in range(cfg.brief.horizons + 1)]
-    given_h = given.by_horizon if given is not None else {}
     for h, column in enumerate(columns):
         known = int(np.isfinite(errors[:, h]).sum())
         if column.size < 2 and h not in given_h and known >= 2:
@@ -299,11 +346,8 @@ def build(
         )
     if mode is None:
         _warn_centre(cfg, fits, given_h)
-    else:
-        # The raw errors' own window (not the standardised ones'): one bias, whatever the
-        # spread option, so a pool's members say it once.
-        in_window = window_mask(raw, cfg.uncertainty.window)
-        _warn_bias(cfg, [raw[in_window[:, h], h] for h in range(raw.shape[1])], given_h)
+    elif cfg.uncertainty.centre == "forecast":
+        warn_bias(cfg, raw, np.zeros(raw.shape[1]), given_h)
     if cfg.uncertainty.monotone:
         fits = _monotone(fits, set(given_h) & set(range(cfg.brief.horizons + 1)))
     shown_given = sorted(h for h in given_h if h <= cfg.brief.horizons)
@@ -315,6 +359,12 @@ def build(
             SmallSampleWarning,
             stacklevel=2,
         )
+    # A corrected law's errors are relative to the point forecast: today's correction is
+    # part of them, so that outcome = point forecast + error holds for every law.
+    fits = [
+        distributions.Adjusted(f, shift=float(b)) if b != 0.0 else f
+        for f, b in zip(fits, today_shift, strict=True)
+    ]
     outcome: list[Distribution] = [
         distributions.Adjusted(f, shift=float(p)) for f, p in zip(fits, point, strict=True)
     ]

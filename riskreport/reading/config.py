@@ -60,7 +60,7 @@ T = TypeVar("T")
 DEFAULT_METHOD: dict[str, str] = {
     "distribution": "normal",
     "spread": "auto",
-    "centre": "forecast",
+    "centre": "auto",
     "predictive": "student-t",
 }
 # The default error window: about ten years' worth of rounds (120 monthly, 40 quarterly):

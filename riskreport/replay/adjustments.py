@@ -149,6 +149,13 @@ def _methods(cfg: Config, result: Replays) -> dict[str, tuple[Candidate, int, bo
                 out[c.label] = (c, cfg.uncertainty.window, True)
             else:
                 out[c.label] = (c, chosen.current, False)
+    for c in result.candidates:  # the bias-corrected laws (centre = "auto")
+        if c.corrected:
+            chosen = result.windows.get(c.spread)
+            if chosen is None or c.family not in prequential.WINDOW_FAMILIES:
+                out[c.label] = (c, cfg.uncertainty.window, True)
+            else:
+                out[c.label] = (c, chosen.current, False)
     shown = dict.fromkeys((dynamics.CONSTANT, result.selection.current.spread))
     for s in shown:
         if s in result.windows:
@@ -194,6 +201,7 @@ def sensitivity(
                 given,
                 family=candidate.family,
                 spread=candidate.spread,
+                correction=result.correction(candidate),
             )
         p = probabilities.band_probabilities(margins.outcome[h], band.lower, band.upper)
         log_score, coverage = _record_at(result.runs.get((label, h)))

@@ -39,6 +39,9 @@ LABEL = "auto"  # the pool's replay: the same label as a selected sequence
 # bench/calibration.py by at most 0.013, 0.007 and 0.004 (the pool put nearly all its
 # weight on the normal law there).
 PRIOR_OUTCOMES = 60.0
+# The bias stage (:func:`learn_nested`) shrinks by the evidence instead (:func:`shrinkage`),
+# with a prior worth this many outcomes as its floor (our choice, no source).
+EVIDENCE_PRIOR_OUTCOMES = 20.0
 # Past origins at which the weights are learned afresh (evenly spaced; between two, the
 # weights learned at the earlier one are used, so nothing is looked ahead). Learning at
 # every origin changes the weights little between neighbours at several times the cost.
@@ -63,9 +66,13 @@ class PoolWeights:
     optimal
         Today's unshrunk weights (the maximum of the past log score).
     prior_share
-        Today's share lam of the first candidate's prior weight.
+        Today's share lam of the first candidate's prior weight (with a nested pool, in
+        the pool of the uncorrected laws).
     effective_outcomes
         Today's effective number of scored outcomes n_eff.
+    correction_share
+        With a nested pool (:func:`learn_nested`): today's share of the uncorrected pool's
+        prior weight in the pool of pools; None otherwise.
     """
 
     labels: tuple[str, ...]
@@ -74,6 +81,7 @@ class PoolWeights:
     optimal: tuple[float, ...]
     prior_share: float
     effective_outcomes: float
+    correction_share: float | None = None
 
 
 def optimal_weights(
@@ -127,6 +135,41 @@ def optimal_weights(
     return np.asarray(w / w.sum())
 
 
+def mean_log_score(log_density: np.ndarray, column_weight: np.ndarray, w: np.ndarray) -> float:
+    """sum_i c_i log sum_k w_k p_k(y_i) / sum_i c_i: the pool's mean log score."""
+    with np.errstate(divide="ignore"):
+        mixed = special.logsumexp(log_density + np.log(w)[:, None], axis=0)
+    ok = np.isfinite(mixed)
+    return float(column_weight[ok] @ mixed[ok] / max(float(column_weight[ok].sum()), 1e-300))
+
+
+def shrinkage(
+    log_density: np.ndarray, column_weight: np.ndarray, w: np.ndarray, effective: float
+) -> float:
+    """The share lam of the first candidate in the weights of a pool shrunk by evidence.
+
+    The larger of a prior worth EVIDENCE_PRIOR_OUTCOMES outcomes and the positive-part
+    Stein factor of the fitted gain, df / LR, where
+    LR = 2 n_eff (mean log score of the optimal pool - the first candidate's) is the
+    likelihood-ratio statistic of the pool against the first candidate on the record's
+    independent outcomes and df the pool's free weights (candidates - 1). Where nothing changes, LR is about df (the optimiser's own fit of noise) and
+    the pool stays at the first candidate; where the record shows a large gain, the first
+    candidate keeps little weight however long the record is. (Shrinking a fitted gain by
+    df over its chi-square statistic is the positive-part James-Stein rule in likelihood
+    form; our adaptation, no source.)
+    """
+    if effective <= 0:
+        return 1.0
+    prior = EVIDENCE_PRIOR_OUTCOMES / (EVIDENCE_PRIOR_OUTCOMES + effective)
+    gain = mean_log_score(log_density, column_weight, w) - mean_log_score(
+        log_density, column_weight, np.eye(w.size)[0]
+    )
+    statistic = 2.0 * effective * gain
+    df = max(w.size - 1, 1)
+    stein = 1.0 if statistic <= 2 * df else 2 * df / statistic
+    return float(min(1.0, max(prior, stein)))
+
+
 def _known_counts(runs: list[HorizonReplay], rows: np.ndarray) -> np.ndarray:
     """horizons x rows: how many of each horizon's forecasts had their outcome before the
     row (outcome row <= row - 1)."""
@@ -146,12 +189,17 @@ def _effective(counts: np.ndarray, runs: list[HorizonReplay]) -> np.ndarray:
 
 
 def learn(
-    runs: dict[tuple[str, int], HorizonReplay], labels: list[str], n_origins: int
+    runs: dict[tuple[str, int], HorizonReplay],
+    labels: list[str],
+    n_origins: int,
+    *,
+    by_evidence: bool = False,
 ) -> PoolWeights:
     """The pool's weights at each past origin row and today, from the scores known then.
 
     Only horizons replayed for every candidate count, so the candidates are compared on
-    the same outcomes.
+    the same outcomes. Shrunk toward the first candidate by the prior of PRIOR_OUTCOMES
+    outcomes, or with ``by_evidence`` by :func:`shrinkage`.
     """
     horizons = sorted({h for (label, h) in runs if label == labels[0]})
     common = [h for h in horizons if all((label, h) in runs for label in labels)]
@@ -170,6 +218,7 @@ def learn(
     stacked = [np.stack([r.log_score for r in group]) for group in by_h]
     eff = _effective(counts[:, updates], base)
     weights = np.tile(first, (updates.size, 1))
+    shares = np.ones(updates.size)
     optimal = first
     w = None
     for i, row in enumerate(updates):
@@ -179,11 +228,16 @@ def learn(
         density = np.concatenate([s[:, :c] for s, c in zip(stacked, known, strict=True)], axis=1)
         column = np.concatenate([np.full(c, 1.0 / c) for c in known if c > 0])
         w = optimal_weights(density, column, w)
-        share = PRIOR_OUTCOMES / (PRIOR_OUTCOMES + eff[i])
+        share = (
+            shrinkage(density, column, w, eff[i])
+            if by_evidence
+            else PRIOR_OUTCOMES / (PRIOR_OUTCOMES + eff[i])
+        )
         weights[i] = share * first + (1 - share) * w
         optimal = w
+        shares[i] = share
     at = np.searchsorted(updates, rows[:-1], side="right") - 1  # the last update at or before
-    share_now = float(PRIOR_OUTCOMES / (PRIOR_OUTCOMES + eff[-1]))
+    share_now = float(shares[-1])
     return PoolWeights(
         tuple(labels),
         weights[at],
@@ -191,6 +245,47 @@ def learn(
         tuple(float(v) for v in optimal),
         share_now,
         float(eff[-1]),
+    )
+
+
+def learn_nested(
+    runs: dict[tuple[str, int], HorizonReplay], groups: list[list[str]], n_origins: int
+) -> PoolWeights:
+    """A pool of pools: each group of candidates pooled as :func:`learn` does, then the
+    groups' pools pooled, shrunk by evidence toward the first group's
+    (:func:`shrinkage`). The weights returned are the products, per candidate of every
+    group in order.
+
+    One adaptive step earns its place against no adaptation: the groups are the
+    uncorrected laws and the same laws bias-corrected (``centre = "auto"``), so the
+    correction gains weight only as far as its pooled laws scored better than the
+    uncorrected ones on past rounds, whatever the spread stage does.
+    """
+    inner = [learn(runs, group, n_origins) for group in groups]
+    staged = dict(runs)
+    names = [f"{LABEL} {j}" for j in range(len(groups))]
+    for name, weights in zip(names, inner, strict=True):
+        for h, run in pooled_sequence(runs, weights).items():
+            staged[(name, h)] = run
+    outer = learn(staged, names, n_origins, by_evidence=True)
+
+    def flat(rows: np.ndarray, parts: list[np.ndarray]) -> np.ndarray:
+        return np.concatenate([rows[..., j : j + 1] * p for j, p in enumerate(parts)], axis=-1)
+
+    return PoolWeights(
+        tuple(label for group in groups for label in group),
+        flat(outer.past, [w.past for w in inner]),
+        tuple(
+            float(v)
+            for v in flat(np.asarray(outer.current), [np.asarray(w.current) for w in inner])
+        ),
+        tuple(
+            float(v)
+            for v in flat(np.asarray(outer.optimal), [np.asarray(w.optimal) for w in inner])
+        ),
+        inner[0].prior_share,
+        inner[0].effective_outcomes,
+        outer.prior_share,
     )
 
 

@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from riskreport._typing import Family
-from riskreport.laws import dynamics, joint
+from riskreport.laws import bias, dynamics, joint
 from riskreport.laws.dynamics import SpreadOption
 from riskreport.processes import parallel
 from riskreport.reading.config import Band
@@ -49,18 +49,26 @@ WINDOW_FAMILIES: tuple[Family, ...] = ("normal",)
 
 @dataclass(frozen=True)
 class Candidate:
-    """One method the replay can choose: an error-law family and a spread option."""
+    """One method the replay can choose: an error-law family, a spread option and whether
+    the centre is bias-corrected (:mod:`riskreport.laws.bias`)."""
 
     family: Family
     spread: SpreadOption
+    half_life: float | None = None  # of the bias correction, in years (None: uncorrected)
+
+    @property
+    def corrected(self) -> bool:
+        """Whether the centre is bias-corrected."""
+        return self.half_life is not None
 
     @property
     def label(self) -> str:
         """The family name for a constant spread, else ``family, ewma 0.9`` or
-        ``family, joint``."""
-        if self.spread.kind == "constant":
-            return self.family
-        return f"{self.family}, {self.spread.label}"
+        ``family, joint``; ``, bias-corrected 2y`` added for a corrected centre."""
+        name = (
+            self.family if self.spread.kind == "constant" else f"{self.family}, {self.spread.label}"
+        )
+        return name if self.half_life is None else f"{name}, {bias.label(self.half_life)}"
 
 
 @dataclass(frozen=True)

@@ -8,9 +8,12 @@ import dataclasses
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
+import numpy as np
+
 from riskreport._typing import FAMILIES
-from riskreport.laws import dynamics
+from riskreport.laws import bias, dynamics
 from riskreport.laws.pool import POOL_FAMILY, Member
+from riskreport.reading import periods
 from riskreport.reading.config import Config
 from riskreport.reading.panel import Panel
 from riskreport.replay import pool, prequential, recalibration
@@ -19,8 +22,6 @@ from riskreport.replay.pool import PoolWeights
 from riskreport.replay.prequential import Candidate, PrequentialSelection
 
 if TYPE_CHECKING:
-    import numpy as np
-
     from riskreport.replay.cache import ReplayCache
 
 BASELINE = "constant normal law"  # the verdict's benchmark, when no candidate is it
@@ -51,6 +52,10 @@ class Replays:
         With ``distribution = "auto"`` or ``spread = "auto"`` (more than one candidate, not
         ``best-past-score``): the optimal prediction pool's weights (the ``auto`` replay is
         then the pool, :mod:`riskreport.replay.pool`).
+    corrections
+        With ``centre = "auto"``, per half-life: the bias correction B(o, h) known at each
+        origin row (the last row today's), which the corrected candidates add to the point
+        forecast (:mod:`riskreport.laws.bias`); None otherwise.
     """
 
     runs: dict[tuple[str, int], HorizonReplay]
@@ -62,6 +67,7 @@ class Replays:
     )
     baseline: str = "normal"
     pool: PoolWeights | None = None
+    corrections: dict[float, np.ndarray] | None = None
 
     def members(self) -> list[Member]:
         """The pool's candidates with today's weights and windows (empty without a pool)."""
@@ -75,7 +81,29 @@ class Replays:
                 if chosen is not None and c.family in prequential.WINDOW_FAMILIES
                 else None
             )
-            out.append(Member(c.label, c.family, c.spread, window, w))
+            out.append(Member(c.label, c.family, c.spread, window, w, c.half_life))
+        return out
+
+    def correction(self, candidate: Candidate) -> np.ndarray | None:
+        """The correction B(o, h) a candidate's centre adds (None when uncorrected)."""
+        if candidate.half_life is None or self.corrections is None:
+            return None
+        return self.corrections[candidate.half_life]
+
+    def applied_correction(self) -> np.ndarray | None:
+        """Today's correction of the centre per horizon: the corrected candidates' today's
+        B weighted by their pool weights, or today's choice's B without a pool (None
+        without corrected candidates)."""
+        if self.corrections is None:
+            return None
+        width = next(iter(self.corrections.values())).shape[1]
+        weights = (1.0,) if self.pool is None else self.pool.current
+        chosen = (self.selection.current,) if self.pool is None else self.candidates
+        out = np.zeros(width)
+        for c, w in zip(chosen, weights, strict=True):
+            b = self.correction(c)
+            if b is not None:
+                out += w * b[-1]
         return out
 
     @property
@@ -140,7 +168,7 @@ def replays(
     choosing = cfg.uncertainty.distribution in ("auto", "best-past-score")
     allowed = FAMILIES if choosing else (cfg.uncertainty.distribution,)
     candidates = tuple(c for c in replayed if c.family in allowed and c.spread in spreads)
-    mode = 0.0 if cfg.uncertainty.centre == "forecast" else None
+    mode = None if cfg.uncertainty.centre == "estimated" else 0.0
     predictive = cfg.uncertainty.predictive == "student-t"
     stage: dict[tuple[str, int], HorizonReplay] = {}
     windows: dict[dynamics.SpreadOption, prequential.WindowChoice] = {}
@@ -176,6 +204,33 @@ def replays(
         predictive=predictive,
     )
     runs.update(stage)
+    corrections: dict[float, np.ndarray] | None = None
+    if cfg.uncertainty.centre == "auto":
+        corrections = {}
+        plain_candidates = candidates
+        for half_life in bias.HALF_LIVES:
+            # The same candidates on the bias-corrected forecasts: exactly the replay of the
+            # corrected method (B at each origin rests on outcomes known there).
+            shifted, remaining, corrections[half_life] = bias.corrected(
+                combined, errors, periods.PERIODS_PER_YEAR[cfg.brief.frequency], half_life
+            )
+            fixed = tuple(dataclasses.replace(c, half_life=half_life) for c in plain_candidates)
+            runs.update(
+                prequential.replay(
+                    panel,
+                    shifted,
+                    remaining,
+                    cfg.brief.horizons,
+                    window=cfg.uncertainty.window,
+                    mode=mode,
+                    band_for=cfg.band_for,
+                    candidates=fixed,
+                    cache=cache,
+                    windows={s: w.rows for s, w in windows.items()} or None,
+                    predictive=predictive,
+                )
+            )
+            candidates = (*candidates, *fixed)
     if predictive or mode != 0.0 or windows:
         # The verdict's benchmark is always the constant normal law itself: the plug-in
         # normal centred on the point forecast over the configured window.
@@ -200,7 +255,15 @@ def replays(
         # Combine, don't switch: several families (``auto``) or spread options
         # (``spread = "auto"``) are pooled; ``best-past-score`` is the old hard choice.
         if cfg.uncertainty.distribution != "best-past-score":
-            weights = pool.learn(runs, [c.label for c in candidates], panel.origins.size)
+            groups = [
+                [c.label for c in candidates if c.half_life == half_life]
+                for half_life in dict.fromkeys(c.half_life for c in candidates)
+            ]
+            weights = (
+                pool.learn(runs, groups[0], panel.origins.size)
+                if len(groups) == 1
+                else pool.learn_nested(runs, groups, panel.origins.size)
+            )
             sequence = pool.pooled_sequence(runs, weights)
         else:
             sequence = prequential.selected_sequence(runs, chosen)
@@ -217,4 +280,4 @@ def replays(
             )
             runs[(recalibration.LABEL, run.h)] = mapped
         graded = recalibration.LABEL
-    return Replays(runs, candidates, chosen, graded, windows, baseline, weights)
+    return Replays(runs, candidates, chosen, graded, windows, baseline, weights, corrections)

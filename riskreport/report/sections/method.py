@@ -257,9 +257,13 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
         KeyValue("Windows", windows_text(a)),
         KeyValue(
             "Centre",
-            "estimated: past average errors (bias) carry over into the centre"
-            if u.centre == "estimated"
-            else "the point forecast is the mode of the distribution",
+            {
+                "estimated": "estimated: past average errors (bias) carry over into the centre",
+                "forecast": "the point forecast is the mode of the distribution",
+                "auto": "the point forecast, pooled with the same laws centred on the forecast "
+                "plus a discounted mean of recent errors (a bias correction that earns "
+                "weight only by past scores)",
+            }[u.centre],
         ),
         KeyValue("Target basis", basis_text(a)),
         KeyValue(

@@ -7,6 +7,7 @@ import math
 from dataclasses import dataclass
 
 from riskreport.assessment import Assessment
+from riskreport.laws import bias
 from riskreport.laws.pool import POOL_FAMILY
 from riskreport.reading import periods
 from riskreport.replay.adjustments import Adjustments, SensitivityRow
@@ -119,11 +120,18 @@ def sensitivity_caption(a: Assessment) -> str:
     )
 
 
+def _is_moving(candidate: str) -> bool:
+    """Whether a pool member's label names a spread that moves (EWMA or joint)."""
+    return any(f", {kind}" in candidate for kind in ("ewma", "joint"))
+
+
 def _pooled_spread_sentence(a: Assessment) -> str:
     """The pooled spread in words: the constant spread's weight against the others'."""
     pool = a.uncertainty.pool
     constant = (
-        sum(w.weight for w in pool.weights if ", " not in w.candidate) if pool is not None else 1.0
+        sum(w.weight for w in pool.weights if not _is_moving(w.candidate))
+        if pool is not None
+        else 1.0
     )
     return (
         "The spread is pooled: a constant spread (weight "
@@ -132,6 +140,25 @@ def _pooled_spread_sentence(a: Assessment) -> str:
         "the log score it earned on the rounds already scored at each past round and shrunk "
         "toward the constant spread while the record is short; a spread that moves gains "
         "weight only where the record shows the size of errors changing."
+    )
+
+
+def _correction_sentence(a: Assessment) -> str | None:
+    """The bias correction in words (``centre = "auto"``): its weight in the pool and how far
+    it moves the centre at the policy horizon."""
+    pool = a.uncertainty.pool
+    if a.uncertainty.centre != "auto" or pool is None:
+        return None
+    weight = sum(w.weight for w in pool.weights if bias.LABEL in w.candidate)
+    model = next((r for r in a.model_based_horizons if r.h == a.policy_horizon), a.policy)
+    moved = model.centre - model.point_forecast
+    return (
+        "Bias: each law is also replayed centred on the forecast plus a discounted mean of "
+        "the errors known at each round (half-lives of "
+        f"{' and '.join(f'{h:g}' for h in bias.HALF_LIVES)} years, shrunk toward no "
+        "correction); the corrected laws carry "
+        f"{weight:.2f} of the pool's weight today, learned from past scores like the rest, "
+        f"which moves the centre by {fmt.number(moved, signed=True)} pp at the policy horizon."
     )
 
 
@@ -199,11 +226,12 @@ def _source_sentence(a: Assessment, adj: Adjustments) -> str:
         if adj.predictive == "student-t"
         else ""
     )
-    centre = (
-        "centred on the point forecast"
-        if a.uncertainty.centre == "forecast"
-        else "centred on the forecast plus the window's mean error"
-    )
+    centre = {
+        "forecast": "centred on the point forecast",
+        "estimated": "centred on the forecast plus the window's mean error",
+        "auto": "centred on the point forecast or, as far as past scores earn it, on the "
+        "forecast corrected for recent bias",
+    }[a.uncertainty.centre]
     what = f"{_todays_method(a, adj)}, {centre}{t}"
     if adj.method_source == "defaults":
         return (
@@ -221,6 +249,9 @@ def adjustment_text(a: Assessment) -> tuple[str, ...]:
         return ()
     v = adj.verdict
     lines = [_source_sentence(a, adj), _spread_sentence(a, adj)]
+    correction = _correction_sentence(a)
+    if correction is not None:
+        lines.append(correction)
     window = _window_sentence(adj)
     if window is not None:
         lines.append(window)

@@ -167,6 +167,17 @@ def centre_label(a: Assessment) -> str:
             else f"{fmt.number(moved, signed=True)} percentage points, pp, in {policy.period}"
         )
         return f"the models' forecast corrected by {why} ({size})"
+    if a.uncertainty.centre == "auto":
+        # The learned bias correction (the model-based law's centre off the point forecast),
+        # before any judgement.
+        model = next((r for r in a.model_based_horizons if r.h == policy.h), policy)
+        if fmt.number(abs(model.centre - model.point_forecast)) != "0.0":
+            return (
+                "the models' forecast corrected for their recent bias (learned from past "
+                "errors, weighted by how well such corrections scored)"
+                + (" and moved by staff judgement" if judged else "")
+                + f" ({fmt.number(moved, signed=True)} percentage points, pp, in {policy.period})"
+            )
     if judged and fmt.number(moved) not in ("0.0", "\u22120.0"):
         return (
             f"the models' forecast moved by staff judgement "
