@@ -58,10 +58,11 @@ BEFORE = {
     "window": 120,
 }
 STEPS: tuple[tuple[str, dict[str, object]], ...] = (  # each step's gain and cost
-    ("constant normal law", {"predictive": "plug-in", "spread": "constant"}),
-    ("+ student-t predictive", {"spread": "constant"}),
-    ("  + spread pooled (= after)", {}),
-    ("  spread ewma alone (option)", {"spread": "ewma"}),
+    ("constant normal law", {"predictive": "plug-in", "spread": "constant", "centre": "forecast"}),
+    ("+ student-t predictive", {"spread": "constant", "centre": "forecast"}),
+    ("  + spread pooled", {"centre": "forecast"}),
+    ("    + bias correction pooled (= after)", {}),
+    ("  spread ewma alone (option)", {"spread": "ewma", "centre": "forecast"}),
     ("  + recalibrate (option)", {"recalibrate": True}),
     ("  distribution auto (pool)", {"distribution": "auto"}),
     ("  best-past-score (hard choice)", {"distribution": "best-past-score"}),
@@ -293,7 +294,7 @@ def main(steps: bool = "--steps" in sys.argv) -> None:
                 for name, options in STEPS:
                     a, seconds = _assess(path, **options)
                     x = figures(a)
-                    print(f"  {name:<28} log {x.log_score:.3f}  build {seconds:.1f} s")
+                    print(f"  {name:<38} log {x.log_score:.3f}  build {seconds:.1f} s")
     print(f"\nmean gain of the defaults over the constant normal law: {np.mean(gains):+.3f}")
 
 

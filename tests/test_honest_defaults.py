@@ -219,7 +219,8 @@ def test_a_config_without_uncertainty_gets_the_default_method(
     tmp_path: Path, frequency: str, as_of: str, window: int
 ) -> None:
     # Ten years' worth of rounds at either frequency (common practice, no source), the
-    # normal law centred on the forecast with its Student t predictive, its spread pooled.
+    # normal law with its Student t predictive, its spread pooled, its centre the forecast
+    # pooled with bias-corrected forecasts (centre = "auto").
     (tmp_path / "f.csv").write_text("origin,period,value\n")
     (tmp_path / "a.csv").write_text("period,value\n")
     path = tmp_path / "c.toml"
@@ -230,7 +231,7 @@ def test_a_config_without_uncertainty_gets_the_default_method(
     u = config_reader.load(path).uncertainty
     assert (u.distribution, u.centre, u.predictive, u.spread, u.recalibrate) == (
         "normal",
-        "forecast",
+        "auto",
         "student-t",
         "auto",
         False,
@@ -249,9 +250,9 @@ def test_a_config_without_uncertainty_gets_the_default_method(
 
 def test_a_bias_the_forecast_centre_ignores_is_said(tmp_path: Path) -> None:
     # Two-piece-normal errors (mode 0.2, scales 0.4 and 0.9: mean error about +0.6 pp,
-    # Wallis 2014, Statistical Science 29(1), the mean of the two-piece normal) under the
-    # default centre, the point forecast: the probabilities do not correct for the bias, so
-    # the record's bias is said, not left silent.
+    # Wallis 2014, Statistical Science 29(1), the mean of the two-piece normal) with the
+    # centre on the point forecast: the probabilities do not correct for the bias, so the
+    # record's bias is said, not left silent.
     from riskreport.laws.distributions import NormalFit, Tilted
     from tests.conftest import constant_forecast_world
 

@@ -202,7 +202,8 @@ def build(
     (:func:`riskreport.laws.uncertainty.build`), pooled per learned horizon with the
     members' weights (a corrected member on the errors less ``corrections[half_life]``).
     Members of weight 0 are left out, except the first (the normal law), whose errors,
-    counts and sources the record shows. Each distinct warning once."""
+    counts and sources the record shows; when it is the only one left, today's law is its
+    law (not a pool of one). Each distinct warning once."""
     kept = [m for i, m in enumerate(members) if i == 0 or m.weight > 0]
     built: list[Margins] = []
     with warnings.catch_warnings(record=True) as caught:
@@ -229,6 +230,8 @@ def build(
             seen.add(key)
             warnings.warn(w.message, w.category, stacklevel=2)
     first = built[0]
+    if len(kept) == 1:  # every weight on the first law today: today's law is that law
+        return first
     weights = tuple(m.weight for m in kept)
     labels = tuple(m.label for m in kept)
     families, errors_out, outcome = [], [], []

@@ -149,8 +149,8 @@ def _methods(cfg: Config, result: Replays) -> dict[str, tuple[Candidate, int, bo
                 out[c.label] = (c, cfg.uncertainty.window, True)
             else:
                 out[c.label] = (c, chosen.current, False)
-    for c in result.candidates:  # the bias-corrected laws (centre = "auto")
-        if c.corrected:
+    for c in result.candidates:  # the bias-corrected laws (centre = "auto"), constant spread
+        if c.corrected and c.spread == dynamics.CONSTANT:
             chosen = result.windows.get(c.spread)
             if chosen is None or c.family not in prequential.WINDOW_FAMILIES:
                 out[c.label] = (c, cfg.uncertainty.window, True)

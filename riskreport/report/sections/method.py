@@ -85,10 +85,16 @@ def pool_text(a: Assessment) -> str:
     weights = "; ".join(f"{method_name(w.candidate)} {w.weight:.2f}" for w in listed)
     if rest:
         weights += f"; {rest} other{'s' if rest > 1 else ''} 0.00"
+    nested = (
+        ""
+        if pool.correction_prior_share is None
+        else "; the bias-corrected laws' pools then pooled with theirs, shrunk toward the "
+        f"uncorrected by {pool.correction_prior_share:.2f} (by the evidence of past scores)"
+    )
     return (
         f"weights {weights}: those that maximise the past log score, shrunk toward "
         f"{method_name(pool.weights[0].candidate)} by {pool.prior_share:.2f} on "
-        f"{pool.effective_outcomes:.0f} effective scored outcomes"
+        f"{pool.effective_outcomes:.0f} effective scored outcomes{nested}"
     )
 
 

@@ -56,14 +56,25 @@ def method_name(label: str) -> str:
         return "as learned at each past round (chosen or pooled)"
     if label == "auto, recalibrated":
         return "as learned at each past round, then recalibrated"
+    label, corrected = _bias_part(label)
     family, _, spread = label.partition(", ")
-    return f"{NAMES.get(family, family)}, {_spread_words(spread or 'constant')}"
+    return f"{NAMES.get(family, family)}, {_spread_words(spread or 'constant')}{corrected}"
+
+
+def _bias_part(label: str) -> tuple[str, str]:
+    """A label without its bias correction (``..., bias-corrected 2y``), and the correction
+    in words (empty when uncorrected)."""
+    rest, found, half_life = label.rpartition(f", {bias.LABEL} ")
+    if not found:
+        return label, ""
+    return rest, f", bias-corrected (half-life {half_life.removesuffix('y')} years)"
 
 
 def _row_name(row: SensitivityRow, a: Assessment) -> str:
     if row.family == "as selected":
         return method_name(row.method)
     name = f"{NAMES.get(row.family, row.family)}, {_spread_words(row.spread)}"
+    name += _bias_part(row.method)[1]
     adj = a.adjustments
     if adj is not None and adj.window_grid:
         if row.window_fixed:
