@@ -126,3 +126,22 @@ def test_defaults_correct_a_lasting_bias_and_say_so(tmp_path: Path) -> None:
     # errors adds about 0.02 (the binomial standard error of P(inside)).
     assert max(offs) < 0.06, offs
     assert np.mean(offs) < 0.045, offs
+
+
+def test_the_brief_says_how_far_the_correction_moves_the_centre(tmp_path: Path) -> None:
+    from riskreport.report.sections import method_choice, summary
+
+    a = _tpn_world(tmp_path, 100)
+    assert a.uncertainty.pool is not None
+    weight = sum(w.weight for w in a.uncertainty.pool.weights if bias.LABEL in w.candidate)
+    policy = a.policy
+    moved = policy.centre - policy.point_forecast
+    # The pooled centre moves by the corrected laws' weighted corrections: about the mean
+    # error (+0.60 pp) times their weight, shrunk a little toward zero.
+    assert 0.4 < moved < 0.75
+    sentence = next(t for t in method_choice.adjustment_text(a) if t.startswith("Bias:"))
+    assert f"carry {weight:.2f} of the pool's weight" in sentence
+    assert f"moves the centre by +{moved:.1f} pp" in sentence
+    label = summary.centre_label(a)
+    assert label.startswith("the models' forecast corrected for their recent bias")
+    assert f"+{moved:.1f} percentage points" in label

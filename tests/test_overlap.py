@@ -1,6 +1,7 @@
 """The effective number of independent outcomes among overlapping multi-step errors."""
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -38,3 +39,13 @@ def test_variance_of_the_mean_of_overlapping_errors_matches_the_count():
 def test_consecutive_origins_tend_to_the_non_overlapping_count():
     assert abs(effective_sample_size(2400, 12) - 200) < 2
     assert effective_sample_size(0, 5) == 0.0
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(0, 400), st.integers(1, 30))
+def test_consecutive_origins_counted_in_closed_form_as_by_search(n: int, steps: int) -> None:
+    # The count for n consecutive origins (an int) has a closed form; it must agree with the
+    # general count over the same origins given one by one.
+    assert effective_sample_size(n, steps) == pytest.approx(
+        effective_sample_size(np.arange(n), steps), rel=1e-12, abs=0.0
+    )

@@ -60,7 +60,13 @@ def effective_sample_size(origins: ArrayLike | int, steps: int) -> float:
     if steps < 1:
         raise ValueError(f"steps must be at least 1, got {steps}")
     if isinstance(origins, int | np.integer):
-        index = np.arange(int(origins), dtype=np.int64)
+        # Consecutive origins: lag k pairs n - k of them, so the double sum has a closed
+        # form (the same value as the search below, without building the origins).
+        n = int(origins)
+        if n <= 0:
+            return 0.0
+        lags = np.arange(1, min(steps, n))
+        return n * n / (n + 2.0 * float(np.sum((1.0 - lags / steps) * (n - lags))))
     else:
         index = np.sort(np.asarray(origins, dtype=np.int64).ravel())
     n = index.size

@@ -163,13 +163,20 @@ def _correction_sentence(a: Assessment) -> str | None:
     weight = sum(w.weight for w in pool.weights if bias.LABEL in w.candidate)
     model = next((r for r in a.model_based_horizons if r.h == a.policy_horizon), a.policy)
     moved = model.centre - model.point_forecast
-    return (
+    how = (
         "Bias: each law is also replayed centred on the forecast plus a discounted mean of "
         "the errors known at each round (half-lives of "
         f"{' and '.join(f'{h:g}' for h in bias.HALF_LIVES)} years, shrunk toward no "
-        "correction); the corrected laws carry "
-        f"{weight:.2f} of the pool's weight today, learned from past scores like the rest, "
-        f"which moves the centre by {fmt.number(moved, signed=True)} pp at the policy horizon."
+        "correction), and weighted by its past scores like the rest"
+    )
+    if weight < 0.005:
+        return (
+            f"{how}; the corrected laws did not score better on past rounds, so they carry "
+            "no weight today and the centre is the point forecast."
+        )
+    return (
+        f"{how}; the corrected laws carry {weight:.2f} of the pool's weight today, which "
+        f"moves the centre by {fmt.number(moved, signed=True)} pp at the policy horizon."
     )
 
 
