@@ -283,12 +283,14 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             correction=replayed.correction(today),
         )
     correction_today = replayed.applied_correction()
-    if correction_today is not None:  # centre = "auto": what the learned correction does today
+    if cfg.uncertainty.centre == "auto":  # what the learned correction does today, if any
+        shown = cfg.brief.horizons + 1
         uncertainty.warn_bias(
             cfg,
-            errors[:, : cfg.brief.horizons + 1],
-            correction_today[: cfg.brief.horizons + 1],
+            errors[:, :shown],
+            np.zeros(shown) if correction_today is None else correction_today[:shown],
             {h for h, f in enumerate(margins.families) if f == GIVEN_FAMILY},
+            offered=correction_today is not None,
         )
     recalibrated: tuple[adjustments_module.RecalibrationRow, ...] = ()
     if cfg.uncertainty.recalibrate:

@@ -145,3 +145,18 @@ def test_the_brief_says_how_far_the_correction_moves_the_centre(tmp_path: Path) 
     label = summary.centre_label(a)
     assert label.startswith("the models' forecast corrected for their recent bias")
     assert f"+{moved:.1f} percentage points" in label
+
+
+def test_the_hard_choice_is_offered_no_correction_and_says_the_bias(tmp_path: Path) -> None:
+    errors = TRUTH.rvs(401, np.random.default_rng(99))
+    path = constant_forecast_world(
+        tmp_path, errors, band=(1.8, 3.0), centre="auto", distribution="best-past-score"
+    )
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        a = assess_config(config_reader.load(path), search=tmp_path / "none")
+    assert a.uncertainty.pool is None
+    assert a.policy.centre == pytest.approx(a.policy.point_forecast, abs=1e-9)
+    said = [w for w in a.warnings if "do not correct for this bias" in w]
+    assert len(said) == 1
+    assert "offered no bias correction" in said[0]

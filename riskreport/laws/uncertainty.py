@@ -157,12 +157,20 @@ def _warn_centre(cfg: Config, fits: list[Distribution], given: Collection[int]) 
 BIAS_SE = 2.0
 
 
-def warn_bias(cfg: Config, raw: np.ndarray, applied: np.ndarray, given: Collection[int]) -> None:
+def warn_bias(
+    cfg: Config,
+    raw: np.ndarray,
+    applied: np.ndarray,
+    given: Collection[int],
+    *,
+    offered: bool = False,
+) -> None:
     """Say what the centre does with the record's bias.
 
     ``raw`` are the errors of the point forecast (origins x horizons), ``applied`` today's
     correction of the centre per horizon (0 with ``centre = "forecast"``; the pooled
-    correction with ``centre = "auto"``). Where the correction moves the centre by more
+    correction with ``centre = "auto"``; ``offered``: a correction was offered to the pool).
+    Where the correction moves the centre by more
     than CENTRE_SHARE of the band's width, that is said; elsewhere, where the window's mean
     error is larger than CENTRE_SHARE of the band's width and than BIAS_SE standard errors
     (counted on the effective number of independent outcomes among overlapping errors),
@@ -204,10 +212,16 @@ def warn_bias(cfg: Config, raw: np.ndarray, applied: np.ndarray, given: Collecti
     if biased:
         side = "above" if largest_bias > 0 else "below"
         ending = (
-            'The centre is the point forecast (centre = "forecast"), so the probabilities do '
-            'not correct for this bias; read them with it in mind, or set centre = "auto" '
-            "to let a correction earn its place on past scores."
-            if cfg.uncertainty.centre == "forecast"
+            (
+                'The centre is the point forecast (centre = "forecast"), so the probabilities '
+                'do not correct for this bias; read them with it in mind, or set centre = "auto" '
+                "to let a correction earn its place on past scores."
+                if cfg.uncertainty.centre == "forecast"
+                else "The centre is the point forecast (distribution = best-past-score is "
+                "offered no bias correction), so the probabilities do not correct for this "
+                "bias; read them with it in mind."
+            )
+            if not offered
             else "The correction learned from past scores moves the centre by less than a "
             "tenth of the band's width there (the corrected laws did not score better "
             "enough); read the probabilities with the bias in mind."

@@ -49,14 +49,18 @@ T = TypeVar("T")
 
 # The method a config without an [uncertainty] section gets: the one that held on real
 # inflation histories (docs/method.md, "The default method and its evidence";
-# bench/calibration.py): the normal law centred on the point forecast over about ten
+# bench/calibration.py): the normal law of the errors over about ten
 # years of errors, its predictive a Student t that carries the uncertainty of the
 # estimated spread, and its spread pooled (spread = "auto") over a constant spread and
 # spreads that follow recent short-horizon errors, the weights learned from past scores
 # and shrunk toward the constant spread: the time-varying spread earns its place
 # prequentially (it gained 0.04-0.09 log score on three real histories and cost at most
-# 0.001 on a simulated world where nothing changes). Recalibration is offered but off:
-# on the real histories it bought coverage with log score.
+# 0.001 on a simulated world where nothing changes). The centre pools the point forecast
+# with bias-corrected forecasts (centre = "auto"), the correction shrunk toward none by the
+# evidence of past scores: it took nearly all the weight on a world with a lasting bias
+# and little or none on the real histories (docs/method.md, "The centre: a bias correction
+# that earns its place"). Recalibration is offered but off: on the real histories it
+# bought coverage with log score.
 DEFAULT_METHOD: dict[str, str] = {
     "distribution": "normal",
     "spread": "auto",

@@ -268,7 +268,10 @@ def method_facts(a: Assessment) -> tuple[KeyValue, ...]:
                 "forecast": "the point forecast is the mode of the distribution",
                 "auto": "the point forecast, pooled with the same laws centred on the forecast "
                 "plus a discounted mean of recent errors (a bias correction that earns "
-                "weight only by past scores)",
+                "weight only by past scores)"
+                if u.pool is not None
+                else "the point forecast is the mode of the distribution (the hard choice "
+                "of distribution = best-past-score is not offered a bias correction)",
             }[u.centre],
         ),
         KeyValue("Target basis", basis_text(a)),

@@ -248,7 +248,9 @@ def _source_sentence(a: Assessment, adj: Adjustments) -> str:
         "forecast": "centred on the point forecast",
         "estimated": "centred on the forecast plus the window's mean error",
         "auto": "centred on the point forecast or, as far as past scores earn it, on the "
-        "forecast corrected for recent bias",
+        "forecast corrected for recent bias"
+        if a.uncertainty.pool is not None
+        else "centred on the point forecast",
     }[a.uncertainty.centre]
     what = f"{_todays_method(a, adj)}, {centre}{t}"
     if adj.method_source == "defaults":
