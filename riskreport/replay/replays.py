@@ -190,19 +190,28 @@ def replays(
             predictive=predictive,
         )
         baseline = prequential.window_label("normal", cfg.uncertainty.window)
-    runs = prequential.replay(
-        panel,
-        combined,
-        errors,
-        cfg.brief.horizons,
-        window=cfg.uncertainty.window,
-        mode=mode,
-        band_for=cfg.band_for,
-        candidates=replayed,
-        cache=cache,
-        windows={s: w.rows for s, w in windows.items()} or None,
-        predictive=predictive,
-    )
+    chosen_rows = {s: w.rows for s, w in windows.items()} or None
+
+    def replay(
+        forecasts: np.ndarray, remaining: np.ndarray, laws: tuple[Candidate, ...], plain: bool
+    ) -> dict[tuple[str, int], HorizonReplay]:
+        """The configured replay of ``laws`` on these forecasts and errors; ``plain``: the
+        constant normal law's own (centre on the forecast, plug-in, configured window)."""
+        return prequential.replay(
+            panel,
+            forecasts,
+            remaining,
+            cfg.brief.horizons,
+            window=cfg.uncertainty.window,
+            mode=0.0 if plain else mode,
+            band_for=cfg.band_for,
+            candidates=laws,
+            cache=cache,
+            windows=None if plain else chosen_rows,
+            predictive=predictive and not plain,
+        )
+
+    runs = replay(combined, errors, replayed, False)
     runs.update(stage)
     corrections: dict[float, np.ndarray] | None = None
     # The hard choice (best-past-score) is offered the uncorrected laws only: choosing among
@@ -218,36 +227,12 @@ def replays(
                 combined, errors, periods.PERIODS_PER_YEAR[cfg.brief.frequency], half_life
             )
             fixed = tuple(dataclasses.replace(c, half_life=half_life) for c in plain_candidates)
-            runs.update(
-                prequential.replay(
-                    panel,
-                    shifted,
-                    remaining,
-                    cfg.brief.horizons,
-                    window=cfg.uncertainty.window,
-                    mode=mode,
-                    band_for=cfg.band_for,
-                    candidates=fixed,
-                    cache=cache,
-                    windows={s: w.rows for s, w in windows.items()} or None,
-                    predictive=predictive,
-                )
-            )
+            runs.update(replay(shifted, remaining, fixed, False))
             candidates = (*candidates, *fixed)
     if predictive or mode != 0.0 or windows:
         # The verdict's benchmark is always the constant normal law itself: the plug-in
         # normal centred on the point forecast over the configured window.
-        plain = prequential.replay(
-            panel,
-            combined,
-            errors,
-            cfg.brief.horizons,
-            window=cfg.uncertainty.window,
-            mode=0.0,
-            band_for=cfg.band_for,
-            candidates=(Candidate("normal", dynamics.CONSTANT),),
-            cache=cache,
-        )
+        plain = replay(combined, errors, (Candidate("normal", dynamics.CONSTANT),), True)
         for (_, h), run in plain.items():
             runs[(BASELINE, h)] = dataclasses.replace(run, family=BASELINE)
         baseline = BASELINE
