@@ -269,7 +269,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
     window = replayed.window
     if replayed.pool is not None:  # distribution = "auto": the optimal prediction pool
         margins = pool_law.build(
-            cfg, errors, point, given, replayed.members(), replayed.corrections
+            cfg, errors, point, given, replayed.members(), replayed.corrections, combo.combined
         )
     else:
         margins = uncertainty.build(
@@ -281,6 +281,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             choice=choice,
             spread=today.spread,
             correction=replayed.correction(today),
+            forecasts=combo.combined,
         )
     correction_today = replayed.applied_correction()
     if cfg.uncertainty.centre == "auto":  # what the learned correction does today, if any

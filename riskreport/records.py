@@ -341,7 +341,15 @@ def adjustments(
             for s in windows.spells
         ),
         factors=tuple(
-            float(v) for v in dynamics.factors(errors[:, : cfg.brief.horizons + 1], shown, window)
+            float(v)
+            for v in dynamics.factors(
+                errors[:, : cfg.brief.horizons + 1],
+                shown,
+                window,
+                None
+                if replayed.forecasts is None
+                else replayed.forecasts[:, : cfg.brief.horizons + 1],
+            )
         ),
         method_source=source,
         method_reason=reason,

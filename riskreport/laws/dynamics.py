@@ -43,9 +43,10 @@ class SpreadOption:
     ----------
     kind
         ``"constant"`` (one error law over the window), ``"ewma"`` (filtered historical
-        simulation with an exponentially weighted volatility) or ``"joint"`` (each
+        simulation with an exponentially weighted volatility), ``"joint"`` (each
         horizon's spread rescaled to the ML estimate of all horizons' errors jointly,
-        :mod:`riskreport.laws.joint`).
+        :mod:`riskreport.laws.joint`) or ``"revisions"`` (rescaled to the spread the
+        forecasts' revisions imply, :mod:`riskreport.laws.revisions`).
     smoothing
         The EWMA smoothing constant lambda (weight of the past), None for ``constant``.
     """
@@ -61,6 +62,7 @@ class SpreadOption:
 
 CONSTANT = SpreadOption("constant")
 JOINT = SpreadOption("joint")
+REVISIONS = SpreadOption("revisions")
 
 
 def options(spread: str) -> tuple[SpreadOption, ...]:
@@ -72,7 +74,9 @@ def options(spread: str) -> tuple[SpreadOption, ...]:
         return ewma
     if spread == "joint":
         return (JOINT,)
-    return (CONSTANT, *ewma, JOINT)
+    if spread == "revisions":
+        return (REVISIONS,)
+    return (CONSTANT, *ewma, JOINT, REVISIONS)
 
 
 def base_horizon(errors: np.ndarray) -> int:
@@ -136,10 +140,23 @@ def current(errors: np.ndarray, option: SpreadOption) -> float:
     return value if np.isfinite(value) else 1.0
 
 
-def factors(errors: np.ndarray, option: SpreadOption, window: int) -> np.ndarray:
+def factors(
+    errors: np.ndarray,
+    option: SpreadOption,
+    window: int,
+    forecasts: np.ndarray | None = None,
+) -> np.ndarray:
     """Today's scale factor per horizon (columns of ``errors``; the current round is the
     last row): the volatility for ``ewma``, the joint-to-own spread ratio for ``joint``
-    over the last ``window`` origins (0: all), 1 for ``constant``."""
+    over the last ``window`` origins (0: all), the revision-implied to own ratio for
+    ``revisions`` (from ``forecasts``, origins x horizons like ``errors``), 1 for
+    ``constant``."""
+    if option.kind == "revisions":
+        from riskreport.laws import revisions
+
+        if forecasts is None:
+            raise ValueError("the revisions spread needs the forecasts")
+        return revisions.ratios(forecasts, errors, window)[-1]
     if option.kind == "joint":
         from riskreport.laws import joint
 

@@ -197,6 +197,7 @@ def build(
     given: ErrorQuantiles | None,
     members: list[Member],
     corrections: dict[float, np.ndarray] | None = None,
+    forecasts: np.ndarray | None = None,
 ) -> Margins:
     """Today's margins of the pool: each member's margins built as for a single law
     (:func:`riskreport.laws.uncertainty.build`), pooled per learned horizon with the
@@ -221,6 +222,7 @@ def build(
                     correction=None
                     if m.half_life is None or corrections is None
                     else corrections[m.half_life],
+                    forecasts=forecasts,
                 )
             )
     seen: set[tuple[type, str]] = set()

@@ -246,6 +246,7 @@ def build(
     choice: selection.Selection | None = None,
     spread: dynamics.SpreadOption = dynamics.CONSTANT,
     correction: np.ndarray | None = None,
+    forecasts: np.ndarray | None = None,
 ) -> Margins:
     """Fit every reported horizon's error distribution and form the outcome distributions.
 
@@ -258,7 +259,8 @@ def build(
     law is that of the bias-corrected forecast: fitted to the errors minus the correction,
     centred on the point forecast plus today's correction (its last row); the error laws
     returned are still relative to the point forecast (they carry today's correction).
-    Horizons with a given distribution are not corrected.
+    Horizons with a given distribution are not corrected. ``forecasts`` (origins x
+    horizons, the combined forecasts) are needed by the ``revisions`` spread only.
 
     Raises
     ------
@@ -271,12 +273,15 @@ def build(
     raw = errors
     given_h = given.by_horizon if given is not None else {}
     today_shift = np.zeros(errors.shape[1])
+    if forecasts is not None:
+        forecasts = forecasts[:, : errors.shape[1]]
     if correction is not None:
         correction = correction[:, : errors.shape[1]].copy()
         correction[:, [h for h in given_h if h < errors.shape[1]]] = 0.0
         errors = errors - correction
         today_shift = correction[-1]
-    today = dynamics.factors(errors, spread, cfg.uncertainty.window)  # per horizon
+        forecasts = None if forecasts is None else forecasts + correction
+    today = dynamics.factors(errors, spread, cfg.uncertainty.window, forecasts)  # per horizon
     errors, _ = dynamics.standardise(errors, spread)
     mask = window_mask(errors, cfg.uncertainty.window)
     columns = [errors[mask[:, h], h] for h in range(cfg.brief.horizons + 1)]

@@ -393,7 +393,7 @@ def load(path: str | Path) -> Config:
     spread = cast(
         SpreadChoice, uncertainty.choice("spread", SPREAD_CHOICES, DEFAULT_METHOD["spread"])
     )
-    if spread in ("ewma", "joint") and distribution not in (
+    if spread in ("ewma", "joint", "revisions") and distribution not in (
         "auto",
         "best-past-score",
         *EWMA_FAMILIES,

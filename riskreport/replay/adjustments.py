@@ -202,6 +202,7 @@ def sensitivity(
                 family=candidate.family,
                 spread=candidate.spread,
                 correction=result.correction(candidate),
+                forecasts=result.forecasts,
             )
         p = probabilities.band_probabilities(margins.outcome[h], band.lower, band.upper)
         log_score, coverage = _record_at(result.runs.get((label, h)))

@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from riskreport._typing import Family
-from riskreport.laws import bias, dynamics, joint
+from riskreport.laws import bias, dynamics, joint, revisions
 from riskreport.laws.dynamics import SpreadOption
 from riskreport.processes import parallel
 from riskreport.reading.config import Band
@@ -183,6 +183,9 @@ def replay(
         for s in spreads
         if s.kind == "joint"
     }
+    ratios.update(
+        {s: revisions.ratios(combined, errors, window) for s in spreads if s.kind == "revisions"}
+    )
 
     def replay_some(hs: list[int], pending: list[Pending] | None) -> dict[Key, HorizonReplay]:
         """The replays at horizons ``hs``; with ``pending``, cached origins are looked up
@@ -269,7 +272,7 @@ def _shared(
     at: np.ndarray | None = None
     if spread.kind == "ewma":
         at = scale[data.tests]
-    elif spread.kind == "joint":
+    elif spread.kind in ("joint", "revisions"):
         at = ratios[spread][data.tests, data.h]
     if at is not None:
         at = np.where(np.isfinite(at), at, 1.0)

@@ -56,6 +56,9 @@ class Replays:
         With ``centre = "auto"``, per half-life: the bias correction B(o, h) known at each
         origin row (the last row today's), which the corrected candidates add to the point
         forecast (:mod:`riskreport.laws.bias`); None otherwise.
+    forecasts
+        The combined forecasts replayed (origins x horizons), which the ``revisions``
+        spread needs for today's law.
     """
 
     runs: dict[tuple[str, int], HorizonReplay]
@@ -68,6 +71,7 @@ class Replays:
     baseline: str = "normal"
     pool: PoolWeights | None = None
     corrections: dict[float, np.ndarray] | None = None
+    forecasts: np.ndarray | None = None
 
     def members(self) -> list[Member]:
         """The pool's candidates with today's weights and windows (empty without a pool)."""
@@ -268,4 +272,6 @@ def replays(
             )
             runs[(recalibration.LABEL, run.h)] = mapped
         graded = recalibration.LABEL
-    return Replays(runs, candidates, chosen, graded, windows, baseline, weights, corrections)
+    return Replays(
+        runs, candidates, chosen, graded, windows, baseline, weights, corrections, combined
+    )

@@ -43,6 +43,8 @@ def _spread_words(spread: str) -> str:
         return "constant spread"
     if spread == "joint":
         return "spread estimated jointly across horizons"
+    if spread == "revisions":
+        return "spread implied by the forecasts' revisions"
     return f"spread following recent errors (smoothing {spread.split(' ')[1]})"
 
 
@@ -133,7 +135,7 @@ def sensitivity_caption(a: Assessment) -> str:
 
 def _is_moving(candidate: str) -> bool:
     """Whether a pool member's label names a spread that moves (EWMA or joint)."""
-    return any(f", {kind}" in candidate for kind in ("ewma", "joint"))
+    return any(f", {kind}" in candidate for kind in ("ewma", "joint", "revisions"))
 
 
 def _pooled_spread_sentence(a: Assessment) -> str:
@@ -146,8 +148,9 @@ def _pooled_spread_sentence(a: Assessment) -> str:
     )
     return (
         "The spread is pooled: a constant spread (weight "
-        f"{constant:.2f} today) with spreads that follow the size of recent errors and one "
-        f"estimated jointly across horizons ({1 - constant:.2f} together), each weighted by "
+        f"{constant:.2f} today) with spreads that follow the size of recent errors, one "
+        "estimated jointly across horizons and one implied by the forecasts' revisions "
+        f"({1 - constant:.2f} together), each weighted by "
         "the log score it earned on the rounds already scored at each past round and shrunk "
         "toward the constant spread while the record is short; a spread that moves gains "
         "weight only where the record shows the size of errors changing."
@@ -187,8 +190,17 @@ def _spread_sentence(a: Assessment, adj: Adjustments) -> str:
         if adj.spread_option == "constant":
             return "The spread of errors is taken as constant over the error window."
         return (
-            "A spread that follows recent errors and one estimated jointly across horizons "
-            "were tried, but the constant spread has the better record, so it is used."
+            "A spread that follows recent errors, one estimated jointly across horizons and "
+            "one implied by the forecasts' revisions were tried, but the constant spread "
+            "has the better record, so it is used."
+        )
+    if adj.spread == "revisions":
+        low, high = (min(adj.factors), max(adj.factors)) if adj.factors else (1.0, 1.0)
+        return (
+            "The spread of each horizon is the one the forecasts' own revisions imply: "
+            "under efficient forecasts an error is the sum of the revisions its forecast "
+            "goes through, and a revision is known one round after it is made, long before "
+            f"the outcome; today this scales the spreads by {low:.2f} to {high:.2f}."
         )
     if adj.spread == "joint":
         low, high = (min(adj.factors), max(adj.factors)) if adj.factors else (1.0, 1.0)
