@@ -299,6 +299,7 @@ def test_a_pooled_spread_is_named_a_pool_in_the_json_and_the_words(tmp_path: Pat
         "normal, ewma 0.9",
         "normal, ewma 0.95",
         "normal, joint",
+        "normal, revisions",
     ]
     assert sum(w.weight for w in pool.weights) == pytest.approx(1.0)
     record = json.loads(result.to_json())["adjustments"]
