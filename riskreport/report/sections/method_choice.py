@@ -152,8 +152,8 @@ def _pooled_spread_sentence(a: Assessment) -> str:
         "estimated jointly across horizons and one implied by the forecasts' revisions "
         f"({1 - constant:.2f} together), each weighted by "
         "the log score it earned on the rounds already scored at each past round and shrunk "
-        "toward the constant spread while the record is short; a spread that moves gains "
-        "weight only where the record shows the size of errors changing."
+        "toward the constant spread while the record is short; another spread gains weight "
+        "only where it scored better than the constant one on past rounds."
     )
 
 
