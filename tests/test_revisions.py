@@ -71,3 +71,15 @@ def test_a_ratio_never_looks_ahead(seed: int, origin: int) -> None:
     e2 = np.where(later_outcome & np.isfinite(errors), errors * 2.0, errors)
     after = revisions.ratios(f2, e2, 24)
     np.testing.assert_array_equal(before[: origin + 1], after[: origin + 1])
+
+
+def test_a_window_per_origin_is_each_origin_s_own_window() -> None:
+    # With the window chosen at each origin (window_choice = "auto"), row j's ratios are
+    # those of row j computed with that row's window: the law graded is the law published.
+    forecasts, errors = _ar1_record(90, 6, 0.8, 1.0, seed=5)
+    rows = np.random.default_rng(2).choice([0, 12, 40], size=forecasts.shape[0])
+    per_row = revisions.ratios(forecasts, errors, rows)
+    for j in range(forecasts.shape[0]):
+        np.testing.assert_allclose(
+            per_row[j], revisions.ratios(forecasts, errors, int(rows[j]))[j], rtol=1e-12
+        )

@@ -33,33 +33,35 @@ import numpy as np
 from riskreport.laws import dynamics
 
 
-def _window_mean_squares(values: np.ndarray, ends: np.ndarray, window: int) -> np.ndarray:
+def _window_mean_squares(
+    values: np.ndarray, ends: np.ndarray, window: int | np.ndarray
+) -> np.ndarray:
     """Per end index j (exclusive): the mean square of the known values among the last
-    ``window`` known ones before j (0: all); NaN where none is known. ``values`` is one
-    column ordered in time; counting known values only, as the error windows do."""
+    ``window`` known ones before j (0: all; one window per end index when an array); NaN
+    where none is known. ``values`` is one column ordered in time; counting known values
+    only, as the error windows do."""
     known = np.isfinite(values)
     squares = np.concatenate([[0.0], np.cumsum(np.where(known, values, 0.0) ** 2)])
     counts = np.concatenate([[0], np.cumsum(known)])
     ends = np.clip(ends, 0, values.size)
     upto = counts[ends]
-    if window > 0:
-        # the index after which exactly `window` known values remain before j
-        first = np.searchsorted(counts, np.maximum(upto - window, 0), side="right") - 1
-        first = np.maximum(first, 0)
-    else:
-        first = np.zeros_like(ends)
+    window = np.broadcast_to(np.asarray(window), ends.shape)
+    # the index after which exactly `window` known values remain before j (0: from the start)
+    skip = np.where(window > 0, np.maximum(upto - window, 0), 0)
+    first = np.maximum(np.searchsorted(counts, skip, side="right") - 1, 0)
     n = upto - counts[first]
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(n > 0, (squares[ends] - squares[first]) / np.maximum(n, 1), np.nan)
 
 
-def implied(forecasts: np.ndarray, errors: np.ndarray, window: int) -> np.ndarray:
+def implied(forecasts: np.ndarray, errors: np.ndarray, window: int | np.ndarray) -> np.ndarray:
     """Origins x horizons: the mean squared error implied at each origin row by the known
     nowcast errors and revisions (NaN before the base horizon or where nothing is known).
 
     At origin row j the base horizon b's errors count when their outcome is known
     (o + b <= j - 1) and the revision r(o, k) when both forecasts are (o + 1 <= j); each
-    term over its last ``window`` known values (0: all). ``forecasts`` and ``errors`` are
+    term over its last ``window`` known values (0: all; or one window per origin row, as
+    chosen by the replay). ``forecasts`` and ``errors`` are
     origins x horizons with consecutive origins (the current round the last row).
     """
     n, width = errors.shape
@@ -76,9 +78,10 @@ def implied(forecasts: np.ndarray, errors: np.ndarray, window: int) -> np.ndarra
     return out
 
 
-def ratios(forecasts: np.ndarray, errors: np.ndarray, window: int) -> np.ndarray:
+def ratios(forecasts: np.ndarray, errors: np.ndarray, window: int | np.ndarray) -> np.ndarray:
     """Origins x horizons: sqrt(implied mean square / the horizon's own mean square over its
-    last ``window`` known errors at that origin); 1 where either cannot be formed."""
+    last ``window`` known errors at that origin; ``window`` an int or one per origin row);
+    1 where either cannot be formed."""
     n, width = errors.shape
     rows = np.arange(n)
     implied_ms = implied(forecasts, errors, window)

@@ -64,7 +64,8 @@ class PoolWeights:
     current
         Today's weights (from every score known now).
     optimal
-        Today's unshrunk weights (the maximum of the past log score).
+        Today's unshrunk weights (the maximum of the past log score; with a nested pool,
+        each stage's unshrunk weights multiplied).
     prior_share
         Today's share lam of the first candidate's prior weight (with a nested pool, in
         the pool of the uncorrected laws).
@@ -149,18 +150,23 @@ def shrinkage(
     """The share lam of the first candidate in the weights of a pool shrunk by evidence.
 
     The larger of a prior worth EVIDENCE_PRIOR_OUTCOMES outcomes and the positive-part
-    Stein factor of the fitted gain, df / LR, where
+    Stein factor of the fitted gain, 2 df / LR, where
     LR = 2 n_eff (mean log score of the optimal pool - the first candidate's) is the
     likelihood-ratio statistic of the pool against the first candidate on the record's
-    independent outcomes and df the pool's free weights (candidates - 1). Where nothing changes, LR is about df (the optimiser's own fit of noise) and
-    the pool stays at the first candidate; where the record shows a large gain, the first
+    independent outcomes and df the pool's free weights (candidates - 1). Where nothing
+    changes, LR is about df (the optimiser's own fit of noise) and the pool stays at the
+    first candidate; a fitted gain pays out of sample only beyond twice that optimism
+    (Akaike's argument), hence 2 df. Where the record shows a large gain, the first
     candidate keeps little weight however long the record is. (Shrinking a fitted gain by
-    df over its chi-square statistic is the positive-part James-Stein rule in likelihood
-    form; our adaptation, no source.)
+    its expected optimism over its chi-square statistic is the positive-part James-Stein
+    rule in likelihood form; our adaptation, no source.)
     """
     if effective <= 0:
         return 1.0
     prior = EVIDENCE_PRIOR_OUTCOMES / (EVIDENCE_PRIOR_OUTCOMES + effective)
+    # Both scores on the same outcomes: those where every candidate's density is finite.
+    finite = np.all(np.isfinite(log_density), axis=0)
+    log_density, column_weight = log_density[:, finite], column_weight[finite]
     gain = mean_log_score(log_density, column_weight, w) - mean_log_score(
         log_density, column_weight, np.eye(w.size)[0]
     )

@@ -184,7 +184,11 @@ def replay(
         if s.kind == "joint"
     }
     ratios.update(
-        {s: revisions.ratios(combined, errors, window) for s in spreads if s.kind == "revisions"}
+        {
+            s: revisions.ratios(combined, errors, _rows_or(per_row[s], window, errors.shape[0]))
+            for s in spreads
+            if s.kind == "revisions"
+        }
     )
 
     def replay_some(hs: list[int], pending: list[Pending] | None) -> dict[Key, HorizonReplay]:
