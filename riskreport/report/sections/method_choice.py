@@ -194,22 +194,18 @@ def _spread_sentence(a: Assessment, adj: Adjustments) -> str:
             "one implied by the forecasts' revisions were tried, but the constant spread "
             "has the better record, so it is used."
         )
-    if adj.spread == "revisions":
+    rescaled = {
+        "revisions": "The spread of each horizon is the one the forecasts' own revisions "
+        "imply: under efficient forecasts an error is the sum of the revisions its forecast "
+        "goes through, and a revision is known one round after it is made, long before the "
+        "outcome",
+        "joint": "The spread of each horizon is estimated jointly with the shorter horizons: "
+        "the recent short-horizon errors, whose outcomes are already known, inform the "
+        "spread of the longer horizons (maximum likelihood under joint normality)",
+    }
+    if adj.spread in rescaled:
         low, high = (min(adj.factors), max(adj.factors)) if adj.factors else (1.0, 1.0)
-        return (
-            "The spread of each horizon is the one the forecasts' own revisions imply: "
-            "under efficient forecasts an error is the sum of the revisions its forecast "
-            "goes through, and a revision is known one round after it is made, long before "
-            f"the outcome; today this scales the spreads by {low:.2f} to {high:.2f}."
-        )
-    if adj.spread == "joint":
-        low, high = (min(adj.factors), max(adj.factors)) if adj.factors else (1.0, 1.0)
-        return (
-            "The spread of each horizon is estimated jointly with the shorter horizons: "
-            "the recent short-horizon errors, whose outcomes are already known, inform the "
-            "spread of the longer horizons (maximum likelihood under joint normality); "
-            f"today this scales the spreads by {low:.2f} to {high:.2f}."
-        )
+        return f"{rescaled[adj.spread]}; today this scales the spreads by {low:.2f} to {high:.2f}."
     lam = adj.spread.split(" ")[1]
     return (
         "The spread follows the size of recent errors: past errors are divided by the "
