@@ -38,7 +38,7 @@ def _config(where: Path) -> Path:
     text = re.sub(r"(?m)^horizons = .*$", "horizons = 14", text)
     text = re.sub(r"(?m)^policy_horizon = .*$", "policy_horizon = 12", text)
     text = re.sub(r"(?m)^density_horizons = .*$", "density_horizons = [6, 12]", text)
-    text += '\n[uncertainty]\nspread = "constant"\nbootstrap_replicates = 50\nsimulations = 1000\n'
+    text += '\n[uncertainty]\nspread = "constant"\ncentre = "forecast"\nbootstrap_replicates = 50\nsimulations = 1000\n'
     config.write_text(text, "utf-8")
     return config
 

@@ -64,7 +64,7 @@ def _config(folder_path: Path) -> Path:
     text = re.sub(r"(?m)^directory = .*$", 'directory = "out"', text)
     text = re.sub(r"(?m)^formats = .*$", 'formats = ["json", "csv"]', text)
     # The plain method and fewer draws: how the batch stops is what is tested.
-    text += '\n[uncertainty]\nspread = "constant"\nbootstrap_replicates = 100\nsimulations = 2000\n'
+    text += '\n[uncertainty]\nspread = "constant"\ncentre = "forecast"\nbootstrap_replicates = 100\nsimulations = 2000\n'
     config.write_text(text, "utf-8")
     return config
 
