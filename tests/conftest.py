@@ -52,6 +52,9 @@ class Case:
         return self.config_path
 
 
+# The small case pins the centre on the forecast: most tests built on it test files,
+# commands and pages, not the method; the default centre (a pooled bias correction) is
+# tested in tests/test_bias.py, tests/test_replay_cache.py and on the demo.
 CONFIG = """
 [brief]
 title = "Test brief"
@@ -75,6 +78,7 @@ method = "equal"
 [uncertainty]
 distribution = "normal"
 window = 0
+centre = "forecast"
 bootstrap_replicates = 100
 simulations = 2000
 

@@ -70,7 +70,10 @@ AUTO = 'distribution = "auto"\nspread = "auto"\nwindow_choice = "auto"\nrecalibr
 
 
 def _auto(case: Case) -> Path:
-    case.config = case.config.replace('distribution = "normal"\n', AUTO)
+    # Every adaptive path the cache must get right, the bias-corrected replays included.
+    case.config = case.config.replace('distribution = "normal"\n', AUTO).replace(
+        'centre = "forecast"\n', 'centre = "auto"\n'
+    )
     return case.write()
 
 

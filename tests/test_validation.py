@@ -135,7 +135,7 @@ def test_a_window_too_short_for_a_fit_names_the_window(
 ) -> None:
     # Regression: window = 1 was reported as "forecasts.csv, column 'origin': horizon 0
     # has no track record" although the file holds years of it; the cause is the key.
-    case.config = case.config.replace("window = 0\nbootstrap", "window = 1\nbootstrap")
+    case.config = case.config.replace("window = 0\n", "window = 1\n")
     _fails(run, case, "config.toml", "[uncertainty] window", "leaves 1 known error")
 
 
