@@ -284,7 +284,7 @@ def _assess(cfg: Config, cache: ReplayCache | None = None) -> Assessment:
             forecasts=combo.combined,
         )
     correction_today = replayed.applied_correction()
-    if cfg.uncertainty.centre == "auto":  # what the learned correction does today, if any
+    if cfg.uncertainty.centre != "estimated":  # the record's bias and what the centre does
         shown = cfg.brief.horizons + 1
         uncertainty.warn_bias(
             cfg,

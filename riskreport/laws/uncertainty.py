@@ -270,7 +270,6 @@ def build(
     """
     mode = None if cfg.uncertainty.centre == "estimated" else 0.0
     errors = errors[:, : cfg.brief.horizons + 1]
-    raw = errors
     given_h = given.by_horizon if given is not None else {}
     today_shift = np.zeros(errors.shape[1])
     if forecasts is not None:
@@ -365,8 +364,6 @@ def build(
         )
     if mode is None:
         _warn_centre(cfg, fits, given_h)
-    elif cfg.uncertainty.centre == "forecast":
-        warn_bias(cfg, raw, np.zeros(raw.shape[1]), given_h)
     if cfg.uncertainty.monotone:
         fits = _monotone(fits, set(given_h) & set(range(cfg.brief.horizons + 1)))
     shown_given = sorted(h for h in given_h if h <= cfg.brief.horizons)
